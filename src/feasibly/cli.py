@@ -1,0 +1,315 @@
+"""The ``feasibly`` command: ``feasibly assess`` screens a reaction, ``feasibly species`` searches.
+
+Errors print a one-paragraph message and exit non-zero; no traceback reaches the user.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import math
+import sys
+from collections.abc import Sequence
+
+import numpy as np
+
+from .__about__ import __version__
+from .assessment import Assessment, assess
+from .errors import FeasiblyError, UnitError
+from .library import Library, default_library
+from .units import to_pascal
+
+__all__ = ["main"]
+
+EXIT_OK = 0
+EXIT_INPUT = 2  # the user's input or data could not be used (also argparse's own code)
+EXIT_INTERNAL = 3  # a bug in feasibly: the message asks for a report
+
+
+def _quantity_text(tokens: Sequence[str], what: str) -> str | tuple[list[float], str]:
+    """Turn ['800', 'degC'] or ['800degC'] or ['700', '900', 'K'] into something units.py reads."""
+    if len(tokens) == 1:
+        return tokens[0]
+    *numbers, unit = tokens
+    try:
+        values = [float(x) for x in numbers]
+    except ValueError:
+        raise UnitError(" ".join(tokens), what, "write numbers followed by one unit") from None
+    return values, unit
+
+
+def _pressure_pairs(items: list[list[str]] | None, what: str) -> dict[str, str]:
+    out: dict[str, str] = {}
+    for tokens in items or []:
+        text = " ".join(tokens)
+        if "=" not in text:
+            raise UnitError(text, what, "write SPECIES=VALUE UNIT, e.g. CO2=0.3 bar")
+        name, value = text.split("=", 1)
+        out[name.strip()] = value.strip()
+    return out
+
+
+def _library(files: list[str] | None) -> Library:
+    lib = default_library()
+    for path in files or []:
+        lib = lib.with_species(Library.from_file(path))
+    return lib
+
+
+def _fmt(x: float, digits: int = 2) -> str:
+    if not math.isfinite(x):
+        return "—"
+    return f"{x:,.{digits}f}"
+
+
+def _print_assessment(a: Assessment) -> None:
+    s = a.standard
+    print(f"Reaction   {a.reaction.equation(pretty=True)}")
+    if a.reaction.equation() != " ".join(a.reaction.text.split()):
+        print(f"           (entered as: {a.reaction.text})")
+    lo, hi = a.reaction.valid_range()
+    p_label = "1 bar" if s.standard_pressure == 1e5 else "1 atm"
+    print(
+        f"Data       feasibly library {a.library_version} (sha256 {a.library_hash[:12]}…); "
+        f"valid {lo:g}–{hi:g} K; standard pressure {p_label}"
+    )
+    header = ["T / K", "T / °C", "ΔrH° kJ/mol", "ΔrS° J/(mol·K)", "ΔrG° kJ/mol", "log10 K"]
+    if a.dG_actual is not None:
+        header.append("ΔrG kJ/mol")
+    header.append("ΔrG° < 0?")
+    rows = []
+    for i in range(s.T.size):
+        row = [
+            _fmt(s.T[i]),
+            _fmt(s.T[i] - 273.15),
+            _fmt(s.dH[i] / 1000),
+            _fmt(s.dS[i]),
+            _fmt(s.dG[i] / 1000),
+            _fmt(s.log10_K[i], 3),
+        ]
+        if a.dG_actual is not None:
+            row.append(_fmt(a.dG_actual[i] / 1000))
+        row.append("yes" if s.dG[i] < 0 else "no")
+        rows.append(row)
+    widths = [max(len(h), *(len(r[j]) for r in rows)) for j, h in enumerate(header)]
+    print()
+    print("  ".join(h.rjust(w) for h, w in zip(header, widths, strict=True)))
+    for r in rows:
+        print("  ".join(c.rjust(w) for c, w in zip(r, widths, strict=True)))
+    print()
+    if a.crossover_K is not None:
+        if a.crossover_K:
+            joined = ", ".join(f"{t:.1f} K ({t - 273.15:.1f} °C)" for t in a.crossover_K)
+            print(f"ΔrG° = 0 at {joined}")
+        else:
+            print("ΔrG° does not change sign in this range.")
+        if a.crossover_298_estimate_K is not None:
+            print(
+                f"  (the 298.15 K shortcut ΔrH°/ΔrS° would say {a.crossover_298_estimate_K:.1f} K)"
+            )
+    if a.dG_actual is not None:
+        given = ", ".join(f"{k} {v / 1e5:g} bar" for k, v in a.partial_pressures_Pa.items())
+        print(f"ΔrG at partial pressures: {given}; ideal gases, condensed phases pure.")
+        if a.assumed_standard:
+            print(
+                f"  At the standard pressure (no partial pressure given): "
+                f"{', '.join(a.assumed_standard)}"
+            )
+    for term, T, before, after in a.phase_changes:
+        print(f"Phase change: {term} goes from {before} to {after} at {T:.1f} K.")
+    for used, T, stable in a.metastable:
+        print(
+            f"Note: {used} is metastable at {T:.1f} K ({stable} has lower G°); "
+            "it is used because the equation names that phase."
+        )
+    if a.cautions:
+        print()
+        print("CAUTION")
+        for c in a.cautions:
+            print(f"  - {c.message}")
+    for note in a.notes:
+        print()
+        print(note)
+
+
+def _cmd_assess(args: argparse.Namespace) -> int:
+    lib = _library(args.species_file)
+    pressures = _pressure_pairs(args.p, "partial pressure")
+    if args.y:
+        if args.P is None:
+            raise UnitError(
+                " ".join(args.y[0]), "mole fraction", "give the total pressure with --P"
+            )
+        total = float(np.squeeze(to_pascal(_quantity_text(args.P, "pressure"))))
+        for name, value in _pressure_pairs(args.y, "mole fraction").items():
+            try:
+                y = float(value)
+            except ValueError:
+                raise UnitError(value, "mole fraction", "write a number between 0 and 1") from None
+            if not 0 < y <= 1:
+                raise UnitError(value, "mole fraction", "must be in (0, 1]")
+            pressures[name] = f"{y * total} Pa"
+    elif args.P is not None:
+        raise UnitError(
+            " ".join(args.P),
+            "total pressure",
+            "say how it is shared: --y SPECIES=FRACTION for each gas, or give "
+            "partial pressures with --p",
+        )
+    T = _quantity_text(args.T, "temperature") if args.T else None
+    T_range = None
+    if args.T_range:
+        tokens = args.T_range
+        if len(tokens) == 3:
+            T_range = ((float(tokens[0]), tokens[2]), (float(tokens[1]), tokens[2]))
+        elif len(tokens) == 2:
+            T_range = (tokens[0], tokens[1])
+        else:
+            raise UnitError(" ".join(tokens), "temperature range", "write LOW HIGH UNIT")
+    if T is None and T_range is None:
+        raise UnitError(None, "temperature", "give --T VALUE UNIT or --T-range LOW HIGH UNIT")
+    result = assess(
+        args.equation,
+        T=T,
+        T_range=T_range,
+        points=args.points,
+        partial_pressures=pressures,
+        standard_pressure=args.standard_pressure,
+        library=lib,
+        balance=args.balance,
+    )
+    if args.json:
+        print(json.dumps(result.to_dict(), indent=2, ensure_ascii=False))
+    else:
+        _print_assessment(result)
+    return EXIT_OK
+
+
+def _cmd_species(args: argparse.Namespace) -> int:
+    lib = _library(args.species_file)
+    hits = lib.search(args.query, limit=args.limit)
+    if args.json:
+        print(
+            json.dumps(
+                [
+                    sp.provenance()
+                    | {
+                        "formula": sp.formula,
+                        "names": list(sp.names),
+                        "cas": sp.cas,
+                        "phase": sp.phase,
+                    }
+                    for sp in hits
+                ],
+                indent=2,
+                ensure_ascii=False,
+            )
+        )
+        return EXIT_OK
+    if not hits:
+        near = lib.suggest(args.query)
+        print(
+            f"No species matches {args.query!r}." + (f" Close: {', '.join(near)}." if near else "")
+        )
+        return EXIT_INPUT
+    for sp in hits:
+        name = sp.names[0] if sp.names else ""
+        print(
+            f"{sp.id:<26} {name[:28]:<28} CAS {sp.cas or '—':<12} "
+            f"{sp.T_range[0]:g}–{sp.T_range[1]:g} K"
+        )
+        print(
+            f"    ΔfH°(298.15) = {sp.dHf.value / 1000:.3f} ± {sp.dHf.u / 1000:.3f} kJ/mol "
+            f"[{sp.dHf.source}{', u assumed' if sp.dHf.assumed else ''}]   "
+            f"S°(298.15) = {sp.S298.value:.3f} ± {sp.S298.u:.3f} J/(mol·K) "
+            f"[{sp.S298.source}{', u assumed' if sp.S298.assumed else ''}]"
+        )
+        if args.details:
+            print("    " + json.dumps(sp.provenance(), ensure_ascii=False))
+    return EXIT_OK
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="feasibly",
+        description="Thermodynamic feasibility of a reaction at your temperature and pressure.",
+    )
+    parser.add_argument("--version", action="version", version=f"feasibly {__version__}")
+    sub = parser.add_subparsers(dest="command", required=True)
+
+    a = sub.add_parser("assess", help="screen one reaction over temperature")
+    a.add_argument("equation", help='e.g. "MgCO3 -> MgO + CO2" (phases optional: (g), (l), (s))')
+    a.add_argument("--T", nargs="+", metavar="T", help="temperature(s) and unit, e.g. 800 degC")
+    a.add_argument(
+        "--T-range",
+        nargs="+",
+        metavar="T",
+        dest="T_range",
+        help="LOW HIGH UNIT, e.g. 300 1500 K; also searches for ΔrG° = 0",
+    )
+    a.add_argument("--points", type=int, default=12, help="temperatures in --T-range (default 12)")
+    a.add_argument(
+        "--p",
+        action="append",
+        nargs="+",
+        metavar="SPECIES=P",
+        help="partial pressure of a gas, e.g. --p CO2=0.3 bar (repeat per gas)",
+    )
+    a.add_argument("--P", nargs="+", metavar="P", help="total pressure for --y, e.g. 5 bar")
+    a.add_argument(
+        "--y",
+        action="append",
+        nargs="+",
+        metavar="SPECIES=Y",
+        help="mole fraction of a gas at total pressure --P (repeat per gas)",
+    )
+    a.add_argument(
+        "--standard-pressure",
+        default="1 bar",
+        choices=["1 bar", "1 atm"],
+        help="standard-state pressure of the gases (default 1 bar)",
+    )
+    a.add_argument(
+        "--balance",
+        action="store_true",
+        help="find the coefficients from the species (sides as written)",
+    )
+    a.add_argument(
+        "--species-file",
+        action="append",
+        metavar="PATH",
+        help="add your own species (JSON or TOML, schema in data/SCHEMA.md)",
+    )
+    a.add_argument("--json", action="store_true", help="print JSON instead of a table")
+    a.set_defaults(run=_cmd_assess)
+
+    s = sub.add_parser("species", help="search the species data library")
+    s.add_argument("query", help="formula, name or CAS number")
+    s.add_argument("--limit", type=int, default=12)
+    s.add_argument("--details", action="store_true", help="show every value's source")
+    s.add_argument("--species-file", action="append", metavar="PATH")
+    s.add_argument("--json", action="store_true")
+    s.set_defaults(run=_cmd_species)
+    return parser
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    """Entry point of the ``feasibly`` command; returns the exit code."""
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    try:
+        return int(args.run(args))
+    except FeasiblyError as exc:
+        print(f"feasibly: {exc}", file=sys.stderr)
+        return EXIT_INPUT
+    except Exception as exc:
+        print(
+            f"feasibly: internal error ({type(exc).__name__}: {exc}). This is a bug in "
+            "feasibly; please report it with the command you ran.",
+            file=sys.stderr,
+        )
+        return EXIT_INTERNAL
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

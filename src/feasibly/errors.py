@@ -1,0 +1,143 @@
+"""The exceptions feasibly raises.
+
+Every error a user can cause is a :class:`FeasiblyError`; each concrete error also inherits the
+nearest built-in exception, so ``except KeyError`` and ``except ValueError`` keep working. Errors
+carry the offending value and what was expected as attributes, and their message says what to do.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+__all__ = [
+    "AmbiguousBalance",
+    "DataFileError",
+    "FeasiblyError",
+    "InvalidTemperature",
+    "InvalidUncertainty",
+    "OutsideDataRange",
+    "ReactionSyntaxError",
+    "UnbalancedReaction",
+    "UnitError",
+    "UnknownSpecies",
+]
+
+
+class FeasiblyError(Exception):
+    """Base class of every error feasibly raises on bad input or bad data."""
+
+
+class UnknownSpecies(FeasiblyError, KeyError):
+    """A species query matched nothing in the library."""
+
+    def __init__(self, query: str, suggestions: Sequence[str] = (), detail: str = "") -> None:
+        self.query = query
+        self.suggestions = list(suggestions)
+        msg = f"No species {query!r} in the data library."
+        if detail:
+            msg += f" {detail}"
+        if self.suggestions:
+            msg += " Did you mean: " + ", ".join(self.suggestions) + "?"
+        else:
+            msg += " Search with `feasibly species TEXT`, or add your own entry in a species file."
+        super().__init__(msg)
+
+    def __str__(self) -> str:  # KeyError would repr() the message otherwise
+        return str(self.args[0])
+
+
+class ReactionSyntaxError(FeasiblyError, ValueError):
+    """Equation text that cannot be read as a reaction."""
+
+    def __init__(self, text: str, problem: str) -> None:
+        self.text = text
+        self.problem = problem
+        super().__init__(f"Cannot read {text!r}: {problem}")
+
+
+class UnbalancedReaction(FeasiblyError, ValueError):
+    """Elements or charge do not balance; ``imbalance`` maps element → products − reactants."""
+
+    def __init__(self, equation: str, imbalance: dict[str, float]) -> None:
+        self.equation = equation
+        self.imbalance = dict(imbalance)
+        parts = []
+        for element, excess in imbalance.items():
+            what = "charge" if element == "charge" else element
+            side = "products" if excess > 0 else "reactants"
+            parts.append(f"{what}: {side} have {_fmt(abs(excess))} more")
+        msg = (
+            f"The equation {equation!r} is not balanced ({'; '.join(parts)}). "
+            "Fix the coefficients, or let feasibly balance it (balance=True, or --balance)."
+        )
+        super().__init__(msg)
+
+
+class AmbiguousBalance(FeasiblyError, ValueError):
+    """Auto-balancing has no solution, or more than one independent one."""
+
+    def __init__(self, equation: str, problem: str) -> None:
+        self.equation = equation
+        self.problem = problem
+        super().__init__(f"Cannot balance {equation!r}: {problem}")
+
+
+class OutsideDataRange(FeasiblyError, ValueError):
+    """A temperature lies outside the range in which a species' data is valid."""
+
+    def __init__(self, species: str, T_K: float, T_min: float, T_max: float) -> None:
+        self.species = species
+        self.T_K = T_K
+        self.T_min = T_min
+        self.T_max = T_max
+        msg = (
+            f"{species} has data from {_fmt(T_min)} K to {_fmt(T_max)} K; "
+            f"{_fmt(T_K)} K is outside. "
+            "Choose a temperature inside that range, give the species without a phase so that the "
+            "stable phase is used, or supply heat-capacity data for that range in a species file."
+        )
+        super().__init__(msg)
+
+
+class InvalidTemperature(FeasiblyError, ValueError):
+    """Zero, negative, non-finite or unit-less temperatures."""
+
+    def __init__(self, value: object, problem: str) -> None:
+        self.value = value
+        self.problem = problem
+        super().__init__(f"Temperature {value!r}: {problem}")
+
+
+class UnitError(FeasiblyError, ValueError):
+    """A quantity given without a unit where one is needed, or in a unit of the wrong kind."""
+
+    def __init__(self, value: object, expected: str, problem: str = "") -> None:
+        self.value = value
+        self.expected = expected
+        msg = f"{value!r} is not a {expected}"
+        msg += f": {problem}" if problem else "."
+        super().__init__(msg)
+
+
+class InvalidUncertainty(FeasiblyError, ValueError):
+    """Negative, NaN or missing uncertainties and unusable coverage statements."""
+
+
+class DataFileError(FeasiblyError, ValueError):
+    """A species data file that cannot be used; ``problems`` lists every problem found."""
+
+    def __init__(self, path: str, problems: Sequence[str]) -> None:
+        self.path = path
+        self.problems = list(problems)
+        shown = self.problems[:50]
+        msg = f"{path}: {len(self.problems)} problem(s) in the species data:\n  " + "\n  ".join(
+            shown
+        )
+        if len(self.problems) > len(shown):
+            msg += f"\n  … and {len(self.problems) - len(shown)} more"
+        super().__init__(msg)
+
+
+def _fmt(x: float) -> str:
+    """Short human form of a number: 2 not 2.0, 0.5 stays 0.5."""
+    return f"{x:.6g}"

@@ -1,0 +1,476 @@
+"""Reaction equations: reading the text, checking and finding the balance, and choosing phases.
+
+Equation text: terms separated by ``+``, sides by one of ``->``, ``=``, ``<=>``, ``→``, ``⇌``;
+a coefficient before each formula (integer, decimal or fraction such as ``1/2``); an optional
+phase label in parentheses after the formula: ``(g)``, ``(l)``, ``(s)`` or ``(cr)``, ``(aq)``, and
+optionally a form after a comma (``(cr,calcite)``). A species given without a phase takes the
+stable phase at each temperature (lowest G°); an explicit phase is respected.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from collections.abc import Sequence
+from dataclasses import dataclass
+from fractions import Fraction
+from functools import reduce
+
+import numpy as np
+
+from .errors import (
+    AmbiguousBalance,
+    FeasiblyError,
+    OutsideDataRange,
+    ReactionSyntaxError,
+    UnbalancedReaction,
+    UnknownSpecies,
+)
+from .formula import parse_formula, pretty_formula
+from .library import Library, default_library
+from .species import Species
+
+__all__ = ["Reaction", "ReactionTerm", "parse_equation"]
+
+_ARROW = re.compile(r"\s*(<=>|<->|⇌|->|→|=>|=)\s*")
+_PHASE_WORDS = {
+    "g": "g",
+    "gas": "g",
+    "l": "l",
+    "liq": "l",
+    "liquid": "l",
+    "s": "cr",
+    "cr": "cr",
+    "c": "cr",
+    "solid": "cr",
+    "aq": "aq",
+}
+_COEF = re.compile(r"^\s*(\d+/\d+|\d*\.\d+|\d+)(?:\s+|(?=[A-Z(\[]))")
+_LABEL = re.compile(r"\(([a-z][a-z0-9\-]*(?:\s*,\s*[A-Za-z0-9][A-Za-z0-9\-]*)?)\)$")
+# Balance tolerance on element counts: exact for rational coefficients; 1e-9 absorbs decimal
+# element counts of non-stoichiometric phases.
+_BALANCE_TOL = 1e-9
+
+
+@dataclass(frozen=True)
+class ReactionTerm:
+    """One species of an equation: signed coefficient (products > 0) and its candidate entries."""
+
+    coefficient: Fraction
+    text: str
+    formula: str
+    phase: str | None
+    form: str | None
+    candidates: tuple[Species, ...]
+
+    @property
+    def nu(self) -> float:
+        """Stoichiometric number: negative for reactants, positive for products."""
+        return float(self.coefficient)
+
+    def label(self) -> str:
+        """Formula with its phase label as written in the balanced equation."""
+        if self.phase is None and self.form is None:
+            return self.formula
+        inside = ",".join(x for x in (self.phase, self.form) if x)
+        return f"{self.formula}({inside})"
+
+
+def _split_terms(side: str, text: str) -> list[str]:
+    pieces = [p for p in re.split(r"\s+\+\s+", side.strip())]
+    out: list[str] = []
+    for piece in pieces:
+        # "H2+O2" with no spaces: a '+' followed by a formula start (or a coefficient and a
+        # formula) separates terms; a trailing '+' is a charge.
+        out.extend(re.split(r"(?<=[\w)\]])\+(?=\s*(?:\d*\.?\d+(?:/\d+)?\s*)?[A-Z(\[])", piece))
+    terms = [t.strip() for t in out]
+    if any(not t or t.startswith("+") for t in terms):
+        raise ReactionSyntaxError(text, "an empty term (two '+' in a row, or '+' at an end)")
+    return terms
+
+
+def parse_equation(text: str) -> list[tuple[Fraction, str, str | None, str | None, int]]:
+    """Split equation text into (coefficient, formula, phase, form, side) with side −1 or +1.
+
+    >>> parse_equation("CaCO3(s) -> CaO(s) + CO2(g)")[2]
+    (Fraction(1, 1), 'CO2', 'g', None, 1)
+    """
+    if not isinstance(text, str) or not text.strip():
+        raise ReactionSyntaxError(str(text), "the equation is empty")
+    parts = _ARROW.split(text.strip())
+    if len(parts) != 3:
+        raise ReactionSyntaxError(
+            text, "write exactly one arrow between reactants and products (->, =, <=> or →)"
+        )
+    left, _, right = parts
+    if not left.strip() or not right.strip():
+        raise ReactionSyntaxError(text, "both sides of the arrow need at least one species")
+    out = []
+    for side_text, sign in ((left, -1), (right, 1)):
+        for term in _split_terms(side_text, text):
+            coef = Fraction(1)
+            m = _COEF.match(term)
+            if m:
+                try:
+                    coef = Fraction(m.group(1))
+                except (ValueError, ZeroDivisionError):
+                    raise ReactionSyntaxError(text, f"bad coefficient {m.group(1)!r}") from None
+                term = term[m.end() :].strip()
+            if coef <= 0:
+                raise ReactionSyntaxError(text, f"coefficient {coef} of {term!r} must be positive")
+            phase = form = None
+            lab = _LABEL.search(term)
+            if lab:
+                bits = [b.strip() for b in lab.group(1).split(",")]
+                if bits[0] in _PHASE_WORDS:
+                    phase = _PHASE_WORDS[bits[0]]
+                    form = bits[1] if len(bits) > 1 else None
+                elif len(bits) == 1:
+                    form = bits[0]
+                else:
+                    raise ReactionSyntaxError(
+                        text, f"phase label ({lab.group(1)}) is not one of g, l, s, cr, aq"
+                    )
+                term = term[: lab.start()].strip()
+            if not term:
+                raise ReactionSyntaxError(text, "a coefficient or phase label has no formula")
+            out.append((coef, term, phase, form, sign))
+    return out
+
+
+def _resolve(
+    library: Library, formula: str, phase: str | None, form: str | None, text: str
+) -> tuple[str, tuple[Species, ...]]:
+    """Library entries a term may use, and the library's own formula text for it."""
+    hits = library.by_formula(formula)
+    if not hits:
+        found = library.find(formula)
+        formulas = sorted({sp.formula for sp in found})
+        if len(formulas) > 1:
+            names = [
+                f"{f} ({', '.join(library.by_formula(f)[0].names[:1]) or 'unnamed'})"
+                for f in formulas
+            ]
+            raise UnknownSpecies(
+                formula,
+                names,
+                detail="Several species share this composition; write the one you mean.",
+            )
+        if formulas:
+            hits = library.by_formula(formulas[0])
+    if not hits:
+        try:
+            parse_formula(formula)
+        except FeasiblyError as exc:
+            raise UnknownSpecies(formula, library.suggest(formula), detail=str(exc)) from None
+        raise UnknownSpecies(formula, library.suggest(formula))
+    chosen = [
+        sp
+        for sp in hits
+        if (phase is None or sp.phase == phase) and (form is None or sp.form == form)
+    ]
+    if not chosen:
+        have = ", ".join(sp.id for sp in hits)
+        want = ",".join(x for x in (phase, form) if x)
+        raise UnknownSpecies(
+            f"{formula}({want})", [sp.id for sp in hits], detail=f"The library has {have}."
+        )
+    return hits[0].formula, tuple(chosen)
+
+
+def _as_fraction(x: float) -> Fraction:
+    return Fraction(x).limit_denominator(10**6)
+
+
+def _null_space(matrix: list[list[Fraction]]) -> list[list[Fraction]]:
+    """Basis of the rational null space of a small matrix (Gauss–Jordan, exact)."""
+    rows = [row[:] for row in matrix]
+    n = len(rows[0]) if rows else 0
+    pivots: list[int] = []
+    r = 0
+    for c in range(n):
+        p = next((i for i in range(r, len(rows)) if rows[i][c] != 0), None)
+        if p is None:
+            continue
+        rows[r], rows[p] = rows[p], rows[r]
+        piv = rows[r][c]
+        rows[r] = [v / piv for v in rows[r]]
+        for i in range(len(rows)):
+            if i != r and rows[i][c] != 0:
+                factor = rows[i][c]
+                rows[i] = [a - factor * b for a, b in zip(rows[i], rows[r], strict=True)]
+        pivots.append(c)
+        r += 1
+        if r == len(rows):
+            break
+    free = [c for c in range(n) if c not in pivots]
+    basis = []
+    for f in free:
+        v = [Fraction(0)] * n
+        v[f] = Fraction(1)
+        for i, pc in enumerate(pivots):
+            v[pc] = -rows[i][f]
+        basis.append(v)
+    return basis
+
+
+class Reaction:
+    """A balanced reaction over library entries.
+
+    >>> rxn = Reaction.parse("CaCO3 -> CaO + CO2")
+    >>> str(rxn)
+    'CaCO3 -> CaO + CO2'
+    >>> str(Reaction.parse("C3H8 + O2 -> CO2 + H2O", balance=True))
+    'C3H8 + 5 O2 -> 3 CO2 + 4 H2O'
+    """
+
+    def __init__(self, terms: Sequence[ReactionTerm], text: str, library: Library) -> None:
+        self.terms = tuple(terms)
+        self.text = text
+        self.library = library
+
+    # --- construction -------------------------------------------------------------------------
+    @classmethod
+    def parse(cls, text: str, library: Library | None = None, balance: bool = False) -> Reaction:
+        """Read equation text; check its balance, or find it when ``balance`` is true."""
+        library = library or default_library()
+        raw = parse_equation(text)
+        terms = []
+        for coef, formula, phase, form, sign in raw:
+            lib_formula, candidates = _resolve(library, formula, phase, form, text)
+            terms.append(ReactionTerm(coef * sign, formula, lib_formula, phase, form, candidates))
+        merged: dict[tuple[str, str | None, str | None], ReactionTerm] = {}
+        for t in terms:
+            key = (t.formula, t.phase, t.form)
+            if key in merged:
+                raise ReactionSyntaxError(
+                    text,
+                    f"{t.label()} appears more than once; write it once with its net coefficient",
+                )
+            merged[key] = t
+        rxn = cls(terms, text, library)
+        if balance:
+            return rxn.balanced()
+        imbalance = rxn.imbalance()
+        if imbalance:
+            raise UnbalancedReaction(text, imbalance)
+        return rxn
+
+    def composition(self) -> tuple[list[str], np.ndarray]:
+        """Element (and 'charge') names and the matrix of counts, one column per term."""
+        elements: list[str] = []
+        for t in self.terms:
+            for el in t.candidates[0].elements:
+                if el not in elements:
+                    elements.append(el)
+        has_charge = any(t.candidates[0].charge for t in self.terms)
+        rows = [*elements, "charge"] if has_charge else elements
+        matrix = np.zeros((len(rows), len(self.terms)))
+        for j, t in enumerate(self.terms):
+            sp = t.candidates[0]
+            for i, el in enumerate(elements):
+                matrix[i, j] = sp.elements.get(el, 0.0)
+            if has_charge:
+                matrix[-1, j] = sp.charge
+        return rows, matrix
+
+    def imbalance(self) -> dict[str, float]:
+        """Element (and charge) excess of products over reactants; empty when balanced."""
+        rows, matrix = self.composition()
+        nu = np.array([t.nu for t in self.terms])
+        excess = matrix @ nu
+        return {el: float(x) for el, x in zip(rows, excess, strict=True) if abs(x) > _BALANCE_TOL}
+
+    def element_table(self) -> list[tuple[str, float, float]]:
+        """Per element: (element, atoms on the reactant side, atoms on the product side)."""
+        rows, matrix = self.composition()
+        nu = np.array([t.nu for t in self.terms])
+        left = matrix @ np.where(nu < 0, -nu, 0.0)
+        right = matrix @ np.where(nu > 0, nu, 0.0)
+        return [(el, float(a), float(b)) for el, a, b in zip(rows, left, right, strict=True)]
+
+    def balanced(self) -> Reaction:
+        """The same species with the smallest whole-number coefficients that balance them.
+
+        The coefficients come from the null space of the element matrix; the species' sides come
+        from the equation as written. Refuses when no balance exists or when several independent
+        ones do (the species then describe more than one reaction).
+        """
+        rows, matrix = self.composition()
+        sides = [1 if t.nu > 0 else -1 for t in self.terms]
+        mat = [
+            [_as_fraction(matrix[i, j]) * sides[j] for j in range(len(self.terms))]
+            for i in range(len(rows))
+        ]
+        basis = _null_space(mat)
+        names = [t.label() for t in self.terms]
+        if not basis:
+            raise AmbiguousBalance(
+                self.text,
+                "no coefficients balance these species; check the "
+                "formulas or add the missing species",
+            )
+        if len(basis) > 1:
+            raise AmbiguousBalance(
+                self.text,
+                f"these species balance in {len(basis)} independent ways, so the coefficients are "
+                "not determined by the elements alone; give the coefficients yourself",
+            )
+        v = basis[0]
+        if all(x <= 0 for x in v):
+            v = [-x for x in v]
+        if any(x == 0 for x in v):
+            idle = [n for n, x in zip(names, v, strict=True) if x == 0]
+            raise AmbiguousBalance(
+                self.text, f"{', '.join(idle)} cannot take part in a balance of these species"
+            )
+        if any(x < 0 for x in v):
+            wrong = [n for n, x in zip(names, v, strict=True) if x < 0]
+            raise AmbiguousBalance(
+                self.text,
+                f"a balance exists only with {', '.join(wrong)} on the other side of the arrow",
+            )
+        lcm = reduce(lambda a, b: a * b // math.gcd(a, b), (x.denominator for x in v), 1)
+        ints = [int(x * lcm) for x in v]
+        g = reduce(math.gcd, ints)
+        coefs = [Fraction(i // g) for i in ints]
+        terms = [
+            ReactionTerm(c * s, t.text, t.formula, t.phase, t.form, t.candidates)
+            for c, s, t in zip(coefs, sides, self.terms, strict=True)
+        ]
+        return Reaction(terms, self.text, self.library)
+
+    # --- text ---------------------------------------------------------------------------------
+    def _side(self, sign: int, pretty: bool, html: bool) -> str:
+        parts = []
+        for t in self.terms:
+            if (t.nu > 0) != (sign > 0):
+                continue
+            c = abs(t.coefficient)
+            coef = "" if c == 1 else (str(c.numerator) if c.denominator == 1 else str(c))
+            label = t.label()
+            if pretty:
+                label = pretty_formula(t.formula, html=html) + label[len(t.formula) :]
+            parts.append(f"{coef} {label}".strip())
+        return " + ".join(parts)
+
+    def equation(self, pretty: bool = False, html: bool = False) -> str:
+        """The balanced equation as text; ``pretty`` uses subscripts, ``html`` HTML tags."""
+        arrow = " → " if pretty else " -> "
+        return self._side(-1, pretty, html) + arrow + self._side(1, pretty, html)
+
+    def __str__(self) -> str:
+        return self.equation()
+
+    def __repr__(self) -> str:
+        return f"<Reaction {self.equation()}>"
+
+    # --- phases -------------------------------------------------------------------------------
+    def valid_range(self) -> tuple[float, float]:
+        """Widest [Tmin, Tmax] in which every term has data (in some allowed phase), in K."""
+        lo = max(min(sp.T_range[0] for sp in t.candidates) for t in self.terms)
+        hi = min(max(sp.T_range[1] for sp in t.candidates) for t in self.terms)
+        return lo, hi
+
+    def phase_plan(self, T: np.ndarray) -> list[np.ndarray]:
+        """For each term, the index into its candidates of the phase used at each T.
+
+        The phase used is the allowed candidate with the lowest G°(T) among those whose data
+        covers T. Raises :class:`OutsideDataRange` where no candidate covers a temperature.
+        """
+        T = np.atleast_1d(np.asarray(T, dtype=float))
+        plan = []
+        for t in self.terms:
+            if len(t.candidates) == 1:
+                t.candidates[0].check_range(T)
+                plan.append(np.zeros(T.shape, dtype=np.intp))
+                continue
+            g = np.full((len(t.candidates), *T.shape), np.inf)
+            for k, sp in enumerate(t.candidates):
+                mask = sp.covers(T)
+                if np.any(mask):
+                    g[k, mask] = sp.gibbs(T[mask])
+            best = np.argmin(g, axis=0)
+            uncovered = ~np.isfinite(np.min(g, axis=0))
+            if np.any(uncovered):
+                bad = float(T[uncovered][0])
+                lo = min(sp.T_range[0] for sp in t.candidates)
+                hi = max(sp.T_range[1] for sp in t.candidates)
+                raise OutsideDataRange(t.label() + " (all allowed phases)", bad, lo, hi)
+            plan.append(best)
+        return plan
+
+    def phase_changes(self, T_min: float, T_max: float) -> list[tuple[str, float, str, str]]:
+        """Phase changes of terms given without a fixed phase between T_min and T_max.
+
+        Returns (term, T in K, phase before, phase after), located to 0.01 K by bisection.
+        """
+        out = []
+        grid = np.linspace(T_min, T_max, 801)
+        for term, idx in zip(self.terms, self.phase_plan(grid), strict=True):
+            if len(term.candidates) == 1:
+                continue
+            for i in np.nonzero(np.diff(idx))[0]:
+                a, b = grid[i], grid[i + 1]
+                ia, ib = idx[i], idx[i + 1]
+                one = Reaction([term], self.text, self.library)
+                while b - a > 0.01:  # 0.01 K: far finer than any tabulated transition temperature
+                    mid = 0.5 * (a + b)
+                    if one.phase_plan(np.array([mid]))[0][0] == ia:
+                        a = mid
+                    else:
+                        b = mid
+                out.append(
+                    (
+                        term.label(),
+                        float(0.5 * (a + b)),
+                        term.candidates[ia].id,
+                        term.candidates[ib].id,
+                    )
+                )
+        return sorted(out, key=lambda x: x[1])
+
+    def metastable(self, T: np.ndarray) -> list[tuple[str, float, str]]:
+        """Terms whose fixed phase is not the stable one somewhere in T: (used, T, stable id)."""
+        T = np.atleast_1d(np.asarray(T, dtype=float))
+        out = []
+        plan = self.phase_plan(T)
+        for term, idx in zip(self.terms, plan, strict=True):
+            if term.phase is None and term.form is None:
+                continue
+            others = [
+                sp for sp in self.library.by_formula(term.formula) if sp not in term.candidates
+            ]
+            if not others:
+                continue
+            used_g = np.array(
+                [term.candidates[k].gibbs(np.array([x]))[0] for k, x in zip(idx, T, strict=True)]
+            )
+            for sp in others:
+                mask = sp.covers(T)
+                if not np.any(mask):
+                    continue
+                lower = np.zeros(T.shape, dtype=bool)
+                # 1 J/mol: below any data uncertainty; avoids flagging coexistence at a transition.
+                lower[mask] = sp.gibbs(T[mask]) < used_g[mask] - 1.0
+                if np.any(lower):
+                    k = int(np.argmax(lower))
+                    out.append((term.candidates[idx[k]].id, float(T[k]), sp.id))
+        return out
+
+    def gas_change(self, T: np.ndarray) -> np.ndarray:
+        """Net change in moles of gas per mole of reaction at each T (phases as used there)."""
+        T = np.atleast_1d(np.asarray(T, dtype=float))
+        total = np.zeros(T.shape)
+        for term, idx in zip(self.terms, self.phase_plan(T), strict=True):
+            is_gas = np.array([sp.phase == "g" for sp in term.candidates])
+            total += term.nu * is_gas[idx]
+        return total
+
+    def species_used(self) -> list[Species]:
+        """Every library entry the reaction may use, once each."""
+        seen: dict[str, Species] = {}
+        for t in self.terms:
+            for sp in t.candidates:
+                seen.setdefault(sp.id, sp)
+        return list(seen.values())

@@ -1,0 +1,139 @@
+"""One species in one phase: its 298.15 K values, heat-capacity model, uncertainties and sources.
+
+``H(T) = ΔfH°(298.15 K) + h(T)`` and ``S(T) = S°(298.15 K) + s(T)``, where h and s come from the
+heat-capacity model (:mod:`feasibly.thermo_functions`). All arrays are SI floats; temperatures are
+checked against the entry's validity range and never extrapolated.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from types import MappingProxyType
+from typing import Any
+
+import numpy as np
+
+from .errors import OutsideDataRange
+from .thermo_functions import CpModel
+
+__all__ = ["PHASES", "SourcedValue", "Species"]
+
+#: Phase codes and what they mean in a report.
+PHASES = MappingProxyType(
+    {"g": "gas", "l": "liquid", "cr": "crystalline solid", "aq": "aqueous solution"}
+)
+
+# Relative slack on range ends so that a range end typed in °C (e.g. 25 °C = 298.15 K) is inside;
+# 1e-9 of a few hundred kelvin is far below any meaningful temperature difference.
+_RANGE_SLACK = 1e-9
+
+
+@dataclass(frozen=True)
+class SourcedValue:
+    """A number with its standard uncertainty and where both came from."""
+
+    value: float
+    u: float
+    source: str
+    entry: str
+    uncertainty: MappingProxyType[str, Any]
+    replaced: MappingProxyType[str, Any] | None = None
+
+    @property
+    def assumed(self) -> bool:
+        """True when no source stated the uncertainty and a written policy set it."""
+        return bool(self.uncertainty.get("assumed", False))
+
+
+@dataclass(frozen=True, eq=False)
+class Species:
+    """A species-phase entry of the data library (shipped or user-supplied)."""
+
+    id: str
+    formula: str
+    elements: MappingProxyType[str, float]
+    charge: int
+    phase: str
+    form: str | None
+    names: tuple[str, ...]
+    cas: str | None
+    molar_mass: float
+    T_range: tuple[float, float]
+    reference_state_of: str | None
+    dHf: SourcedValue
+    S298: SourcedValue
+    cp_model: CpModel
+    cp_u_rel: float
+    cp_source: MappingProxyType[str, Any]
+    hypothetical_298: bool = False
+    notes: tuple[str, ...] = ()
+    origin: str = "library"
+    raw: MappingProxyType[str, Any] = field(default_factory=lambda: MappingProxyType({}))
+
+    def __repr__(self) -> str:
+        return f"<Species {self.id} {self.T_range[0]:g}–{self.T_range[1]:g} K ({self.origin})>"
+
+    @property
+    def label(self) -> str:
+        """Formula with phase (and form) as written in equations, e.g. ``CaCO3(cr,calcite)``."""
+        return self.id
+
+    def covers(self, T: np.ndarray) -> np.ndarray:
+        """Boolean mask of temperatures inside this entry's validity range."""
+        T = np.asarray(T, dtype=float)
+        lo, hi = self.T_range
+        return (T >= lo * (1 - _RANGE_SLACK)) & (T <= hi * (1 + _RANGE_SLACK))
+
+    def check_range(self, T: np.ndarray) -> np.ndarray:
+        """Return T as a float array, or raise :class:`OutsideDataRange` for the first bad value."""
+        T = np.asarray(T, dtype=float)
+        inside = self.covers(T)
+        if not np.all(inside):
+            bad = float(np.atleast_1d(T)[~np.atleast_1d(inside)][0])
+            raise OutsideDataRange(self.id, bad, *self.T_range)
+        return T
+
+    def cp(self, T: np.ndarray) -> np.ndarray:
+        """Cp°(T) in J/(mol·K)."""
+        return self.cp_model.cp(self.check_range(T))
+
+    def enthalpy(self, T: np.ndarray) -> np.ndarray:
+        """H°(T) on the ΔfH°(298.15 K) scale, J/mol."""
+        return self.dHf.value + self.cp_model.h_inc(self.check_range(T))
+
+    def entropy(self, T: np.ndarray) -> np.ndarray:
+        """S°(T) in J/(mol·K)."""
+        return self.S298.value + self.cp_model.s_inc(self.check_range(T))
+
+    def gibbs(self, T: np.ndarray) -> np.ndarray:
+        """G°(T) = H°(T) − T·S°(T) on the same scale, J/mol."""
+        T = self.check_range(T)
+        return (
+            self.dHf.value + self.cp_model.h_inc(T) - T * (self.S298.value + self.cp_model.s_inc(T))
+        )
+
+    def provenance(self) -> dict[str, Any]:
+        """Where each number of this entry came from, as plain data for reports."""
+
+        def block(v: SourcedValue) -> dict[str, Any]:
+            out = {
+                "value": v.value,
+                "u": v.u,
+                "source": v.source,
+                "entry": v.entry,
+                "uncertainty": dict(v.uncertainty),
+            }
+            if v.replaced is not None:
+                out["replaced"] = dict(v.replaced)
+            return out
+
+        return {
+            "id": self.id,
+            "origin": self.origin,
+            "T_range_K": list(self.T_range),
+            "dHf_298_J_per_mol": block(self.dHf),
+            "S_298_J_per_mol_K": block(self.S298),
+            "cp": {"u_rel": self.cp_u_rel, **dict(self.cp_source)},
+            "hypothetical_298": self.hypothetical_298,
+            "notes": list(self.notes),
+        }

@@ -1,0 +1,147 @@
+"""Heat-capacity models and the enthalpy and entropy increments they imply.
+
+Each model gives, for temperatures T in K (float arrays), Cp(T) in J/(mol·K) and the increments
+``h(T) = H(T) − H(298.15 K)`` in J/mol and ``s(T) = S(T) − S(298.15 K)`` in J/(mol·K). The species'
+own 298.15 K values are added elsewhere, so a Cp model never carries the enthalpy of formation.
+
+The models are the NASA 7-coefficient polynomial (McBride, Zehe & Gordon, NASA TP-2002-211556,
+eqs. 1–3 in Cp/R, H/RT, S/R form), a constant heat capacity and the Maier–Kelley form
+``a + bT + c/T²`` (Maier & Kelley, J. Am. Chem. Soc. 54 (1932) 3243).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+import numpy as np
+
+__all__ = [
+    "T_REF",
+    "ConstantCp",
+    "CpModel",
+    "MaierKelleyCp",
+    "Nasa7",
+    "R",
+]
+
+#: Molar gas constant in J/(mol·K), exact since the 2019 SI redefinition (CODATA 2018).
+R = 8.314462618
+#: Reference temperature of tabulated standard values, K.
+T_REF = 298.15
+
+
+class CpModel:
+    """Interface of a heat-capacity model (all methods vectorised over T in K)."""
+
+    def cp(self, T: np.ndarray) -> np.ndarray:  # pragma: no cover - interface
+        raise NotImplementedError
+
+    def h_inc(self, T: np.ndarray) -> np.ndarray:  # pragma: no cover - interface
+        raise NotImplementedError
+
+    def s_inc(self, T: np.ndarray) -> np.ndarray:  # pragma: no cover - interface
+        raise NotImplementedError
+
+
+@dataclass(frozen=True)
+class Nasa7(CpModel):
+    """NASA 7-coefficient polynomial in one or more temperature intervals.
+
+    ``breaks`` are the interval limits (ascending, n + 1 values for n intervals); ``coeffs`` has
+    shape (n, 7). Each interval's a6 and a7 make H and S continuous in the source's own
+    convention; increments are taken from the interval that contains each temperature, and 298.15 K
+    is evaluated in the interval containing it (the first one when it lies below the range).
+    """
+
+    breaks: tuple[float, ...]
+    coeffs: np.ndarray
+
+    @classmethod
+    def from_lists(cls, breaks: Sequence[float], coeffs: Sequence[Sequence[float]]) -> Nasa7:
+        a = np.array(coeffs, dtype=float)
+        return cls(tuple(float(b) for b in breaks), a)
+
+    def _interval(self, T: np.ndarray) -> np.ndarray:
+        inner = np.asarray(self.breaks[1:-1])
+        # A temperature exactly on a break belongs to the lower interval (NASA's convention).
+        return np.searchsorted(inner, T, side="left")
+
+    def _h_rt(self, T: np.ndarray, a: np.ndarray) -> np.ndarray:
+        return (
+            a[..., 0]
+            + T * (a[..., 1] / 2 + T * (a[..., 2] / 3 + T * (a[..., 3] / 4 + T * a[..., 4] / 5)))
+            + a[..., 5] / T
+        )
+
+    def _s_r(self, T: np.ndarray, a: np.ndarray) -> np.ndarray:
+        return (
+            a[..., 0] * np.log(T)
+            + T * (a[..., 1] + T * (a[..., 2] / 2 + T * (a[..., 3] / 3 + T * a[..., 4] / 4)))
+            + a[..., 6]
+        )
+
+    def cp(self, T: np.ndarray) -> np.ndarray:
+        T = np.asarray(T, dtype=float)
+        a = self.coeffs[self._interval(T)]
+        return R * (a[..., 0] + T * (a[..., 1] + T * (a[..., 2] + T * (a[..., 3] + T * a[..., 4]))))
+
+    def _ref(self) -> tuple[float, float]:
+        t = np.asarray(T_REF)
+        a = self.coeffs[self._interval(t)]
+        return float(R * T_REF * self._h_rt(t, a)), float(R * self._s_r(t, a))
+
+    def h_inc(self, T: np.ndarray) -> np.ndarray:
+        T = np.asarray(T, dtype=float)
+        a = self.coeffs[self._interval(T)]
+        return R * T * self._h_rt(T, a) - self._ref()[0]
+
+    def s_inc(self, T: np.ndarray) -> np.ndarray:
+        T = np.asarray(T, dtype=float)
+        a = self.coeffs[self._interval(T)]
+        return R * self._s_r(T, a) - self._ref()[1]
+
+    def absolute_298(self) -> tuple[float, float]:
+        """H(298.15 K) in J/mol and S(298.15 K) in J/(mol·K) implied by the polynomial itself."""
+        return self._ref()
+
+
+@dataclass(frozen=True)
+class ConstantCp(CpModel):
+    """Temperature-independent heat capacity (J/(mol·K))."""
+
+    value: float
+
+    def cp(self, T: np.ndarray) -> np.ndarray:
+        return np.full_like(np.asarray(T, dtype=float), self.value)
+
+    def h_inc(self, T: np.ndarray) -> np.ndarray:
+        return self.value * (np.asarray(T, dtype=float) - T_REF)
+
+    def s_inc(self, T: np.ndarray) -> np.ndarray:
+        return self.value * np.log(np.asarray(T, dtype=float) / T_REF)
+
+
+@dataclass(frozen=True)
+class MaierKelleyCp(CpModel):
+    """Cp = a + b·T + c/T² in J/(mol·K)."""
+
+    a: float
+    b: float
+    c: float
+
+    def cp(self, T: np.ndarray) -> np.ndarray:
+        T = np.asarray(T, dtype=float)
+        return self.a + self.b * T + self.c / T**2
+
+    def h_inc(self, T: np.ndarray) -> np.ndarray:
+        T = np.asarray(T, dtype=float)
+        return self.a * (T - T_REF) + self.b / 2 * (T**2 - T_REF**2) - self.c * (1 / T - 1 / T_REF)
+
+    def s_inc(self, T: np.ndarray) -> np.ndarray:
+        T = np.asarray(T, dtype=float)
+        return (
+            self.a * np.log(T / T_REF)
+            + self.b * (T - T_REF)
+            - self.c / 2 * (1 / T**2 - 1 / T_REF**2)
+        )

@@ -1,0 +1,127 @@
+"""Δr quantities, K, crossover and non-standard ΔrG: definitions and consistency.
+
+Values against published tables are in tests/reference/; here the checks are the defining
+relations (IUPAC Green Book, 3rd ed., §2.11: ΔrG° = −RT ln K°, ΔrG = ΔrG° + RT ln Q) and
+internal consistency between routes that share no code.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+
+from feasibly import (
+    Q_,
+    InvalidTemperature,
+    OutsideDataRange,
+    Reaction,
+    UnitError,
+    assess,
+    crossover_temperatures,
+    standard_properties,
+)
+from feasibly.thermo_functions import R
+
+SHIFT = "CO + H2O -> CO2 + H2"
+CRACK = "C2H6 -> C2H4 + H2"
+
+
+def test_K_and_entropy_bookkeeping() -> None:
+    rxn = Reaction.parse(SHIFT)
+    T = np.array([500.0, 800.0, 1100.0])
+    p = standard_properties(rxn, T)
+    np.testing.assert_allclose(p.dG, p.dH - T * p.dS, rtol=1e-12)
+    np.testing.assert_allclose(np.log(p.K), -p.dG / (R * T), rtol=1e-10)
+    np.testing.assert_allclose(p.dS_universe, -p.dG / T, rtol=1e-12)
+
+
+def test_gibbs_helmholtz_and_kirchhoff() -> None:
+    # d(ΔrG°/T)/dT = −ΔrH°/T² (Gibbs–Helmholtz) and dΔrH°/dT = ΔrCp° (Kirchhoff), by central
+    # differences with h = 0.01 K (error ~h², far below the 1e-6 relative tolerance).
+    rxn = Reaction.parse(CRACK)
+    T, h = 900.0, 0.01
+    p = standard_properties(rxn, np.array([T - h, T, T + h]))
+    dGT = (p.dG[2] / (T + h) - p.dG[0] / (T - h)) / (2 * h)
+    assert dGT == pytest.approx(-p.dH[1] / T**2, rel=1e-6)
+    assert (p.dH[2] - p.dH[0]) / (2 * h) == pytest.approx(p.dCp[1], rel=1e-5)
+    assert (p.dS[2] - p.dS[0]) / (2 * h) == pytest.approx(p.dCp[1] / T, rel=1e-5)
+
+
+def test_crossover_is_a_root_and_differs_from_the_298_shortcut() -> None:
+    rxn = Reaction.parse(CRACK)
+    (root,) = crossover_temperatures(rxn, 500.0, 1500.0)
+    assert abs(standard_properties(rxn, np.array([root])).dG[0]) < 1e-3  # |ΔrG°| < 1 mJ/mol
+    a = assess(CRACK, T_range=("500 K", "1500 K"), points=5)
+    assert a.crossover_K == [pytest.approx(root, abs=1e-4)]
+    assert a.crossover_298_estimate_K is not None
+    assert a.crossover_298_estimate_K != pytest.approx(root, abs=1.0)
+
+
+def test_no_crossover_gives_empty_list() -> None:
+    a = assess(SHIFT, T_range=("400 K", "600 K"), points=3)
+    assert a.crossover_K == []
+
+
+def test_one_atm_standard_state_shift() -> None:
+    # Changing p° from 1 bar to 1 atm adds Δn(gas)·RT·ln(101325/100000) to ΔrG° (definition).
+    bar = assess(CRACK, T="900 K")
+    atm = assess(CRACK, T="900 K", standard_pressure="1 atm")
+    shift = 1.0 * R * 900.0 * math.log(101325 / 100000)
+    assert atm.standard.dG[0] - bar.standard.dG[0] == pytest.approx(shift, rel=1e-9)
+    assert atm.standard.dH[0] == bar.standard.dH[0]
+
+
+def test_partial_pressures_enter_through_RT_lnQ() -> None:
+    a = assess(
+        CRACK, T="1000 K", partial_pressures={"C2H6": "0.5 bar", "C2H4": "0.1 bar", "H2": "20 kPa"}
+    )
+    Q = (0.1 * 0.2) / 0.5
+    assert a.dG_actual[0] - a.standard.dG[0] == pytest.approx(R * 1000 * math.log(Q), rel=1e-12)
+    assert a.log10_Q == pytest.approx(math.log10(Q))
+    b = assess(CRACK, T="1000 K", partial_pressures={"C2H4": "0.1 bar"})
+    assert set(b.assumed_standard) == {"C2H6", "H2"}
+
+
+def test_condensed_phases_have_unit_activity() -> None:
+    a = assess("MgCO3 -> MgO + CO2", T="700 K", partial_pressures={"CO2": "0.01 bar"})
+    assert a.dG_actual[0] - a.standard.dG[0] == pytest.approx(R * 700 * math.log(0.01), rel=1e-12)
+
+
+def test_bad_conditions() -> None:
+    with pytest.raises(UnitError, match="not in the equation"):
+        assess(CRACK, T="900 K", partial_pressures={"CO2": "1 bar"})
+    with pytest.raises(UnitError, match="a bare number"):
+        assess(CRACK, T=900)
+    with pytest.raises(InvalidTemperature):
+        assess(CRACK, T="0 K")
+    with pytest.raises(UnitError, match="either T or T_range"):
+        assess(CRACK)
+    with pytest.raises(UnitError, match="standard pressure"):
+        assess(CRACK, T="900 K", standard_pressure="2 bar")
+    with pytest.raises(OutsideDataRange):
+        assess("H2 + 1/2 O2 -> H2O(l)", T="700 K")
+
+
+def test_array_temperatures_with_units() -> None:
+    a = assess(SHIFT, T=Q_([600, 700, 800], "K"))
+    assert a.standard.T.tolist() == [600.0, 700.0, 800.0]
+
+
+def test_to_dict_has_the_documented_keys() -> None:
+    d = assess(CRACK, T_range=("600 K", "1200 K"), points=4).to_dict()
+    for key in ("T_K", "dH_J_per_mol", "dS_J_per_mol_K", "dG_J_per_mol", "log10_K"):
+        assert key in d["rows"][0]
+    assert d["balanced_equation"] == "C2H6 -> C2H4 + H2"
+    assert d["data_version"] == "2026.12.0"
+    assert isinstance(d["crossover_K"], list)
+
+
+def test_cautions() -> None:
+    burn = assess("CH4 + 2 O2 -> CO2 + 2 H2O", T="600 K")
+    kinds = {c.kind for c in burn.cautions}
+    assert "strongly exothermic" in kinds and "flammable" in kinds
+    assert any("process-safety review" in n for n in burn.notes)
+    crack = assess(CRACK, T="1000 K")
+    assert "gas evolution" in {c.kind for c in crack.cautions}

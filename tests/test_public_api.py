@@ -1,0 +1,28 @@
+"""Every public name is importable and documented; the kernel never imports widget code."""
+
+from __future__ import annotations
+
+import importlib
+import inspect
+import pkgutil
+
+import feasibly
+
+
+def test_all_names_import_and_have_docstrings() -> None:
+    for name in feasibly.__all__:
+        obj = getattr(feasibly, name)
+        if name in {"__version__", "Q_", "ureg"}:
+            continue
+        assert inspect.getdoc(obj), f"feasibly.{name} has no docstring"
+
+
+def test_every_module_has_a_docstring_and_no_widget_imports() -> None:
+    for info in pkgutil.walk_packages(feasibly.__path__, "feasibly."):
+        module = importlib.import_module(info.name)
+        assert module.__doc__, info.name
+        if ".widgets" in info.name or ".figures" in info.name:
+            continue
+        source = inspect.getsource(module)
+        assert "feasibly.widgets" not in source.replace('"feasibly.widgets"', "")
+        assert "import ipywidgets" not in source and "import plotly" not in source

@@ -1,0 +1,231 @@
+"""Reading, checking and finding the balance of equations; phase choice.
+
+Expected balances are the conservation of atoms (checked by counting), not numbers we computed.
+"""
+
+from __future__ import annotations
+
+from fractions import Fraction
+
+import numpy as np
+import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+from feasibly import (
+    AmbiguousBalance,
+    FeasiblyError,
+    Library,
+    OutsideDataRange,
+    Reaction,
+    ReactionSyntaxError,
+    UnbalancedReaction,
+    UnknownSpecies,
+)
+from feasibly.reaction import parse_equation
+
+
+def coefs(rxn: Reaction) -> dict[str, Fraction]:
+    return {t.label(): t.coefficient for t in rxn.terms}
+
+
+@pytest.mark.parametrize(
+    "text",
+    [
+        "2 H2 + O2 -> 2 H2O",
+        "2H2 + O2 = 2H2O",
+        "2 H2 + O2 <=> 2 H2O",
+        "2 H2 + O2 → 2 H2O",
+        "H2 + 1/2 O2 -> H2O",
+        "H2 + 0.5 O2 -> H2O",
+        "H2+0.5O2->H2O",
+    ],
+)
+def test_syntax_variants(text: str) -> None:
+    rxn = Reaction.parse(text)
+    c = coefs(rxn)
+    assert c["O2"] / c["H2"] == Fraction(1, 2)
+    assert c["H2O"] / c["H2"] == -1
+
+
+def test_phase_labels() -> None:
+    parsed = parse_equation("MgCO3(s) -> MgO(cr) + CO2(g)")
+    assert [(f, p) for _, f, p, _, _ in parsed] == [("MgCO3", "cr"), ("MgO", "cr"), ("CO2", "g")]
+    parsed = parse_equation("Ca(OH)2(s) -> CaO(s) + H2O(l)")
+    assert parsed[0][1:3] == ("Ca(OH)2", "cr")
+
+
+def test_unbalanced_names_elements_and_amounts() -> None:
+    with pytest.raises(UnbalancedReaction) as info:
+        Reaction.parse("CH4 + O2 -> CO2 + H2O")
+    err = info.value
+    assert err.imbalance == {"O": pytest.approx(1.0), "H": pytest.approx(-2.0)}
+    assert "O: products have 1 more" in str(err)
+    assert "H: reactants have 2 more" in str(err)
+
+
+def test_auto_balance() -> None:
+    rxn = Reaction.parse("C2H5OH + O2 -> CO2 + H2O", balance=True)
+    assert str(rxn) == "C2H5OH + 3 O2 -> 2 CO2 + 3 H2O"
+    assert not rxn.imbalance()
+
+
+def test_auto_balance_refusals() -> None:
+    with pytest.raises(AmbiguousBalance, match="independent ways"):
+        Reaction.parse("C + O2 -> CO + CO2", balance=True)
+    with pytest.raises(AmbiguousBalance, match="O2 on the other side"):
+        Reaction.parse("H2O + O2 -> H2", balance=True)
+    with pytest.raises(AmbiguousBalance, match="CH4 cannot take part"):
+        Reaction.parse("CO2 -> CO + CH4 + O2", balance=True)
+    with pytest.raises(AmbiguousBalance, match="no coefficients"):
+        Reaction.parse("CH4 -> CO2", balance=True)
+
+
+@pytest.mark.parametrize(
+    ("text", "error", "fragment"),
+    [
+        ("", ReactionSyntaxError, "empty"),
+        ("H2 + O2", ReactionSyntaxError, "exactly one arrow"),
+        ("H2 -> O2 -> H2O", ReactionSyntaxError, "exactly one arrow"),
+        ("-> H2O", ReactionSyntaxError, "both sides"),
+        ("H2 + + O2 -> H2O", ReactionSyntaxError, "empty term"),
+        ("H2 + 0 O2 -> H2", ReactionSyntaxError, "must be positive"),
+        ("H2(plasma) -> H2", UnknownSpecies, "The library has H2(g)"),
+        ("H2(g,alpha,beta) -> H2", UnknownSpecies, "Cannot read"),
+        ("Xq2 -> Xq2", UnknownSpecies, "not an element"),
+        ("H2 -> H2(aq)", UnknownSpecies, "The library has"),
+        ("CO3 -> CO3", UnknownSpecies, "No species"),
+        ("H2 + H2 -> 2 H2", ReactionSyntaxError, "more than once"),
+    ],
+)
+def test_bad_equations(text: str, error: type, fragment: str) -> None:
+    with pytest.raises(error) as info:
+        Reaction.parse(text)
+    assert fragment in str(info.value)
+    assert isinstance(info.value, FeasiblyError)
+
+
+def test_same_composition_isomers_must_be_named(lib: Library) -> None:
+    # Ethanol and dimethyl ether share C2H6O; the message lists both ways to write them.
+    with pytest.raises(UnknownSpecies, match="Several species share"):
+        Reaction.parse("C2H6O -> C2H4 + H2O", library=lib)
+
+
+def test_unlabelled_species_take_the_stable_phase() -> None:
+    rxn = Reaction.parse("H2 + 1/2 O2 -> H2O")
+    plan = rxn.phase_plan(np.array([300.0, 500.0]))
+    water = rxn.terms[2]
+    assert [water.candidates[i].phase for i in plan[2]] == ["l", "g"]
+    # The liquid–vapour change of water at 1 bar: 372.76 K (IAPWS; from memory). The NASA
+    # polynomials put it within about 1 K of that.
+    (change,) = [c for c in rxn.phase_changes(300.0, 500.0) if c[0] == "H2O"]
+    assert change[1] == pytest.approx(372.8, abs=1.5)
+
+
+def test_explicit_phase_is_respected_and_metastability_flagged() -> None:
+    rxn = Reaction.parse("H2 + 1/2 O2 -> H2O(g)")
+    assert rxn.terms[2].candidates[0].phase == "g"
+    flagged = rxn.metastable(np.array([300.0]))
+    assert flagged and flagged[0][0] == "H2O(g)" and flagged[0][2] == "H2O(l)"
+
+
+def test_outside_range_names_species_and_range() -> None:
+    rxn = Reaction.parse("H2 + 1/2 O2 -> H2O(l)")
+    with pytest.raises(OutsideDataRange) as info:
+        rxn.phase_plan(np.array([700.0]))
+    assert "H2O(l) has data from" in str(info.value) and "700 K is outside" in str(info.value)
+
+
+# --- property tests --------------------------------------------------------------------------
+
+BALANCED = [
+    "2 H2 + O2 -> 2 H2O",
+    "CH4 + 2 O2 -> CO2 + 2 H2O",
+    "CO + H2O -> CO2 + H2",
+    "2 SO2 + O2 -> 2 SO3",
+    "N2 + 3 H2 -> 2 NH3",
+    "Fe2O3 + 3 CO -> 2 Fe + 3 CO2",
+    "MgCO3 -> MgO + CO2",
+    "C + CO2 -> 2 CO",
+    "4 NH3 + 5 O2 -> 4 NO + 6 H2O",
+    "TiO2 + 2 Cl2 + C -> TiCl4 + CO2",
+]
+
+
+@settings(max_examples=150, deadline=None)
+@given(
+    st.sampled_from(BALANCED),
+    st.sampled_from([Fraction(1, 2), Fraction(1), Fraction(2), Fraction(3, 2)]),
+    st.sampled_from(["->", "=", "<=>", "→"]),
+)
+def test_formatted_balanced_equations_round_trip(text: str, scale: Fraction, arrow: str) -> None:
+    base = Reaction.parse(text)
+    left = " + ".join(f"{-t.coefficient * scale} {t.label()}" for t in base.terms if t.nu < 0)
+    right = " + ".join(f"{t.coefficient * scale} {t.label()}" for t in base.terms if t.nu > 0)
+    again = Reaction.parse(f"{left} {arrow} {right}")
+    assert coefs(again) == {k: v * scale for k, v in coefs(base).items()}
+    assert coefs(Reaction.parse(str(again))) == coefs(again)
+
+
+POOL = [
+    "H2",
+    "O2",
+    "H2O",
+    "CO",
+    "CO2",
+    "CH4",
+    "C2H6",
+    "N2",
+    "NH3",
+    "NO",
+    "NO2",
+    "SO2",
+    "H2S",
+    "S",
+    "Fe",
+    "Fe2O3",
+    "FeO",
+    "C",
+    "HCl",
+    "Cl2",
+    "MgO",
+    "Mg",
+]
+
+
+@settings(max_examples=200, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.lists(st.sampled_from(POOL), min_size=2, max_size=5, unique=True), st.data())
+def test_auto_balance_conserves_every_element(species: list[str], data: st.DataObject) -> None:
+    split = data.draw(st.integers(1, len(species) - 1))
+    text = " + ".join(species[:split]) + " -> " + " + ".join(species[split:])
+    try:
+        rxn = Reaction.parse(text, balance=True)
+    except AmbiguousBalance:
+        return
+    assert all(t.coefficient.denominator == 1 for t in rxn.terms)
+    assert not rxn.imbalance()
+    # Smallest integers: their greatest common divisor is 1.
+    from math import gcd
+
+    g = 0
+    for t in rxn.terms:
+        g = gcd(g, abs(t.coefficient.numerator))
+    assert g == 1
+
+
+@settings(max_examples=300, deadline=None)
+@given(st.text(alphabet=st.sampled_from(list("HCONFeSl()[]+-=<>→23/. aqgs^*·")), max_size=40))
+def test_random_text_raises_only_documented_errors(text: str) -> None:
+    try:
+        Reaction.parse(text)
+    except FeasiblyError:
+        pass
+
+
+@settings(max_examples=100, deadline=None)
+@given(st.text(max_size=40))
+def test_arbitrary_unicode_raises_only_documented_errors(text: str) -> None:
+    try:
+        Reaction.parse(text, balance=True)
+    except FeasiblyError:
+        pass
