@@ -162,6 +162,20 @@ POLICY = {
         "no source.",
         10000.0,
     ),
+    "transition-dHf": (
+        "Entry whose range excludes 298.15 K and begins (or ends) where a condensed phase of the "
+        "same formula ends (or begins), e.g. gamma-Fe after alpha-Fe, a liquid after its solid: "
+        "the kernel carries such a phase's enthalpy from that neighbour at the transition "
+        "temperature T_tr, so dHf_298.u is the standard uncertainty of the transition enthalpy "
+        "there: u = 0.05*|dH_tr| + 200 J/mol (calorimetric transition enthalpies carry a few "
+        "per cent; common practice, no source).",
+        None,
+    ),
+    "transition-S": (
+        "S of a phase carried from its neighbour at a transition moves with the transition "
+        "enthalpy (dS_tr = dH_tr/T_tr), so it has no uncertainty of its own: u = 0.",
+        0.0,
+    ),
     "crc-dHf": (
         "dHf(298.15) from the CRC table (no stated uncertainty): standard u = 4000 J/mol. Common "
         "practice, no source.",
@@ -169,14 +183,17 @@ POLICY = {
     ),
     "gas-S": (
         "Gas S(298.15) from a polynomial fitted to statistical-mechanics tables: standard "
-        "u = 0.5 J/(mol K). Reason: spectroscopic constants give entropies to a few tenths. Common "
-        "practice, no source.",
-        0.5,
+        "u = 0.1 J/(mol K). Reason: spectroscopic entropies of common gases carry 0.004-0.05 "
+        "J/(mol K) (from memory: CODATA Key Values for Thermodynamics, Cox, Wagman & Medvedev "
+        "1989), and the polynomial fits add a few hundredths; 0.1 covers both. Common practice.",
+        0.1,
     ),
     "condensed-S": (
         "Condensed S(298.15) from a polynomial fitted to calorimetric (third-law) data: standard "
-        "u = 2 J/(mol K). Common practice, no source.",
-        2.0,
+        "u = 0.3 J/(mol K) + 0.5 % of S. Reason: CODATA key values for common solids carry "
+        "0.03-0.4 J/(mol K) (from memory: Cox, Wagman & Medvedev 1989); less-studied solids more, "
+        "roughly in proportion to S. Common practice, no source.",
+        None,
     ),
     "hypothetical-S": (
         "S(298.15) of an entry whose range excludes 298.15 K: standard u = 8 J/(mol K). "
@@ -229,8 +246,9 @@ def vblock(value, u, source, entry, stated, convention, divisor, usource, assume
     }
 
 
-def policy_block(value, pid, source, entry):
-    u = POLICY[pid][1]
+def policy_block(value, pid, source, entry, u=None):
+    """A value block whose uncertainty a written policy sets (u given for value-dependent ones)."""
+    u = POLICY[pid][1] if u is None else float(u)
     return vblock(value, u, source, entry, u, "standard", 1.0, f"policy:{pid}", True)
 
 
@@ -1078,7 +1096,9 @@ def poly_entry(e, source, entry_label, breaks, coeffs, src_breaks=None):
         hp = "hypothetical-dHf" if hyp else "condensed-dHf"
         sp = "hypothetical-S" if hyp else "condensed-S"
     e["dHf_298"] = policy_block(h298, hp, source, entry_label)
-    e["S_298"] = policy_block(s298, sp, source, entry_label)
+    # condensed-S is value-dependent: 0.3 J/(mol K) + 0.5 % of S (see POLICY).
+    su = 0.3 + 0.005 * abs(s298) if sp == "condensed-S" else None
+    e["S_298"] = policy_block(s298, sp, source, entry_label, u=su)
     cpol = "cp-gas-poly" if gas else "cp-condensed-poly"
     u = POLICY[cpol][1]
     e["cp"] = {
@@ -1780,6 +1800,68 @@ def canonical_hash(species):
     ).hexdigest()
 
 
+def _poly_h(e, T):
+    """H(T) on the dHf scale from an entry's nasa7 block (J/mol); None for other Cp models."""
+    cp = e["cp"]
+    if cp["model"] != "nasa7":
+        return None
+    br, co = cp["T_breaks_K"], cp["coefficients"]
+    h = R * T * h_RT(co[_interval(br, T)], T)
+    return e["dHf_298"]["value"] + h - poly_298(br, co)[0]
+
+
+def transition_parent(e, by_formula):
+    """The condensed neighbour a hypothetical entry is carried from (same rule as the kernel's
+    feasibly.library.Library.transition_parent): same formula, condensed, and its range touches
+    this entry's range at the end nearer 298.15 K."""
+    lo, hi = e["T_range_K"]
+    t_a = min(max(T_REF, lo), hi)
+    for other in by_formula.get(e["formula"], []):
+        if other is e or other["phase"] == "g" or e["phase"] == "g":
+            continue
+        olo, ohi = other["T_range_K"]
+        if t_a == lo and math.isclose(ohi, lo, rel_tol=1e-9):
+            return other, t_a
+        if t_a == hi and math.isclose(olo, hi, rel_tol=1e-9):
+            return other, t_a
+    return None, t_a
+
+
+def apply_transition_policy(entries):
+    """Re-state the uncertainty of hypothetical entries carried from a neighbour (see POLICY)."""
+    by_formula = {}
+    for e in entries:
+        by_formula.setdefault(e["formula"], []).append(e)
+    count = 0
+    for e in entries:
+        if (
+            not e["hypothetical_298"]
+            or e["dHf_298"]["uncertainty"].get("source") != "policy:hypothetical-dHf"
+        ):
+            continue
+        parent, t_a = transition_parent(e, by_formula)
+        if parent is None:
+            continue
+        h_self, h_parent = _poly_h(e, t_a), _poly_h(parent, t_a)
+        if h_self is None or h_parent is None:
+            continue
+        dh_tr = h_self - h_parent
+        u = 0.05 * abs(dh_tr) + 200.0
+        entry = e["dHf_298"]["entry"]
+        e["dHf_298"] = policy_block(
+            e["dHf_298"]["value"], "transition-dHf", e["dHf_298"]["source"], entry, u=u
+        )
+        e["S_298"] = policy_block(
+            e["S_298"]["value"], "transition-S", e["S_298"]["source"], e["S_298"]["entry"]
+        )
+        e["notes"].append(
+            f"carried from {parent['id']} at {t_a:g} K (transition enthalpy {dh_tr / 1000:.3f} kJ/mol "
+            "from the two polynomials); dHf_298.u is the transition enthalpy's uncertainty"
+        )
+        count += 1
+    return count
+
+
 def main():
     els = build_elements()
     unmapped = []
@@ -1807,6 +1889,8 @@ def main():
     set_reference_states(entries)
     gaps_atct = {}
     apply_atct(entries, atct_g, atct_l, gaps_atct)
+    n_chained = apply_transition_policy(entries)
+    need(n_chained > 50, f"only {n_chained} transition-chained entries: the rule stopped matching")
 
     ids = [e["id"] for e in entries]
     dup = sorted({i for i in ids if ids.count(i) > 1})
