@@ -15,8 +15,10 @@ import numpy as np
 
 from .__about__ import __version__
 from .assessment import Assessment, assess
+from .confidence import UncertainAssessment, assess_uncertainty
 from .errors import FeasiblyError, UnitError
 from .library import Library, default_library
+from .uncertainty import parse_override
 from .units import to_pascal
 
 __all__ = ["main"]
@@ -132,6 +134,58 @@ def _print_assessment(a: Assessment) -> None:
         print(note)
 
 
+def _print_uncertainty(u: UncertainAssessment) -> None:
+    print()
+    basis = "ΔrG at the given partial pressures" if u.partial_pressures_Pa else "ΔrG°"
+    print(
+        f"How sure: {u.trials:,} trials ({u.samples.method}, seed {u.samples.seed}); "
+        f"criterion {u.threshold_text} on {basis}; confidence level {u.confidence:.0%}"
+    )
+    if u.adaptive is not None:
+        a = u.adaptive
+        state = "met" if a.converged else "NOT met (trial limit reached)"
+        print(
+            f"  adaptive (JCGM 101 §7.9): {a.blocks} blocks of {a.block_size:,}; tolerance {state}"
+        )
+    header = ["T / K", "mean kJ/mol", "u kJ/mol", "95 % interval kJ/mol", "P(feasible)", "call"]
+    rows = []
+    for r in u.rows():
+        rows.append(
+            [
+                _fmt(r["T_K"]),
+                _fmt(r["dG_mean_J_per_mol"] / 1000),
+                _fmt(r["dG_std_J_per_mol"] / 1000),
+                f"[{r['dG_lo_J_per_mol'] / 1000:,.2f}, {r['dG_hi_J_per_mol'] / 1000:,.2f}]",
+                f"{r['P_feasible']:.1%} ± {r['P_feasible_se']:.1%}",
+                r["verdict"],
+            ]
+        )
+    widths = [max(len(h), *(len(x[j]) for x in rows)) for j, h in enumerate(header)]
+    print("  ".join(h.rjust(w) for h, w in zip(header, widths, strict=True)))
+    for x in rows:
+        print("  ".join(c.rjust(w) for c, w in zip(x, widths, strict=True)))
+    windows = u.window()
+    if windows:
+        for w in windows:
+            lo = "below the range" if w["lo_open"] else f"{w['T_lo_K']:.0f} K"
+            hi = "above the range" if w["hi_open"] else f"{w['T_hi_K']:.0f} K"
+            print(f"Feasible at {u.confidence:.0%} confidence from {lo} to {hi}.")
+    else:
+        print(f"Nowhere in this range is the step feasible at {u.confidence:.0%} confidence.")
+    if u.crossing_range is not None:
+        c = u.crossover()
+        if "median_K" in c:
+            print(
+                f"ΔrG crosses the criterion at {c['median_K']:.0f} K (95 %: {c['lo_K']:.0f}–"
+                f"{c['hi_K']:.0f} K); {c['fraction_none']:.0%} of trials do not cross in range."
+            )
+    t_mid = float(u.T[len(u.T) // 2])
+    shares = u.sensitivity_by_species((t_mid, "K"))[:3]
+    if shares:
+        joined = "; ".join(f"{sid} {share:.0%}" for sid, share in shares)
+        print(f"Doubt at {t_mid:.0f} K comes from: {joined} (shares of the variance of ΔrG).")
+
+
 def _cmd_assess(args: argparse.Namespace) -> int:
     lib = _library(args.species_file)
     pressures = _pressure_pairs(args.p, "partial pressure")
@@ -178,11 +232,60 @@ def _cmd_assess(args: argparse.Namespace) -> int:
         library=lib,
         balance=args.balance,
     )
+    uncertain = None
+    if args.samples is not None or args.adaptive:
+        threshold = " ".join(args.threshold) if args.threshold else "0 J/mol"
+        uncertain = assess_uncertainty(
+            result.reaction,
+            T=T,
+            T_range=T_range,
+            points=args.points,
+            samples=args.samples or 100_000,
+            seed=args.seed,
+            method=args.method,
+            adaptive=args.adaptive,
+            confidence=args.confidence,
+            threshold=threshold,
+            required_K=args.require_K,
+            overrides=[parse_override(o) for o in args.override or []],
+            correlations={
+                (a, b): float(r) for a, b, r in (_correlation(c) for c in args.correlate or [])
+            },
+            partial_pressures=pressures,
+            standard_pressure=args.standard_pressure,
+            library=lib,
+        )
+    elif args.threshold or args.require_K or args.override or args.correlate:
+        raise UnitError(
+            None,
+            "uncertainty run",
+            "--threshold, --require-K, --override and --correlate need --samples N (or --adaptive)",
+        )
     if args.json:
-        print(json.dumps(result.to_dict(), indent=2, ensure_ascii=False))
+        doc = result.to_dict()
+        if uncertain is not None:
+            extra = uncertain.to_dict()
+            for row, urow in zip(doc["rows"], extra.pop("rows"), strict=True):
+                row.update({k: v for k, v in urow.items() if k != "T_K"})
+            doc["uncertainty"] = extra
+        print(json.dumps(doc, indent=2, ensure_ascii=False))
     else:
         _print_assessment(result)
+        if uncertain is not None:
+            _print_uncertainty(uncertain)
     return EXIT_OK
+
+
+def _correlation(tokens: list[str]) -> tuple[tuple[str, str], tuple[str, str], str]:
+    if len(tokens) != 3:
+        raise UnitError(" ".join(tokens), "correlation", "write ID:QUANTITY ID:QUANTITY RHO")
+    keys = []
+    for t in tokens[:2]:
+        if ":" not in t:
+            raise UnitError(t, "input name", "write ID:QUANTITY, e.g. MgO(cr):dHf")
+        sid, q = t.rsplit(":", 1)
+        keys.append((sid, q))
+    return keys[0], keys[1], tokens[2]
 
 
 def _cmd_species(args: argparse.Namespace) -> int:
@@ -281,6 +384,53 @@ def build_parser() -> argparse.ArgumentParser:
         help="add your own species (JSON or TOML, schema in data/SCHEMA.md)",
     )
     a.add_argument("--json", action="store_true", help="print JSON instead of a table")
+    g = a.add_argument_group("how sure (Monte Carlo over the data's uncertainty)")
+    g.add_argument("--samples", type=int, metavar="N", help="Monte Carlo trials, e.g. 100000")
+    g.add_argument("--seed", type=int, metavar="S", help="seed of the random generator")
+    g.add_argument(
+        "--method",
+        choices=["mc", "sobol"],
+        default="mc",
+        help="plain Monte Carlo or scrambled Sobol (N a power of two)",
+    )
+    g.add_argument(
+        "--adaptive",
+        action="store_true",
+        help="add trials until the JCGM 101 §7.9 tolerance is met",
+    )
+    g.add_argument(
+        "--confidence",
+        type=float,
+        default=0.95,
+        help="confidence level for the call (default 0.95)",
+    )
+    g.add_argument(
+        "--threshold",
+        nargs="+",
+        metavar="G",
+        help="feasible when ΔrG is below this, e.g. -10 kJ/mol (default 0)",
+    )
+    g.add_argument(
+        "--require-K",
+        type=float,
+        dest="require_K",
+        metavar="K",
+        help="feasible when K° is at least this (instead of --threshold)",
+    )
+    g.add_argument(
+        "--override",
+        action="append",
+        metavar="TEXT",
+        help='your own value or uncertainty: "ID:dHf = V ± U UNIT [95%%|k=2] '
+        '[uniform|triangular]; reason" (quantity dHf, S298 or cp)',
+    )
+    g.add_argument(
+        "--correlate",
+        action="append",
+        nargs=3,
+        metavar=("A", "B", "RHO"),
+        help="correlation between two inputs, e.g. MgO(cr):dHf MgCO3(cr):dHf 0.5",
+    )
     a.set_defaults(run=_cmd_assess)
 
     s = sub.add_parser("species", help="search the species data library")

@@ -701,6 +701,28 @@ class Library:
         hits = difflib.get_close_matches(query.strip().lower(), list(low), n=limit, cutoff=0.6)
         return list(dict.fromkeys(low[h] for h in hits))
 
+    def transition_parent(self, sp: Species) -> Species | None:
+        """The condensed phase an entry that does not exist at 298.15 K is carried from.
+
+        Same formula, condensed, and its range touches this entry's range at the end nearer
+        298.15 K (α-Fe for γ-Fe, the solid for a liquid above its melting point, liquid water
+        for ice). Uncertainty propagation takes such an entry's H and S at that transition from
+        its neighbour, so that sampled phases still meet where their G are equal.
+        """
+        if not sp.hypothetical_298 or sp.phase == "g":
+            return None
+        lo, hi = sp.T_range
+        t_a = min(max(T_REF, lo), hi)
+        for other in self._by_formula.get(sp.formula, []):
+            if other is sp or other.phase == "g":
+                continue
+            olo, ohi = other.T_range
+            if t_a == lo and math.isclose(ohi, lo, rel_tol=1e-9):
+                return other
+            if t_a == hi and math.isclose(olo, hi, rel_tol=1e-9):
+                return other
+        return None
+
     def hazards(self, sp: Species) -> tuple[dict[str, str], ...]:
         """Hazard flags (toxic, flammable, oxidiser) of a species with their basis and source."""
         return self._hazards.get(sp.cas or "", ()) or self._hazards.get(sp.formula, ())

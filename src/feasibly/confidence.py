@@ -1,0 +1,746 @@
+"""The call and how sure it is: feasibility probability, verdict, window, sensitivity, routes.
+
+:func:`assess_uncertainty` draws the inputs once, propagates them to ΔrH°, ΔrS°, ΔrG° and log10 K on
+a temperature grid, and keeps the draws, so :meth:`UncertainAssessment.at` evaluates any other
+temperature without re-sampling. The verdict at each temperature reads plainly in a report:
+
+- ``"feasible"`` — P(ΔrG < threshold) is at least the confidence level;
+- ``"not feasible"`` — P is at most 1 − confidence level;
+- ``"too close to call"`` — the data at hand cannot decide.
+"""
+
+from __future__ import annotations
+
+import math
+import sys
+import time
+from collections.abc import Callable, Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+from scipy import special
+
+from .assessment import ONE_ATM_PA, ONE_BAR_PA, _reaction_quotient
+from .errors import FeasiblyError, InvalidUncertainty, UnitError
+from .library import Library, default_library
+from .propagation import (
+    LinearModel,
+    Summary,
+    crossings,
+    first_order_indices,
+    gum_uncertainty,
+    linear_model,
+    numerical_tolerance,
+    route_probability,
+    shortest_interval,
+    summarise,
+    uncertain_species,
+    variance_shares,
+)
+from .reaction import Reaction
+from .thermo_functions import R
+from .uncertainty import (
+    InputKey,
+    Method,
+    Override,
+    SampleSet,
+    build_inputs,
+    correlation_matrix,
+    draw_samples,
+    extend_samples,
+)
+from .units import to_energy_per_mol, to_kelvin, to_pascal
+
+__all__ = [
+    "VERDICTS",
+    "Route",
+    "UncertainAssessment",
+    "assess_route",
+    "assess_uncertainty",
+    "verdict",
+]
+
+VERDICTS = ("feasible", "not feasible", "too close to call")
+_LN10 = math.log(10.0)
+# Adaptive mode (JCGM 101:2008 §7.9): significant digits of u asked for, the largest number of
+# trials before giving up, and the tolerance on probabilities (2 s_P ≤ 0.005, i.e. P stable to
+# half a percentage point: common practice, no source).
+_ADAPTIVE_DIGITS = 2
+_ADAPTIVE_MAX_TRIALS = 2_000_000
+_P_TOLERANCE = 0.005
+# Progress is shown on stderr when a run is expected to take this many trial-temperatures or more.
+_PROGRESS_WORK = 2e8
+
+
+def verdict(p: float, confidence: float) -> str:
+    """The call for one probability of feasibility at a confidence level."""
+    if p >= confidence:
+        return VERDICTS[0]
+    if p <= 1.0 - confidence:
+        return VERDICTS[1]
+    return VERDICTS[2]
+
+
+def _check_confidence(confidence: float) -> float:
+    if not isinstance(confidence, (int, float)) or not 0.5 < confidence < 1.0:
+        raise InvalidUncertainty(
+            f"confidence level {confidence!r} must lie between 0.5 and 1 (e.g. 0.95 for 95 %)"
+        )
+    return float(confidence)
+
+
+def _block(samples: SampleSet, start: int, stop: int) -> SampleSet:
+    return SampleSet(
+        samples.inputs,
+        samples.values[:, start:stop],
+        samples.method,
+        samples.seed,
+        samples.correlation,
+    )
+
+
+def _input_covariance(samples: SampleSet) -> np.ndarray:
+    """Covariance of the inputs from their stated distributions (not from the draws)."""
+    u = np.array([inp.u for inp in samples.inputs])
+    corr = samples.correlation if samples.correlation is not None else np.eye(u.size)
+    return corr * np.outer(u, u)
+
+
+@dataclass
+class _Progress:
+    total: int
+    enabled: bool
+    started: float = field(default_factory=time.perf_counter)
+
+    def update(self, done: int) -> None:
+        if not self.enabled:
+            return
+        frac = min(1.0, done / self.total) if self.total else 1.0
+        bar = "#" * int(30 * frac)
+        elapsed = time.perf_counter() - self.started
+        sys.stderr.write(f"\rsampling [{bar:<30}] {done:,} trials, {elapsed:.1f} s")
+        sys.stderr.flush()
+
+    def close(self) -> None:
+        if self.enabled:
+            sys.stderr.write("\n")
+            sys.stderr.flush()
+
+
+@dataclass(frozen=True)
+class AdaptiveReport:
+    """What the JCGM 101 §7.9 adaptive procedure did."""
+
+    trials: int
+    blocks: int
+    block_size: int
+    converged: bool
+    tolerance_J_per_mol: float
+    worst_ratio: float
+
+
+class UncertainAssessment:
+    """Monte Carlo feasibility of one reaction over a temperature grid, with kept draws.
+
+    Arrays are over ``T`` (K). ``G``, ``H``, ``S`` are :class:`~feasibly.propagation.Summary`
+    objects of ΔrG (at the given partial pressures, if any), ΔrH°, ΔrS°; ``p_feasible`` is
+    P(ΔrG < threshold) and ``verdicts`` the call at each T.
+    """
+
+    def __init__(
+        self,
+        reaction: Reaction,
+        samples: SampleSet,
+        T: np.ndarray,
+        confidence: float,
+        threshold: Callable[[np.ndarray], np.ndarray],
+        threshold_text: str,
+        standard_pressure: float,
+        pressures: Mapping[str, float],
+        overrides: Sequence[Override],
+        library: Library,
+        adaptive: AdaptiveReport | None = None,
+        crossing_range: tuple[float, float] | None = None,
+    ) -> None:
+        self.reaction = reaction
+        self.samples = samples
+        self.T = T
+        self.confidence = confidence
+        self._threshold = threshold
+        self.threshold_text = threshold_text
+        self.standard_pressure = standard_pressure
+        self.partial_pressures_Pa = dict(pressures)
+        self.overrides = list(overrides)
+        self.library = library
+        self.adaptive = adaptive
+        self.crossing_range = crossing_range
+        self.model = self._model(T)
+        thr = threshold(T)
+        self.G = summarise(self.model, samples, "G", thr)
+        self.H = summarise(self.model, samples, "H")
+        self.S = summarise(self.model, samples, "S")
+        self.threshold_J_per_mol = thr
+        self._crossing: tuple[np.ndarray, np.ndarray, np.ndarray] | None = None
+
+    # --- evaluation -----------------------------------------------------------------------------
+    def _model(self, T: np.ndarray) -> LinearModel:
+        lnQ = None
+        if self.partial_pressures_Pa:
+            lnQ, _ = _reaction_quotient(
+                self.reaction, self.partial_pressures_Pa, self.standard_pressure, T
+            )
+        return linear_model(self.reaction, T, self.samples, self.standard_pressure, lnQ)
+
+    @property
+    def trials(self) -> int:
+        return self.samples.n
+
+    @property
+    def p_feasible(self) -> np.ndarray:
+        """P(ΔrG < threshold) at each grid temperature."""
+        return self.G.p_below
+
+    @property
+    def p_feasible_se(self) -> np.ndarray:
+        """Monte Carlo standard error of ``p_feasible`` (binomial)."""
+        return self.G.p_below_se
+
+    @property
+    def verdicts(self) -> list[str]:
+        return [verdict(float(p), self.confidence) for p in self.p_feasible]
+
+    def log10_K(self) -> dict[str, np.ndarray]:
+        """Summary of log10 K° = −ΔrG°/(RT ln 10) (standard state; no partial pressures)."""
+        scale = -1.0 / (R * self.T * _LN10)
+        shift = 0.0
+        if self.partial_pressures_Pa:
+            lnQ, _ = _reaction_quotient(
+                self.reaction, self.partial_pressures_Pa, self.standard_pressure, self.T
+            )
+            shift = R * self.T * lnQ
+        g = self.G
+        return {
+            "mean": (g.mean - shift) * scale,
+            "u": g.u * -scale,
+            "median": (g.median - shift) * scale,
+            "lo": (g.hi - shift) * scale,
+            "hi": (g.lo - shift) * scale,
+        }
+
+    def at(self, T: Any) -> dict[str, Any]:
+        """The summary at other temperature(s) (with units), from the kept draws, no re-sampling."""
+        temps = np.atleast_1d(to_kelvin(T)).astype(float).ravel()
+        model = self._model(temps)
+        thr = self._threshold(temps)
+        g = summarise(model, self.samples, "G", thr)
+        rows = []
+        for i, t in enumerate(temps):
+            rows.append(
+                {
+                    "T_K": float(t),
+                    "dG_mean_J_per_mol": float(g.mean[i]),
+                    "dG_std_J_per_mol": float(g.u[i]),
+                    "dG_median_J_per_mol": float(g.median[i]),
+                    "dG_lo_J_per_mol": float(g.lo[i]),
+                    "dG_hi_J_per_mol": float(g.hi[i]),
+                    "P_feasible": float(g.p_below[i]),
+                    "P_feasible_se": float(g.p_below_se[i]),
+                    "verdict": verdict(float(g.p_below[i]), self.confidence),
+                }
+            )
+        return rows[0] if np.ndim(to_kelvin(T)) == 0 else {"rows": rows}
+
+    def samples_at(self, T: float) -> np.ndarray:
+        """The N sampled ΔrG values (J/mol) at one temperature in K."""
+        return self._model(np.array([float(T)])).values("G", self.samples)[0]
+
+    # --- the call -------------------------------------------------------------------------------
+    def window(self) -> list[dict[str, Any]]:
+        """Temperature intervals of the grid where the verdict is "feasible".
+
+        Each edge is interpolated where P crosses the confidence level, with the Monte Carlo
+        standard error of that location (se of P divided by the slope of P there). An edge at the
+        end of the grid is marked open: the window may extend beyond it.
+        """
+        T = self.T
+        ok = self.p_feasible >= self.confidence
+        out = []
+        i = 0
+        while i < T.size:
+            if not ok[i]:
+                i += 1
+                continue
+            j = i
+            while j + 1 < T.size and ok[j + 1]:
+                j += 1
+            lo = self._edge(i - 1, i) if i > 0 else (float(T[0]), None, True)
+            hi = self._edge(j, j + 1) if j + 1 < T.size else (float(T[-1]), None, True)
+            out.append(
+                {
+                    "T_lo_K": lo[0],
+                    "T_lo_se_K": lo[1],
+                    "lo_open": lo[2],
+                    "T_hi_K": hi[0],
+                    "T_hi_se_K": hi[1],
+                    "hi_open": hi[2],
+                }
+            )
+            i = j + 1
+        return out
+
+    def _edge(self, a: int, b: int) -> tuple[float, float | None, bool]:
+        T, p, se, lvl = self.T, self.p_feasible, self.p_feasible_se, self.confidence
+        dp = p[b] - p[a]
+        if dp == 0:
+            return float(0.5 * (T[a] + T[b])), None, False
+        t = T[a] + (lvl - p[a]) / dp * (T[b] - T[a])
+        slope = abs(dp / (T[b] - T[a]))
+        err = float(max(se[a], se[b]) / slope) if slope > 0 else None
+        return float(t), err, False
+
+    def crossover(self, points: int = 201) -> dict[str, Any]:
+        """Distribution of the temperature where ΔrG crosses the threshold, per trial.
+
+        Over the grid's range on ``points`` temperatures; reports the fraction of trials with no
+        crossover in range and with more than one, the median and the 95 % interval of the first
+        crossing, and the trials' first crossings themselves are kept for sensitivity.
+        """
+        lo, hi = self.crossing_range or (float(self.T[0]), float(self.T[-1]))
+        if self._crossing is None:
+            grid = np.linspace(lo, hi, points)
+            model = self._model(grid)
+            first, count = crossings(model, self.samples, self._threshold(grid))
+            self._crossing = (grid, first, count)
+        _, first, count = self._crossing
+        hit = first[np.isfinite(first)]
+        n = self.samples.n
+        out: dict[str, Any] = {
+            "range_K": [lo, hi],
+            "fraction_none": float(1.0 - hit.size / n),
+            "fraction_several": float(np.count_nonzero(count > 1) / n),
+        }
+        if hit.size:
+            q = np.quantile(hit, [0.025, 0.5, 0.975])
+            out.update(
+                {
+                    "median_K": float(q[1]),
+                    "lo_K": float(q[0]),
+                    "hi_K": float(q[2]),
+                    "mean_K": float(hit.mean()),
+                    "std_K": float(hit.std(ddof=1)) if hit.size > 1 else 0.0,
+                }
+            )
+        return out
+
+    # --- uncertainty budget ---------------------------------------------------------------------
+    def sensitivity(self, T: Any) -> list[dict[str, Any]]:
+        """Inputs ranked by their share of Var(ΔrG(T)) (exact for this linear model).
+
+        Each row: species id, quantity (dHf, S298, cp), share (fractions summing to 1), and the
+        input's standard uncertainty and source. Inputs with no share are left out.
+        """
+        temps = np.atleast_1d(to_kelvin(T)).astype(float)[:1]
+        shares = variance_shares(self._model(temps), _input_covariance(self.samples))[0]
+        rows: list[dict[str, Any]] = []
+        for inp, share in zip(self.samples.inputs, shares, strict=True):
+            if share == 0:
+                continue
+            rows.append(
+                {
+                    "species": inp.key[0],
+                    "quantity": inp.key[1],
+                    "share": float(share),
+                    "u": inp.u,
+                    "source": inp.source,
+                }
+            )
+        rows.sort(key=lambda r: -abs(float(r["share"])))
+        return rows
+
+    def sensitivity_by_species(self, T: Any) -> list[tuple[str, float]]:
+        """Shares of Var(ΔrG(T)) summed per species-phase, largest first."""
+        totals: dict[str, float] = {}
+        for row in self.sensitivity(T):
+            totals[row["species"]] = totals.get(row["species"], 0.0) + row["share"]
+        return sorted(totals.items(), key=lambda kv: -abs(kv[1]))
+
+    def nonlinear_sensitivity(self, T: Any) -> dict[str, list[tuple[str, str, float]]]:
+        """First-order Sobol indices for the feasibility indicator at T and the crossover T.
+
+        Estimated from the kept draws (correlation ratio, no extra model runs); ranked, largest
+        first, inputs with index 0 left out.
+        """
+        t = float(np.atleast_1d(to_kelvin(T))[0])
+        keys = self.samples.keys
+        out: dict[str, list[tuple[str, str, float]]] = {}
+        y = (self.samples_at(t) < float(self._threshold(np.array([t]))[0])).astype(float)
+        out["feasible_indicator"] = _ranked(keys, first_order_indices(y, self.samples.values))
+        self.crossover()
+        assert self._crossing is not None
+        first = self._crossing[1]
+        hit = np.isfinite(first)
+        if np.count_nonzero(hit) >= 100:
+            idx = first_order_indices(first[hit], self.samples.values[:, hit])
+            out["crossover_T"] = _ranked(keys, idx)
+        return out
+
+    def gum(self) -> dict[str, np.ndarray]:
+        """First-order (GUM) result beside the Monte Carlo one, with the JCGM 101 §8 check.
+
+        ``validated`` is true where both interval ends of the GUM result agree with Monte Carlo
+        within δ (JCGM 101 §7.9.2 with 2 significant digits of u). The comparison is decisive only
+        where the Monte Carlo ends are themselves known to better than δ (2 standard errors ≤ δ,
+        §8.2 note); ``decisive`` says where, and more trials (or adaptive mode) make it so.
+        """
+        cov = _input_covariance(self.samples)
+        shift = np.array([inp.shift for inp in self.samples.inputs])
+        y = self.model.G0 + self.model.aG @ shift
+        u = gum_uncertainty(self.model, cov)
+        k = float(special.ndtri(1.0 - (1.0 - 0.95) / 2.0))
+        lo, hi = y - k * u, y + k * u
+        delta = numerical_tolerance(u, _ADAPTIVE_DIGITS)
+        d_low, d_high = np.abs(lo - self.G.lo), np.abs(hi - self.G.hi)
+        thr = self.threshold_J_per_mol
+        with np.errstate(divide="ignore", invalid="ignore"):
+            p = special.ndtr((thr - y) / u)
+        decisive = 2 * np.maximum(self.G.lo_se, self.G.hi_se) <= delta
+        return {
+            "y": y,
+            "u": u,
+            "lo": lo,
+            "hi": hi,
+            "d_low": d_low,
+            "d_high": d_high,
+            "delta": delta,
+            "validated": np.maximum(d_low, d_high) <= delta,
+            "decisive": decisive,
+            "P": p,
+        }
+
+    def shortest_interval(self, T: Any) -> tuple[float, float]:
+        """Shortest 95 % coverage interval of ΔrG at one temperature (JCGM 101 §7.7.2), J/mol."""
+        return shortest_interval(self.samples_at(float(np.atleast_1d(to_kelvin(T))[0])))
+
+    # --- output ---------------------------------------------------------------------------------
+    def rows(self) -> list[dict[str, Any]]:
+        """Per-temperature rows with the documented JSON keys (SI units in the key names)."""
+        k = self.log10_K()
+        gum = self.gum()
+        out = []
+        for i, t in enumerate(self.T):
+            out.append(
+                {
+                    "T_K": float(t),
+                    "dG_mean_J_per_mol": float(self.G.mean[i]),
+                    "dG_std_J_per_mol": float(self.G.u[i]),
+                    "dG_median_J_per_mol": float(self.G.median[i]),
+                    "dG_lo_J_per_mol": float(self.G.lo[i]),
+                    "dG_hi_J_per_mol": float(self.G.hi[i]),
+                    "dG_lo_se_J_per_mol": float(self.G.lo_se[i]),
+                    "dG_hi_se_J_per_mol": float(self.G.hi_se[i]),
+                    "dH_mean_J_per_mol": float(self.H.mean[i]),
+                    "dH_std_J_per_mol": float(self.H.u[i]),
+                    "dH_lo_J_per_mol": float(self.H.lo[i]),
+                    "dH_hi_J_per_mol": float(self.H.hi[i]),
+                    "dS_mean_J_per_mol_K": float(self.S.mean[i]),
+                    "dS_std_J_per_mol_K": float(self.S.u[i]),
+                    "dS_lo_J_per_mol_K": float(self.S.lo[i]),
+                    "dS_hi_J_per_mol_K": float(self.S.hi[i]),
+                    "log10_K_mean": float(k["mean"][i]),
+                    "log10_K_std": float(k["u"][i]),
+                    "log10_K_lo": float(k["lo"][i]),
+                    "log10_K_hi": float(k["hi"][i]),
+                    "threshold_J_per_mol": float(self.threshold_J_per_mol[i]),
+                    "P_feasible": float(self.p_feasible[i]),
+                    "P_feasible_se": float(self.p_feasible_se[i]),
+                    "verdict": self.verdicts[i],
+                    "gum_dG_std_J_per_mol": float(gum["u"][i]),
+                    "gum_validated": bool(gum["validated"][i]) if gum["decisive"][i] else None,
+                }
+            )
+        return out
+
+    def to_dict(self, sensitivity_at: float | None = None) -> dict[str, Any]:
+        """Plain data: settings, per-T rows, window, crossover and the ranked sensitivity."""
+        t_sens = sensitivity_at if sensitivity_at is not None else float(self.T[len(self.T) // 2])
+        out = {
+            "confidence": self.confidence,
+            "threshold": self.threshold_text,
+            "method": self.samples.method,
+            "seed": self.samples.seed,
+            "trials": self.trials,
+            "rows": self.rows(),
+            "feasible_window": self.window(),
+            "sensitivity_T_K": t_sens,
+            "sensitivity": self.sensitivity((t_sens, "K")),
+            "overrides": [
+                {
+                    "target": o.target,
+                    "quantity": o.quantity,
+                    "value": str(o.value),
+                    "uncertainty": str(o.uncertainty),
+                    "coverage": o.coverage,
+                    "distribution": o.distribution
+                    if isinstance(o.distribution, str)
+                    else repr(o.distribution),
+                    "reason": o.reason,
+                }
+                for o in self.overrides
+            ],
+        }
+        if self.adaptive is not None:
+            out["adaptive"] = self.adaptive.__dict__.copy()
+        if self.crossing_range is not None:
+            out["crossover_distribution"] = self.crossover()
+        return out
+
+
+def _ranked(keys: Sequence[InputKey], idx: np.ndarray) -> list[tuple[str, str, float]]:
+    rows = [(k[0], k[1], float(v)) for k, v in zip(keys, idx, strict=True) if v > 0]
+    return sorted(rows, key=lambda r: -r[2])
+
+
+def _threshold_fn(
+    threshold: Any, required_K: Any
+) -> tuple[Callable[[np.ndarray], np.ndarray], str]:
+    if required_K is not None:
+        if threshold not in (None, 0, "0 kJ/mol", "0 J/mol"):
+            raise UnitError(threshold, "threshold", "give a threshold or a required K, not both")
+        try:
+            k_req = float(required_K)
+        except (TypeError, ValueError):
+            raise UnitError(
+                required_K, "required equilibrium constant", "must be a number"
+            ) from None
+        if not k_req > 0 or not math.isfinite(k_req):
+            raise UnitError(required_K, "required equilibrium constant", "must be positive")
+        ln_k = math.log(k_req)
+        return (lambda T: -R * np.asarray(T, dtype=float) * ln_k), f"K ≥ {k_req:g}"
+    if threshold is None:
+        threshold = "0 J/mol"
+    value = float(np.squeeze(to_energy_per_mol(threshold)))
+    return (lambda T: np.full(np.shape(T), value)), f"ΔrG < {value / 1000:g} kJ/mol"
+
+
+def _temperatures(
+    T: Any, T_range: Any, points: int
+) -> tuple[np.ndarray, tuple[float, float] | None]:
+    if (T is None) == (T_range is None):
+        raise UnitError(T, "temperature choice", "give either T or T_range, not both or neither")
+    if T is not None:
+        return np.atleast_1d(to_kelvin(T)).astype(float).ravel(), None
+    lo, hi = (float(np.squeeze(to_kelvin(x))) for x in T_range)
+    if not hi > lo:
+        raise UnitError(T_range, "temperature range", "the upper end must be above the lower")
+    if not isinstance(points, int) or points < 2:
+        raise UnitError(points, "number of points", "need at least 2 temperatures")
+    return np.linspace(lo, hi, points), (lo, hi)
+
+
+def _pressure(standard_pressure: Any) -> float:
+    p = float(np.squeeze(to_pascal(standard_pressure)))
+    if math.isclose(p, ONE_BAR_PA):
+        return ONE_BAR_PA
+    if math.isclose(p, ONE_ATM_PA):
+        return ONE_ATM_PA
+    raise UnitError(standard_pressure, "standard pressure", "use 1 bar or 1 atm")
+
+
+def _adaptive(
+    samples: SampleSet,
+    model_fn: Callable[[SampleSet], Summary],
+    block: int,
+    max_trials: int,
+    progress: _Progress,
+) -> tuple[SampleSet, AdaptiveReport]:
+    """JCGM 101:2008 §7.9.4: add blocks of trials until every estimate is numerically stable."""
+    stats: list[Summary] = [model_fn(samples)]
+    converged = False
+    worst = math.inf
+    tol = 0.0
+    while True:
+        h = len(stats)
+        if h >= 2:
+
+            def sd(attr: str, h: int = h) -> np.ndarray:
+                vals = np.array([getattr(s, attr) for s in stats])
+                return vals.std(axis=0, ddof=1) / math.sqrt(h)
+
+            pooled_u = np.sqrt(np.mean([s.u**2 for s in stats], axis=0))
+            delta = numerical_tolerance(pooled_u, _ADAPTIVE_DIGITS)
+            ratios = [
+                2 * sd(a) / np.where(delta > 0, delta, np.inf) for a in ("mean", "u", "lo", "hi")
+            ]
+            ratios.append(2 * sd("p_below") / _P_TOLERANCE)
+            worst = float(np.max(ratios))
+            tol = float(np.min(delta))
+            if worst <= 1.0:
+                converged = True
+                break
+        if samples.n + block > max_trials:
+            break
+        samples = extend_samples(samples, block)
+        stats.append(model_fn(_block(samples, samples.n - block, samples.n)))
+        progress.update(samples.n)
+    return samples, AdaptiveReport(samples.n, len(stats), block, converged, tol, worst)
+
+
+def assess_uncertainty(
+    equation: str | Reaction,
+    T: Any = None,
+    T_range: Any = None,
+    points: int = 41,
+    *,
+    samples: int = 100_000,
+    seed: int | None = None,
+    method: Method = "mc",
+    adaptive: bool = False,
+    confidence: float = 0.95,
+    threshold: Any = "0 J/mol",
+    required_K: Any = None,
+    overrides: Sequence[Override] = (),
+    correlations: Mapping[tuple[InputKey, InputKey], float] | None = None,
+    partial_pressures: Mapping[str, Any] | None = None,
+    standard_pressure: Any = "1 bar",
+    library: Library | None = None,
+    balance: bool = False,
+    max_trials: int = _ADAPTIVE_MAX_TRIALS,
+    progress: bool | None = None,
+) -> UncertainAssessment:
+    """Monte Carlo feasibility of a reaction: P(ΔrG < threshold), verdict and window over T.
+
+    ``samples`` trials (a power of two for ``method="sobol"``) are drawn from a generator seeded
+    with ``seed``; ``adaptive=True`` instead adds blocks of trials until the JCGM 101 §7.9
+    tolerance is met at every grid temperature. ``threshold`` is a molar Gibbs energy with units,
+    or ``required_K`` a required equilibrium constant (then ΔrG° < −RT ln K_req). ``overrides``
+    replace library values or uncertainties; ``correlations`` maps pairs of inputs
+    ``((id, quantity), (id, quantity))`` to correlation coefficients.
+
+    >>> a = assess_uncertainty("MgCO3 -> MgO + CO2", T="800 K", samples=4096, seed=1)
+    >>> a.verdicts
+    ['feasible']
+    """
+    confidence = _check_confidence(confidence)
+    library = library or default_library()
+    rxn = equation if isinstance(equation, Reaction) else Reaction.parse(equation, library, balance)
+    temps, crossing_range = _temperatures(T, T_range, points)
+    p_std = _pressure(standard_pressure)
+    thr_fn, thr_text = _threshold_fn(threshold, required_K)
+    pressures = {
+        name: float(np.squeeze(to_pascal(v))) for name, v in (partial_pressures or {}).items()
+    }
+    if pressures and required_K is not None:
+        raise UnitError(
+            required_K,
+            "criterion",
+            "a required K refers to the standard state; "
+            "with partial pressures give a ΔrG threshold instead",
+        )
+    inputs = build_inputs(uncertain_species(rxn), overrides)
+    corr = correlation_matrix(inputs, correlations)
+    if adaptive:
+        if not isinstance(max_trials, int) or max_trials < 2:
+            raise InvalidUncertainty(f"max_trials {max_trials!r} must be an integer ≥ 2")
+        # JCGM 101 §7.9.4 a): block size M = max(100/(1 − p), 10^4) trials; 2^14 for Sobol blocks.
+        block = max(math.ceil(100 / (1 - 0.95)), 10_000) if method == "mc" else 2**14
+        n0 = block
+    else:
+        n0 = samples
+    show = progress if progress is not None else (adaptive or n0 * temps.size >= _PROGRESS_WORK)
+    bar = _Progress(max_trials if adaptive else n0, bool(show))
+    drawn = draw_samples(inputs, n0, method=method, seed=seed, correlation=corr)
+    bar.update(drawn.n)
+    report = None
+    if adaptive:
+
+        def one(s: SampleSet) -> Summary:
+            lnQ = None
+            if pressures:
+                lnQ, _ = _reaction_quotient(rxn, pressures, p_std, temps)
+            return summarise(linear_model(rxn, temps, s, p_std, lnQ), s, "G", thr_fn(temps))
+
+        drawn, report = _adaptive(drawn, one, block, max_trials, bar)
+    bar.close()
+    return UncertainAssessment(
+        rxn,
+        drawn,
+        temps,
+        confidence,
+        thr_fn,
+        thr_text,
+        p_std,
+        pressures,
+        overrides,
+        library,
+        report,
+        crossing_range,
+    )
+
+
+@dataclass
+class Route:
+    """Several steps, each at its own temperature, over one shared set of draws."""
+
+    steps: list[tuple[Reaction, float]]
+    samples: SampleSet
+    thresholds: list[float]
+    p_steps: list[float]
+    p_steps_se: list[float]
+    p_all: float
+    p_all_se: float
+
+    @property
+    def p_independent(self) -> float:
+        """What P(all) would be if the steps shared no species: the product of the step P's."""
+        return float(np.prod(self.p_steps))
+
+
+def assess_route(
+    steps: Sequence[tuple[str | Reaction, Any]],
+    *,
+    samples: int = 100_000,
+    seed: int | None = None,
+    method: Method = "mc",
+    threshold: Any = "0 J/mol",
+    overrides: Sequence[Override] = (),
+    correlations: Mapping[tuple[InputKey, InputKey], float] | None = None,
+    library: Library | None = None,
+) -> Route:
+    """P(every step is feasible) for a route of (equation, temperature) steps, shared draws.
+
+    >>> r = assess_route([("MgCO3 -> MgO + CO2", "800 K"), ("MgO + 2 HCl -> MgCl2 + H2O", "400 K")],
+    ...                  samples=4096, seed=3)
+    >>> r.p_all <= min(r.p_steps)
+    True
+    """
+    library = library or default_library()
+    rxns = [(s if isinstance(s, Reaction) else Reaction.parse(s, library), t) for s, t in steps]
+    if not rxns:
+        raise FeasiblyError("a route needs at least one step")
+    species = {sp.id: sp for rxn, _ in rxns for sp in uncertain_species(rxn)}
+    inputs = build_inputs(species.values(), overrides)
+    corr = correlation_matrix(inputs, correlations)
+    drawn = draw_samples(inputs, samples, method=method, seed=seed, correlation=corr)
+    thr_fn, _ = _threshold_fn(threshold, None)
+    models, thrs, temps = [], [], []
+    for rxn, t in rxns:
+        tk = float(np.squeeze(to_kelvin(t)))
+        models.append(linear_model(rxn, np.array([tk]), drawn))
+        thrs.append(float(thr_fn(np.array([tk]))[0]))
+        temps.append(tk)
+    p_steps, p_se = [], []
+    for m, thr in zip(models, thrs, strict=True):
+        p, se = route_probability([m], drawn, [thr])
+        p_steps.append(p)
+        p_se.append(se)
+    p_all, p_all_se = route_probability(models, drawn, thrs)
+    return Route(
+        [(r, t) for (r, _), t in zip(rxns, temps, strict=True)],
+        drawn,
+        thrs,
+        p_steps,
+        p_se,
+        p_all,
+        p_all_se,
+    )

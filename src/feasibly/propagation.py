@@ -1,0 +1,384 @@
+"""Propagating property-data uncertainty to ΔrG(T), K and the probability that a step is feasible.
+
+Every reaction quantity here is exactly linear in the uncertain inputs of
+:mod:`feasibly.uncertainty` (ΔfH° and S° shifts, heat-capacity factors), so each is
+``nominal(T) + a(T) · x``: the coefficient rows ``a(T)`` come from the species' own
+increments, the draws ``x`` are shared, and the Monte Carlo ΔrG for N trials at T temperatures
+is one matrix product, evaluated in temperature blocks so that memory stays small. The same rows
+give the first-order (GUM uncertainty framework) result and the exact variance shares.
+
+Increments for the heat-capacity factor are taken from the entry's anchor temperature: 298.15 K
+when the entry's range contains it, otherwise the end of its range nearest to 298.15 K, so that a
+phase which does not exist at 298.15 K is not scaled by an extrapolation.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+import numpy as np
+from scipy import special
+
+from ._selection import blocked_statistics
+from .errors import FeasiblyError, InvalidUncertainty
+from .reaction import Reaction
+from .species import Species
+from .thermo_functions import T_REF, R
+from .uncertainty import SampleSet
+
+__all__ = [
+    "LinearModel",
+    "anchor_temperature",
+    "linear_model",
+    "numerical_tolerance",
+    "summarise",
+]
+
+_LN10 = math.log(10.0)
+#: Coverage probability of the reported intervals (JCGM 101:2008 §7.7: 95 % is the usual choice).
+COVERAGE = 0.95
+
+
+def anchor_temperature(sp: Species) -> float:
+    """Temperature from which the heat-capacity factor scales this entry's increments, K."""
+    lo, hi = sp.T_range
+    return min(max(T_REF, lo), hi)
+
+
+@dataclass(frozen=True)
+class LinearModel:
+    """ΔrH°, ΔrS°, ΔrG° at temperatures ``T`` as nominal + coefficients · input deviations.
+
+    ``aH``, ``aS``, ``aG`` have shape (len(T), n_inputs) in the order of the sample set's inputs;
+    ``H0``, ``S0``, ``G0`` are the values at the library nominals (J/mol, J/(mol·K)), with RT ln Q
+    already in ``G0`` when ``lnQ`` was given.
+    """
+
+    T: np.ndarray
+    H0: np.ndarray
+    S0: np.ndarray
+    G0: np.ndarray
+    aH: np.ndarray
+    aS: np.ndarray
+    aG: np.ndarray
+
+    def mean(self, which: str, samples: SampleSet) -> np.ndarray:
+        """Monte Carlo mean over the samples (exactly the mean of the sampled outputs)."""
+        nominal, coef = self._pick(which)
+        return nominal + coef @ samples.values.mean(axis=1)
+
+    def _pick(self, which: str) -> tuple[np.ndarray, np.ndarray]:
+        return {"H": (self.H0, self.aH), "S": (self.S0, self.aS), "G": (self.G0, self.aG)}[which]
+
+    def values(self, which: str, samples: SampleSet, rows: slice = slice(None)) -> np.ndarray:
+        """The sampled outputs for temperature rows ``rows``: shape (rows, N)."""
+        nominal, coef = self._pick(which)
+        out = coef[rows] @ samples.values
+        out += nominal[rows, None]
+        return out
+
+
+def uncertain_species(rxn: Reaction) -> list[Species]:
+    """Every entry whose inputs a reaction's uncertainty depends on: the phases it may use and
+    the neighbours those are carried from at their transitions."""
+    seen: dict[str, Species] = {}
+    stack = list(rxn.species_used())
+    while stack:
+        sp = stack.pop()
+        if sp.id in seen:
+            continue
+        seen[sp.id] = sp
+        parent = rxn.library.transition_parent(sp)
+        if parent is not None:
+            stack.append(parent)
+    return [seen[k] for k in sorted(seen)]
+
+
+def _deviation_rows(
+    sp: Species,
+    T: np.ndarray,
+    rxn: Reaction,
+    keys: dict[tuple[str, str], int],
+    out_h: np.ndarray,
+    out_s: np.ndarray,
+    nu: float,
+    mask: np.ndarray,
+) -> None:
+    """Add ν × (∂H/∂x, ∂S/∂x) of entry ``sp`` at temperatures ``T`` (rows ``mask``) in place."""
+    try:
+        jH, jS, jc = keys[(sp.id, "dHf")], keys[(sp.id, "S298")], keys[(sp.id, "cp")]
+    except KeyError:
+        raise FeasiblyError(
+            f"the sample set has no draws for {sp.id}; draw samples for every "
+            "species of the reactions you compare"
+        ) from None
+    t_a = anchor_temperature(sp)
+    ta = np.array([t_a])
+    out_h[mask, jc] += nu * (sp.cp_model.h_inc(T) - sp.cp_model.h_inc(ta))
+    out_s[mask, jc] += nu * (sp.cp_model.s_inc(T) - sp.cp_model.s_inc(ta))
+    out_h[mask, jH] += nu
+    parent = rxn.library.transition_parent(sp)
+    if parent is None:
+        out_s[mask, jS] += nu
+        return
+    # Carried from its neighbour at the transition T_a: the own input is the transition
+    # enthalpy's deviation, with ΔS_tr = ΔH_tr / T_a, plus the neighbour's deviation at T_a.
+    out_s[mask, jH] += nu / t_a
+    _deviation_rows(parent, np.full(T.shape, t_a), rxn, keys, out_h, out_s, nu, mask)
+
+
+def linear_model(
+    rxn: Reaction,
+    T: np.ndarray,
+    samples: SampleSet,
+    standard_pressure: float = 1e5,
+    lnQ: np.ndarray | None = None,
+) -> LinearModel:
+    """Coefficients of ΔrH°, ΔrS°, ΔrG° in the inputs of ``samples`` at temperatures ``T``.
+
+    Raises when the reaction uses a species-phase whose inputs the sample set does not hold.
+    """
+    from .assessment import standard_properties
+
+    T = np.atleast_1d(np.asarray(T, dtype=float))
+    std = standard_properties(rxn, T, standard_pressure)
+    keys = {k: i for i, k in enumerate(samples.keys)}
+    n = len(keys)
+    aH = np.zeros((T.size, n))
+    aS = np.zeros((T.size, n))
+    plan = rxn.phase_plan(T)
+    for term, idx in zip(rxn.terms, plan, strict=True):
+        for k, sp in enumerate(term.candidates):
+            mask = idx == k
+            if np.any(mask):
+                _deviation_rows(sp, T[mask], rxn, keys, aH, aS, term.nu, mask)
+    aG = aH - T[:, None] * aS
+    G0 = std.dG + (R * T * lnQ if lnQ is not None else 0.0)
+    return LinearModel(T, std.dH, std.dS, G0, aH, aS, aG)
+
+
+# Bytes of sampled outputs held per worker at a time: small enough that N = 10^6 trials on two
+# cores stays far below 300 MB, large enough that the matrix products stay efficient.
+_BLOCK_BYTES = 16 * 2**20
+
+
+def block_rows(n: int) -> int:
+    """Temperature rows per block for N trials (at least 1)."""
+    return max(1, _BLOCK_BYTES // (8 * max(n, 1)))
+
+
+def sample_moments(samples: SampleSet) -> tuple[np.ndarray, np.ndarray]:
+    """Mean (n,) and covariance (n, n, ddof = 1) of the input draws, without copying them."""
+    x = samples.values
+    n = x.shape[1]
+    xbar = x.mean(axis=1)
+    second = (x @ x.T) / n
+    cov = (second - np.outer(xbar, xbar)) * (n / (n - 1))
+    return xbar, np.atleast_2d(cov)
+
+
+def numerical_tolerance(u: np.ndarray, digits: int = 2) -> np.ndarray:
+    """JCGM 101:2008 §7.9.2: δ = ½·10^ℓ where u is written c × 10^ℓ with ``digits`` digits in c."""
+    u = np.asarray(u, dtype=float)
+    with np.errstate(divide="ignore"):
+        ell = np.floor(np.log10(np.where(u > 0, u, np.nan))) - (digits - 1)
+    return np.where(u > 0, 0.5 * 10.0**ell, 0.0)
+
+
+@dataclass(frozen=True)
+class Summary:
+    """Monte Carlo summary of one output at each temperature (arrays over T; units of the output).
+
+    ``lo``/``hi`` are the ends of the probabilistically symmetric 95 % coverage interval (JCGM 101
+    §7.7.1), ``*_se`` the Monte Carlo standard errors of the quantiles (order statistics), and
+    ``p_below`` the fraction of trials below ``threshold`` with its standard error.
+    """
+
+    mean: np.ndarray
+    u: np.ndarray
+    median: np.ndarray
+    lo: np.ndarray
+    hi: np.ndarray
+    median_se: np.ndarray
+    lo_se: np.ndarray
+    hi_se: np.ndarray
+    p_below: np.ndarray
+    p_below_se: np.ndarray
+    n: int
+
+
+def summarise(
+    model: LinearModel,
+    samples: SampleSet,
+    which: str = "G",
+    threshold: np.ndarray | float = 0.0,
+    coverage: float = COVERAGE,
+    chunk: int | None = None,
+) -> Summary:
+    """Mean, u, median, coverage interval and P(output < threshold) at every temperature.
+
+    Mean and standard deviation come from the sample moments of the inputs through the linear rows
+    (identical to the moments of the sampled outputs); quantiles and probabilities come from the
+    sampled outputs themselves, selected exactly (the same numbers as ``numpy.quantile``).
+    """
+    if not 0.0 < coverage < 1.0:
+        raise InvalidUncertainty(
+            f"coverage probability {coverage!r} must lie strictly between 0 and 1"
+        )
+    nominal, coef = model._pick(which)
+    n = samples.n
+    xbar, cov = sample_moments(samples)
+    mean = nominal + coef @ xbar
+    var = np.einsum("ij,jk,ik->i", coef, cov, coef)
+    u = np.sqrt(np.clip(var, 0.0, None))
+    tail = (1.0 - coverage) / 2.0
+    probs = (tail, 0.5, 1.0 - tail)
+    thr = np.broadcast_to(np.asarray(threshold, dtype=float), model.T.shape).copy()
+    from threadpoolctl import threadpool_limits
+
+    with threadpool_limits(limits=1, user_api="blas"):
+        q, e, below = blocked_statistics(
+            lambda i, j: model.values(which, samples, slice(i, j)),
+            model.T.size,
+            mean,
+            u,
+            probs,
+            thr,
+            chunk=chunk or block_rows(n),
+        )
+    p = below / n
+    return Summary(
+        mean,
+        u,
+        q[:, 1],
+        q[:, 0],
+        q[:, 2],
+        e[:, 1],
+        e[:, 0],
+        e[:, 2],
+        p,
+        np.sqrt(p * (1.0 - p) / n),
+        n,
+    )
+
+
+def gum_uncertainty(model: LinearModel, covariance: np.ndarray, which: str = "G") -> np.ndarray:
+    """First-order (GUM, JCGM 100:2008 eq. 13) standard uncertainty: √(aᵀ Σ a) per temperature."""
+    _, coef = model._pick(which)
+    return np.sqrt(np.clip(np.einsum("ij,jk,ik->i", coef, covariance, coef), 0.0, None))
+
+
+def variance_shares(model: LinearModel, covariance: np.ndarray, which: str = "G") -> np.ndarray:
+    """Each input's share of the first-order variance, shape (len(T), n_inputs); rows sum to 1.
+
+    ``a_j (Σ a)_j / aᵀ Σ a``: for independent inputs the familiar a_j² u_j² / u_c²; with
+    correlations a share may be negative (the input then offsets another).
+    """
+    _, coef = model._pick(which)
+    total = np.einsum("ij,jk,ik->i", coef, covariance, coef)
+    contrib = coef * (coef @ covariance)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.where(total[:, None] > 0, contrib / total[:, None], 0.0)
+
+
+def first_order_indices(y: np.ndarray, x: np.ndarray, bins: int | None = None) -> np.ndarray:
+    """First-order Sobol indices of output samples ``y`` (N,) from given input samples ``x`` (n, N).
+
+    Correlation-ratio estimator from given data: sort by each input, cut into equal-count bins, and
+    take Var(bin means of y) / Var(y), less the bias of bin means of pure noise (from memory:
+    Plischke, Borgonovo & Smith, Eur. J. Oper. Res. 226 (2013) 536). Needs no extra model runs, so
+    it works for non-linear outputs such as indicators and crossover temperatures.
+    """
+    y = np.asarray(y, dtype=float)
+    n = y.size
+    var = y.var()
+    if n < 100 or var == 0:
+        return np.zeros(x.shape[0])
+    b = bins or max(8, min(64, int(math.sqrt(n) / 4)))
+    out = np.empty(x.shape[0])
+    edges = np.linspace(0, n, b + 1).astype(int)
+    counts = np.diff(edges)
+    for j in range(x.shape[0]):
+        ys = y[np.argsort(x[j], kind="stable")]
+        means = np.add.reduceat(ys, edges[:-1]) / counts
+        between = np.sum(counts * (means - ys.mean()) ** 2) / n
+        out[j] = max(0.0, between / var - (b - 1) / (n - 1))
+    return out
+
+
+def normal_cdf(x: np.ndarray) -> np.ndarray:
+    """Standard normal CDF (scipy.special.ndtr)."""
+    return special.ndtr(x)
+
+
+def crossings(
+    model: LinearModel,
+    samples: SampleSet,
+    threshold: np.ndarray | float = 0.0,
+    chunk: int | None = None,
+) -> tuple[np.ndarray, np.ndarray]:
+    """For each trial, the first temperature where ΔrG crosses ``threshold``, and how many times.
+
+    ``model.T`` must be an ascending grid; crossings are located by linear interpolation between
+    grid points (trials that never cross get NaN).
+    """
+    T = model.T
+    thr = np.broadcast_to(np.asarray(threshold, dtype=float), T.shape)
+    n = samples.n
+    first = np.full(n, np.nan)
+    count = np.zeros(n, dtype=np.int64)
+    prev = None
+    chunk = chunk or block_rows(n)
+    for start in range(0, T.size, chunk):
+        block = model.values("G", samples, slice(start, min(start + chunk, T.size)))
+        block -= thr[start : start + block.shape[0], None]
+        for i in range(block.shape[0]):
+            cur = block[i]
+            k = start + i
+            if prev is not None:
+                flip = (prev < 0) != (cur < 0)
+                if np.any(flip):
+                    new = flip & np.isnan(first)
+                    frac = prev[new] / (prev[new] - cur[new])
+                    first[new] = T[k - 1] + frac * (T[k] - T[k - 1])
+                    count += flip
+            prev = cur
+    return first, count
+
+
+def symmetric_interval_from(values: np.ndarray, coverage: float = COVERAGE) -> tuple[float, float]:
+    """Probabilistically symmetric interval of a 1-D sample (JCGM 101 §7.7.1), numpy's rule."""
+    tail = (1.0 - coverage) / 2.0
+    lo, hi = np.quantile(values, [tail, 1.0 - tail])
+    return float(lo), float(hi)
+
+
+def shortest_interval(values: np.ndarray, coverage: float = COVERAGE) -> tuple[float, float]:
+    """Shortest coverage interval of a 1-D sample (JCGM 101:2008 §7.7.2)."""
+    v = np.sort(np.asarray(values, dtype=float))
+    n = v.size
+    q = round(coverage * n)  # §7.7.2: q = pM, rounded to an integer
+    if q < 1 or q >= n:
+        raise InvalidUncertainty("too few trials for a shortest coverage interval")
+    widths = v[q:] - v[: n - q]
+    r = int(np.argmin(widths))
+    return float(v[r]), float(v[r + q])
+
+
+def route_probability(
+    models: Sequence[LinearModel], samples: SampleSet, thresholds: Sequence[float]
+) -> tuple[float, float]:
+    """P(every step's ΔrG < its threshold) over shared draws, with its standard error.
+
+    Each model holds one temperature (the step's own); the steps share every common species'
+    draws, so the joint probability is not the product of the separate ones.
+    """
+    ok = np.ones(samples.n, dtype=bool)
+    for m, thr in zip(models, thresholds, strict=True):
+        if m.T.size != 1:
+            raise FeasiblyError("each step of a route is evaluated at one temperature")
+        ok &= m.values("G", samples)[0] < thr
+    p = float(ok.mean())
+    return p, math.sqrt(p * (1 - p) / samples.n)

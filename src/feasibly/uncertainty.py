@@ -1,0 +1,463 @@
+"""Uncertain inputs: their distributions, user overrides, correlations, and reproducible draws.
+
+Each species-phase entry contributes three inputs: a shift of ΔfH°(298.15 K) (J/mol), a shift of
+S°(298.15 K) (J/(mol·K)) and a relative heat-capacity factor ε (Cp → (1 + ε)·Cp). By default each
+is normal with the data's standard uncertainty; users may override the value, the uncertainty (with
+its coverage as they have it), the distribution, and correlations between inputs. One draw per
+input is shared wherever that species-phase appears, so reactions evaluated on the same
+:class:`SampleSet` are correlated through their common species.
+
+Sampling is plain Monte Carlo or scrambled Sobol quasi-Monte Carlo (``scipy.stats.qmc``), always
+from a seeded :class:`numpy.random.Generator`; correlated inputs are drawn through a Gaussian
+copula (exact correlation for normal inputs).
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from collections.abc import Iterable, Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any, Literal
+
+import numpy as np
+from scipy import special
+from scipy.stats import qmc
+
+from .errors import FeasiblyError, InvalidUncertainty, UnitError
+from .library import standard_uncertainty
+from .species import Species
+from .units import Q_, to_energy_per_mol
+
+__all__ = [
+    "QUANTITIES",
+    "InputKey",
+    "Override",
+    "SampleSet",
+    "UncertainInput",
+    "build_inputs",
+    "draw_samples",
+    "parse_override",
+]
+
+#: The three uncertain quantities of every species-phase entry, and their SI units.
+QUANTITIES = {"dHf": "J/mol", "S298": "J/(mol·K)", "cp": "1"}
+
+InputKey = tuple[str, str]
+Method = Literal["mc", "sobol"]
+_DISTRIBUTIONS = ("normal", "uniform", "triangular")
+# Coverage words users type, mapped onto the library's conventions (JCGM 100:2008 Table G.1).
+_COVERAGE_WORDS = {
+    "standard": "standard",
+    "1 sigma": "standard",
+    "k=1": "standard",
+    "k=2": "k=2",
+    "2 sigma": "k=2",
+    "95%": "expanded-95",
+    "95 %": "expanded-95",
+    "expanded-95": "expanded-95",
+    "rectangular": "half-width-rectangular",
+    "half-width-rectangular": "half-width-rectangular",
+}
+# Columns transformed at a time when correlating draws (bounds the temporary to ~8 MB at d = 16).
+_COLUMN_CHUNK = 65536
+# Uniform draws are kept inside (2^-53, 1 - 2^-53) so that inverse CDFs stay finite.
+_U_EPS = 2.0**-53
+
+
+def _coverage(text: str) -> str:
+    key = re.sub(r"\s+", " ", str(text).strip().lower())
+    if key in _COVERAGE_WORDS:
+        return _COVERAGE_WORDS[key]
+    if re.fullmatch(r"k\s*=\s*[0-9.]+", key):
+        return key.replace(" ", "")
+    known = ", ".join(sorted(set(_COVERAGE_WORDS)))
+    raise InvalidUncertainty(f"coverage {text!r} not understood; use one of {known} or k=<number>")
+
+
+@dataclass(frozen=True)
+class Override:
+    """A user's own value and/or uncertainty for one input, with the reason for it.
+
+    ``target`` is a library id (``"MgCO3(cr)"``); ``quantity`` one of ``dHf``, ``S298``, ``cp``.
+    ``value`` and ``uncertainty`` carry units (``"-1111.7 kJ/mol"``, ``"4 kJ/mol"``,
+    ``"2 J/(mol*K)"``; for ``cp`` a factor such as ``1.05`` and a relative uncertainty such as
+    ``"5 %"`` or ``0.05``). ``coverage`` says how the uncertainty is stated: ``"standard"``,
+    ``"k=2"``, ``"95%"`` or ``"rectangular"`` (± half-width). ``distribution`` is ``"normal"``,
+    ``"uniform"``, ``"triangular"`` or a frozen ``scipy.stats`` distribution of the value itself.
+    ``reason`` is required: it goes into every record of the result.
+    """
+
+    target: str
+    quantity: str
+    reason: str
+    value: Any = None
+    uncertainty: Any = None
+    coverage: str = "standard"
+    distribution: Any = "normal"
+
+    def __post_init__(self) -> None:
+        if self.quantity not in QUANTITIES:
+            raise InvalidUncertainty(
+                f"override of {self.target}: quantity {self.quantity!r} is not one of "
+                f"{', '.join(QUANTITIES)}"
+            )
+        if not isinstance(self.reason, str) or not self.reason.strip():
+            raise InvalidUncertainty(
+                f"override of {self.target} {self.quantity}: say why (a reason or source note is "
+                "required so that the record shows where the number came from)"
+            )
+        if self.value is None and self.uncertainty is None and isinstance(self.distribution, str):
+            raise InvalidUncertainty(
+                f"override of {self.target} {self.quantity} changes nothing: give a value, an "
+                "uncertainty or a distribution"
+            )
+
+
+def _to_si(quantity: str, value: Any, what: str) -> float:
+    """A user value for one quantity in SI (J/mol, J/(mol·K), or a pure number for cp)."""
+    if quantity == "dHf":
+        return float(np.squeeze(to_energy_per_mol(value)))
+    if quantity == "S298":
+        if isinstance(value, (int, float)) and not isinstance(value, bool):
+            raise UnitError(
+                value, "molar entropy", "a bare number is ambiguous; write '2 J/(mol*K)'"
+            )
+        try:
+            q = value if hasattr(value, "to") else Q_(str(value).replace("·", "*"))
+            return float(q.to("J/(mol*K)").magnitude)
+        except Exception as exc:  # pint raises several unrelated types
+            raise UnitError(value, "molar entropy", f"{what}: {exc}") from None
+    # cp: dimensionless factor or relative uncertainty; "5 %" or 0.05
+    if isinstance(value, (int, float)) and not isinstance(value, bool):
+        return float(value)
+    try:
+        q = value if hasattr(value, "to") else Q_(str(value).replace("%", " percent"))
+        return float(q.to("dimensionless").magnitude)
+    except Exception as exc:  # pint raises several unrelated types
+        raise UnitError(value, "relative heat-capacity factor", f"{what}: {exc}") from None
+
+
+@dataclass(frozen=True)
+class UncertainInput:
+    """One uncertain input: nominal shift from the library value, distribution and provenance.
+
+    Draws are deviations from the library value in SI: ``shift`` is added to every draw (the
+    user's new nominal minus the library's), ``u`` is the standard uncertainty.
+    """
+
+    key: InputKey
+    u: float
+    distribution: Any = "normal"
+    shift: float = 0.0
+    source: str = ""
+    override: Override | None = None
+    nominal: float = 0.0  # the library value (1 for the cp factor), for user-given distributions
+
+    def __post_init__(self) -> None:
+        if not math.isfinite(self.u) or self.u < 0:
+            raise InvalidUncertainty(
+                f"{self.key[0]} {self.key[1]}: uncertainty {self.u!r} is not a finite number ≥ 0"
+            )
+        if isinstance(self.distribution, str):
+            if self.distribution not in _DISTRIBUTIONS:
+                raise InvalidUncertainty(
+                    f"{self.key[0]} {self.key[1]}: unknown distribution {self.distribution!r}; "
+                    f"use one of {', '.join(_DISTRIBUTIONS)} or a frozen scipy.stats distribution"
+                )
+        elif not (hasattr(self.distribution, "ppf") and hasattr(self.distribution, "std")):
+            raise InvalidUncertainty(
+                f"{self.key[0]} {self.key[1]}: a user-given distribution must "
+                "be a frozen scipy.stats distribution (with ppf and std)"
+            )
+
+    @property
+    def is_normal(self) -> bool:
+        return isinstance(self.distribution, str) and self.distribution == "normal"
+
+    def from_uniform(self, u01: np.ndarray) -> np.ndarray:
+        """Deviations from the library value for uniform draws in (0, 1) (inverse CDF)."""
+        d = self.distribution
+        if d == "normal":
+            return self.shift + self.u * special.ndtri(u01)
+        if d == "uniform":
+            return self.shift + math.sqrt(3.0) * self.u * (2.0 * u01 - 1.0)
+        if d == "triangular":
+            a = math.sqrt(6.0) * self.u  # symmetric triangular of half-width a has u = a/√6
+            return self.shift + a * np.where(
+                u01 < 0.5, np.sqrt(2.0 * u01) - 1.0, 1.0 - np.sqrt(2.0 * (1.0 - u01))
+            )
+        return np.asarray(d.ppf(u01), dtype=float) - self.nominal
+
+
+def _nominal(sp: Species, quantity: str) -> float:
+    return {"dHf": sp.dHf.value, "S298": sp.S298.value, "cp": 1.0}[quantity]
+
+
+def _library_u(sp: Species, quantity: str) -> tuple[float, str]:
+    if quantity == "dHf":
+        return sp.dHf.u, sp.dHf.uncertainty.get("source", sp.dHf.source)
+    if quantity == "S298":
+        return sp.S298.u, sp.S298.uncertainty.get("source", sp.S298.source)
+    return sp.cp_u_rel, str(sp.cp_source.get("uncertainty", {}).get("source", "library"))
+
+
+def build_inputs(
+    species: Iterable[Species], overrides: Sequence[Override] = ()
+) -> list[UncertainInput]:
+    """The uncertain inputs of a set of species-phase entries, with overrides applied.
+
+    Inputs come in a fixed order: species by id, then ``dHf``, ``S298``, ``cp``.
+    """
+    entries = {sp.id: sp for sp in species}
+    by_key: dict[InputKey, Override] = {}
+    for given in overrides:
+        if given.target not in entries:
+            near = sorted(entries)
+            raise InvalidUncertainty(
+                f"override target {given.target!r} is not a species-phase of "
+                f"this calculation; those are: {', '.join(near)}"
+            )
+        key = (given.target, given.quantity)
+        if key in by_key:
+            raise InvalidUncertainty(f"two overrides for {given.target} {given.quantity}")
+        by_key[key] = given
+    out = []
+    for sid in sorted(entries):
+        sp = entries[sid]
+        for q in QUANTITIES:
+            u, src = _library_u(sp, q)
+            ov: Override | None = by_key.get((sid, q))
+            dist: Any = "normal"
+            shift = 0.0
+            if ov is not None:
+                if ov.value is not None:
+                    new = _to_si(q, ov.value, "value")
+                    shift = new - _nominal(sp, q)
+                if ov.uncertainty is not None:
+                    stated = _to_si(q, ov.uncertainty, "uncertainty")
+                    u = standard_uncertainty(stated, _coverage(ov.coverage))
+                if not isinstance(ov.distribution, str):
+                    dist = ov.distribution
+                    u = float(dist.std())
+                    shift = 0.0
+                else:
+                    dist = ov.distribution
+                src = f"override: {ov.reason}"
+            out.append(
+                UncertainInput((sid, q), float(u), dist, float(shift), src, ov, _nominal(sp, q))
+            )
+    return out
+
+
+def _check_correlation(matrix: np.ndarray, labels: Sequence[str]) -> np.ndarray:
+    m = np.asarray(matrix, dtype=float)
+    if m.ndim != 2 or m.shape[0] != m.shape[1] or m.shape[0] != len(labels):
+        raise InvalidUncertainty(
+            f"the correlation matrix must be {len(labels)} × {len(labels)} "
+            f"(one row and column per input: {', '.join(labels)})"
+        )
+    if not np.all(np.isfinite(m)):
+        raise InvalidUncertainty("the correlation matrix holds a non-finite value")
+    if not np.allclose(m, m.T, atol=1e-12):
+        raise InvalidUncertainty("the correlation matrix is not symmetric")
+    if not np.allclose(np.diag(m), 1.0, atol=1e-12):
+        raise InvalidUncertainty("the correlation matrix must have 1 on its diagonal")
+    if np.any(np.abs(m) > 1.0 + 1e-12):
+        raise InvalidUncertainty("correlations must lie between −1 and 1")
+    eig = np.linalg.eigvalsh(m)
+    # −1e-10: rounding noise of an exactly singular (but valid) matrix; anything lower is not one.
+    if eig.min() < -1e-10:
+        raise InvalidUncertainty(
+            f"the correlation matrix is not positive semi-definite (smallest eigenvalue "
+            f"{eig.min():.3g}); such correlations cannot all hold at once"
+        )
+    return m
+
+
+def correlation_matrix(
+    inputs: Sequence[UncertainInput], correlations: Mapping[tuple[InputKey, InputKey], float] | None
+) -> np.ndarray | None:
+    """Full correlation matrix over ``inputs`` from pairwise entries (None when independent)."""
+    if not correlations:
+        return None
+    index = {inp.key: i for i, inp in enumerate(inputs)}
+    m = np.eye(len(inputs))
+    for (a, b), rho in correlations.items():
+        for k in (a, b):
+            if tuple(k) not in index:
+                raise InvalidUncertainty(
+                    f"correlation names {k!r}, which is not an input of this "
+                    "calculation (inputs are (species id, dHf|S298|cp))"
+                )
+        if tuple(a) == tuple(b):
+            raise InvalidUncertainty(f"correlation of {a!r} with itself is always 1")
+        if not isinstance(rho, (int, float)) or not math.isfinite(rho):
+            raise InvalidUncertainty(f"correlation {rho!r} is not a finite number")
+        i, j = index[(a[0], a[1])], index[(b[0], b[1])]
+        m[i, j] = m[j, i] = float(rho)
+    labels = [f"{k[0]}:{k[1]}" for k in index]
+    return _check_correlation(m, labels)
+
+
+@dataclass
+class SampleSet:
+    """Draws of every input, kept so that any temperature is evaluated without re-sampling.
+
+    ``values`` has shape (n, N): one row per input, one column per trial, in SI, as deviations
+    from the library values (library nominal + value = the sampled value). Inputs are rows so
+    that the linear part of every model is one matrix product into temperature-major rows.
+    """
+
+    inputs: list[UncertainInput]
+    values: np.ndarray
+    method: str
+    seed: int | None
+    correlation: np.ndarray | None = None
+    blocks: list[int] = field(default_factory=list)
+    rng: np.random.Generator | None = field(default=None, repr=False)
+
+    @property
+    def n(self) -> int:
+        return int(self.values.shape[1])
+
+    @property
+    def keys(self) -> list[InputKey]:
+        return [inp.key for inp in self.inputs]
+
+    def index(self, key: InputKey) -> int:
+        return self.keys.index(key)
+
+
+def _normal_draws(rng: np.random.Generator, n: int, d: int, method: str) -> np.ndarray:
+    """Standard normal draws, shape (d, n)."""
+    if method == "mc":
+        return rng.standard_normal((d, n))
+    sobol = qmc.Sobol(d, scramble=True, rng=rng)
+    u = np.clip(sobol.random(n).T, _U_EPS, 1.0 - _U_EPS)
+    return special.ndtri(u)
+
+
+def _transform(
+    inputs: Sequence[UncertainInput], z: np.ndarray, corr: np.ndarray | None
+) -> np.ndarray:
+    """Turn standard normal draws (d, n) into input deviations, in place (memory stays 1×)."""
+    if corr is not None:
+        w, v = np.linalg.eigh(corr)
+        root = v * np.sqrt(np.clip(w, 0.0, None))  # corr = root @ root.T, also when singular
+        step = _COLUMN_CHUNK
+        for a in range(0, z.shape[1], step):
+            z[:, a : a + step] = root @ z[:, a : a + step]
+    for j, inp in enumerate(inputs):
+        if inp.is_normal:
+            z[j] *= inp.u
+            z[j] += inp.shift
+        else:
+            z[j] = inp.from_uniform(np.clip(special.ndtr(z[j]), _U_EPS, 1 - _U_EPS))
+    return z
+
+
+def draw_samples(
+    inputs: Sequence[UncertainInput],
+    n: int,
+    *,
+    method: Method = "mc",
+    seed: int | None = None,
+    correlation: np.ndarray | None = None,
+) -> SampleSet:
+    """N reproducible draws of every input (plain MC or scrambled Sobol, N a power of two).
+
+    The same seed gives bitwise-identical draws on the same platform and library versions.
+    """
+    if not isinstance(n, (int, np.integer)) or isinstance(n, bool) or n < 2:
+        raise InvalidUncertainty(f"number of trials {n!r}: need an integer of at least 2")
+    if method not in ("mc", "sobol"):
+        raise InvalidUncertainty(f"sampling method {method!r}: use 'mc' or 'sobol'")
+    if method == "sobol" and n & (n - 1):
+        lower = 1 << (int(n).bit_length() - 1)
+        raise InvalidUncertainty(
+            f"Sobol sampling needs a power of two trials; {n} is not (use {lower} or {lower * 2})"
+        )
+    if seed is not None and (not isinstance(seed, (int, np.integer)) or seed < 0):
+        raise InvalidUncertainty(f"seed {seed!r}: use a non-negative integer")
+    if not inputs:
+        raise FeasiblyError("nothing to sample: the calculation has no uncertain inputs")
+    rng = np.random.default_rng(seed)
+    z = _normal_draws(rng, int(n), len(inputs), method)
+    x = _transform(inputs, z, correlation)
+    return SampleSet(list(inputs), x, method, seed, correlation, [int(n)], rng)
+
+
+def extend_samples(samples: SampleSet, n: int) -> SampleSet:
+    """Append a further block of n trials from the same generator (JCGM 101 §7.9 blocks).
+
+    Sobol blocks are independent scrambles, so blocks stay independent as §7.9 requires.
+    """
+    if samples.rng is None:
+        raise FeasiblyError("these samples carry no generator to draw further blocks from")
+    z = _normal_draws(samples.rng, n, len(samples.inputs), samples.method)
+    x = _transform(samples.inputs, z, samples.correlation)
+    return SampleSet(
+        samples.inputs,
+        np.hstack([samples.values, x]),
+        samples.method,
+        samples.seed,
+        samples.correlation,
+        [*samples.blocks, n],
+        samples.rng,
+    )
+
+
+_OVERRIDE = re.compile(
+    r"^\s*(?P<target>.+?):(?P<qty>dHf|S298|cp)\s*"
+    r"(?:=\s*(?P<value>[^±;]+?))?\s*"
+    r"(?:(?:±|\+/-)\s*(?P<u>[^;]+?))?\s*;\s*(?P<reason>.*\S)\s*$"
+)
+_TRAILING_WORDS = re.compile(
+    r"\s+(?P<word>standard|k\s*=\s*[0-9.]+|95\s*%|rectangular|normal|uniform|triangular)\s*$",
+    re.IGNORECASE,
+)
+
+
+def parse_override(text: str) -> Override:
+    """Read an override written as ``ID:QUANTITY [= VALUE] [± U] [COVERAGE] [SHAPE]; REASON``.
+
+    >>> o = parse_override("MgCO3(cr):dHf = -1111.0 ± 4 kJ/mol 95%; our calorimetry, run 12")
+    >>> (o.value, o.uncertainty, o.coverage, o.reason)
+    ('-1111.0 kJ/mol', '4 kJ/mol', '95%', 'our calorimetry, run 12')
+    >>> parse_override("MgO(cr):cp ± 10 % uniform; estimate").distribution
+    'uniform'
+    """
+    m = _OVERRIDE.match(text)
+    if not m:
+        raise InvalidUncertainty(
+            f"cannot read the override {text!r}; write e.g. "
+            "'MgCO3(cr):dHf = -1111.0 ± 4 kJ/mol 95%; reason' (quantity dHf, S298 or cp; the "
+            "reason after ';' is required)"
+        )
+    value, u = m.group("value"), m.group("u")
+    coverage, shape = "standard", "normal"
+    while u:
+        w = _TRAILING_WORDS.search(u)
+        if not w:
+            break
+        word = w.group("word").lower().replace(" ", "")
+        if word in ("normal", "uniform", "triangular"):
+            shape = word
+        else:
+            coverage = word
+        u = u[: w.start()].strip()
+    if value is not None and u:
+        # "= -1111.0 ± 4 kJ/mol": the value shares the unit written after the uncertainty.
+        if re.fullmatch(r"[+-]?\d*\.?\d+(?:[eE][+-]?\d+)?", value.strip()):
+            unit = re.sub(r"^[+-]?\d*\.?\d+(?:[eE][+-]?\d+)?\s*", "", u)
+            value = f"{value.strip()} {unit}".strip()
+    return Override(
+        m.group("target").strip(),
+        m.group("qty"),
+        m.group("reason"),
+        value.strip() if value else None,
+        u or None,
+        coverage,
+        shape,
+    )
