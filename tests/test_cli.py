@@ -111,3 +111,121 @@ def test_installed_console_script() -> None:
     )
     assert proc.returncode == 0, proc.stderr
     assert "CO2(g)" in proc.stdout
+
+
+def test_uncertainty_json_rows(capsys: pytest.CaptureFixture[str]) -> None:
+    code, out, err = run(
+        capsys,
+        "assess",
+        "MgCO3 -> MgO + CO2",
+        "--T-range",
+        "600",
+        "800",
+        "K",
+        "--points",
+        "3",
+        "--samples",
+        "4096",
+        "--seed",
+        "3",
+        "--json",
+    )
+    assert code == 0, err
+    doc = json.loads(out)
+    for key in (
+        "P_feasible",
+        "P_feasible_se",
+        "dG_std_J_per_mol",
+        "dG_lo_J_per_mol",
+        "dG_hi_J_per_mol",
+        "verdict",
+    ):
+        assert key in doc["rows"][0]
+    u = doc["uncertainty"]
+    assert u["trials"] == 4096 and u["seed"] == 3 and u["method"] == "mc"
+    assert u["sensitivity"] and abs(sum(r["share"] for r in u["sensitivity"]) - 1) < 1e-9
+    assert "crossover_distribution" in u
+    assert err == ""  # a short run shows no progress bar
+
+
+def test_uncertainty_table_and_overrides(capsys: pytest.CaptureFixture[str]) -> None:
+    code, out, err = run(
+        capsys,
+        "assess",
+        "MgCO3 -> MgO + CO2",
+        "--T",
+        "750",
+        "K",
+        "--samples",
+        "4096",
+        "--seed",
+        "4",
+        "--override",
+        "MgO(cr):dHf ± 3 kJ/mol k=2; literature spread",
+        "--correlate",
+        "MgO(cr):dHf",
+        "MgCO3(cr):dHf",
+        "0.5",
+        "--threshold",
+        "-5",
+        "kJ/mol",
+    )
+    assert code == 0, err
+    assert "How sure: 4,096 trials" in out and "ΔrG < -5 kJ/mol" in out
+    assert "Doubt at 750 K comes from:" in out
+
+
+def test_sobol_and_adaptive_from_the_command_line(capsys: pytest.CaptureFixture[str]) -> None:
+    code, out, err = run(
+        capsys,
+        "assess",
+        "MgCO3 -> MgO + CO2",
+        "--T",
+        "800",
+        "K",
+        "--samples",
+        "4096",
+        "--method",
+        "sobol",
+        "--seed",
+        "1",
+        "--json",
+    )
+    assert code == 0, err and json.loads(out)["uncertainty"]["method"] == "sobol"
+    code, out, err = run(
+        capsys,
+        "assess",
+        "MgCO3 -> MgO + CO2",
+        "--T",
+        "800",
+        "K",
+        "--adaptive",
+        "--seed",
+        "1",
+        "--json",
+    )
+    assert code == 0
+    adaptive = json.loads(out)["uncertainty"]["adaptive"]
+    assert adaptive["converged"] and adaptive["trials"] >= 20_000
+    assert "sampling [" in err  # adaptive runs show their progress on stderr
+
+
+@pytest.mark.parametrize(
+    ("extra", "fragment"),
+    [
+        (["--samples", "1000", "--method", "sobol"], "power of two"),
+        (["--samples", "0"], "at least 2"),
+        (["--samples", "100", "--confidence", "1.5"], "confidence level"),
+        (["--samples", "100", "--override", "MgO(cr):dHf ± 3 kJ/mol"], "cannot read the override"),
+        (["--samples", "100", "--override", "MgO(cr):dHf ± -3 kJ/mol; x"], "negative"),
+        (["--override", "MgO(cr):dHf ± 3 kJ/mol; x"], "need --samples"),
+        (["--samples", "100", "--threshold", "-5"], "unit"),
+        (["--samples", "100", "--correlate", "MgO(cr):dHf", "MgO(cr):S298", "2"], "between −1"),
+    ],
+)
+def test_uncertainty_errors(
+    capsys: pytest.CaptureFixture[str], extra: list[str], fragment: str
+) -> None:
+    code, _, err = run(capsys, "assess", "MgCO3 -> MgO + CO2", "--T", "750", "K", *extra)
+    assert code == 2, err
+    assert fragment in err and "Traceback" not in err

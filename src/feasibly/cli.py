@@ -240,7 +240,7 @@ def _cmd_assess(args: argparse.Namespace) -> int:
             T=T,
             T_range=T_range,
             points=args.points,
-            samples=args.samples or 100_000,
+            samples=args.samples if args.samples is not None else 100_000,
             seed=args.seed,
             method=args.method,
             adaptive=args.adaptive,
