@@ -208,6 +208,21 @@ def test_correlated_inputs_match_uncertainties_correlated_values() -> None:
     assert a.gum()["u"][0] == pytest.approx(ref.std_dev, rel=1e-9)
 
 
+def test_correlation_as_a_matrix_equals_pairs() -> None:
+    rxn = feasibly.Reaction.parse("MgCO3 -> MgO + CO2")
+    inputs = build_inputs(rxn.species_used())
+    keys = [("MgCO3(cr)", "dHf"), ("MgO(cr)", "dHf"), ("CO2(g)", "dHf")]
+    matrix = [[1.0, 0.8, 0.1], [0.8, 1.0, 0.0], [0.1, 0.0, 1.0]]
+    pairs = {(keys[0], keys[1]): 0.8, (keys[0], keys[2]): 0.1}
+    np.testing.assert_array_equal(
+        correlation_matrix(inputs, (keys, matrix)), correlation_matrix(inputs, pairs)
+    )
+    with pytest.raises(InvalidUncertainty, match="not symmetric"):
+        correlation_matrix(inputs, (keys[:2], [[1.0, 0.5], [0.4, 1.0]]))
+    with pytest.raises(InvalidUncertainty, match="must be 2 × 2"):
+        correlation_matrix(inputs, (keys[:2], [[1.0]]))
+
+
 def test_first_order_indices_of_a_linear_model_equal_variance_shares() -> None:
     # For Y = Σ a_j X_j with independent inputs, S_j = a_j² u_j² / u² (Saltelli et al., Global
     # Sensitivity Analysis: The Primer, 2008, from memory). Given-data estimate within 0.02.

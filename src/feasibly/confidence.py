@@ -21,6 +21,7 @@ from typing import Any
 import numpy as np
 from scipy import special
 
+from ._selection import row_statistics
 from .assessment import ONE_ATM_PA, ONE_BAR_PA, _reaction_quotient
 from .errors import FeasiblyError, InvalidUncertainty, UnitError
 from .library import Library, default_library
@@ -41,6 +42,7 @@ from .propagation import (
 from .reaction import Reaction
 from .thermo_functions import R
 from .uncertainty import (
+    Correlations,
     InputKey,
     Method,
     Override,
@@ -320,15 +322,26 @@ class UncertainAssessment:
             "fraction_none": float(1.0 - hit.size / n),
             "fraction_several": float(np.count_nonzero(count > 1) / n),
         }
-        if hit.size:
-            q = np.quantile(hit, [0.025, 0.5, 0.975])
+        f_none = out["fraction_none"]
+        out["fraction_none_se"] = math.sqrt(f_none * (1.0 - f_none) / n)
+        if hit.size >= 2:
+            q, e, _ = row_statistics(
+                hit[None, :],
+                np.array([hit.mean()]),
+                np.array([hit.std()]),
+                (0.025, 0.5, 0.975),
+                np.zeros(1),
+            )
             out.update(
                 {
-                    "median_K": float(q[1]),
-                    "lo_K": float(q[0]),
-                    "hi_K": float(q[2]),
+                    "median_K": float(q[0, 1]),
+                    "lo_K": float(q[0, 0]),
+                    "hi_K": float(q[0, 2]),
+                    "median_se_K": float(e[0, 1]),
+                    "lo_se_K": float(e[0, 0]),
+                    "hi_se_K": float(e[0, 2]),
                     "mean_K": float(hit.mean()),
-                    "std_K": float(hit.std(ddof=1)) if hit.size > 1 else 0.0,
+                    "std_K": float(hit.std(ddof=1)),
                 }
             )
         return out
@@ -600,7 +613,7 @@ def assess_uncertainty(
     threshold: Any = "0 J/mol",
     required_K: Any = None,
     overrides: Sequence[Override] = (),
-    correlations: Mapping[tuple[InputKey, InputKey], float] | None = None,
+    correlations: Correlations | None = None,
     partial_pressures: Mapping[str, Any] | None = None,
     standard_pressure: Any = "1 bar",
     library: Library | None = None,
@@ -704,7 +717,7 @@ def assess_route(
     method: Method = "mc",
     threshold: Any = "0 J/mol",
     overrides: Sequence[Override] = (),
-    correlations: Mapping[tuple[InputKey, InputKey], float] | None = None,
+    correlations: Correlations | None = None,
     library: Library | None = None,
 ) -> Route:
     """P(every step is feasible) for a route of (equation, temperature) steps, shared draws.

@@ -31,12 +31,15 @@ from .units import Q_, to_energy_per_mol
 
 __all__ = [
     "QUANTITIES",
+    "Correlations",
     "InputKey",
     "Override",
     "SampleSet",
     "UncertainInput",
     "build_inputs",
+    "correlation_matrix",
     "draw_samples",
+    "extend_samples",
     "parse_override",
 ]
 
@@ -275,12 +278,31 @@ def _check_correlation(matrix: np.ndarray, labels: Sequence[str]) -> np.ndarray:
     return m
 
 
+Correlations = Mapping[tuple[InputKey, InputKey], float] | tuple[Sequence[InputKey], Any]
+
+
 def correlation_matrix(
-    inputs: Sequence[UncertainInput], correlations: Mapping[tuple[InputKey, InputKey], float] | None
+    inputs: Sequence[UncertainInput], correlations: Correlations | None
 ) -> np.ndarray | None:
-    """Full correlation matrix over ``inputs`` from pairwise entries (None when independent)."""
-    if not correlations:
+    """Full correlation matrix over ``inputs`` (None when independent).
+
+    ``correlations`` is either a mapping of input pairs to coefficients, or ``(keys, matrix)``:
+    a list of input keys and the square correlation matrix among them (checked symmetric, unit
+    diagonal, positive semi-definite).
+    """
+    if correlations is None or (isinstance(correlations, Mapping) and not correlations):
         return None
+    if not isinstance(correlations, Mapping):
+        keys, matrix = correlations
+        keys = [(str(k[0]), str(k[1])) for k in keys]
+        sub = _check_correlation(np.asarray(matrix, dtype=float), [f"{a}:{b}" for a, b in keys])
+        pairs = {
+            (keys[i], keys[j]): float(sub[i, j])
+            for i in range(len(keys))
+            for j in range(i + 1, len(keys))
+            if sub[i, j] != 0.0
+        }
+        return correlation_matrix(inputs, pairs) if pairs else None
     index = {inp.key: i for i, inp in enumerate(inputs)}
     m = np.eye(len(inputs))
     for (a, b), rho in correlations.items():
