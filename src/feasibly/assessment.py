@@ -212,6 +212,35 @@ class Assessment:
         return out
 
 
+def read_temperatures(
+    T: Any, T_range: Any, points: int
+) -> tuple[np.ndarray, tuple[float, float] | None]:
+    """User temperatures in K: either ``T`` (one or several) or ``T_range`` over ``points``.
+
+    Returns the temperatures and the (low, high) range when one was given.
+    """
+    if (T is None) == (T_range is None):
+        raise UnitError(T, "temperature choice", "give either T or T_range, not both or neither")
+    if T is not None:
+        return np.atleast_1d(to_kelvin(T)).astype(float).ravel(), None
+    lo, hi = (float(np.squeeze(to_kelvin(x))) for x in T_range)
+    if not hi > lo:
+        raise UnitError(T_range, "temperature range", "the upper end must be above the lower")
+    if not isinstance(points, int) or isinstance(points, bool) or points < 2:
+        raise UnitError(points, "number of points", "need at least 2 temperatures")
+    return np.linspace(lo, hi, points), (lo, hi)
+
+
+def read_standard_pressure(standard_pressure: Any) -> float:
+    """The standard-state pressure in Pa: exactly 1 bar or 1 atm, nothing else."""
+    p = float(np.squeeze(to_pascal(standard_pressure)))
+    if math.isclose(p, ONE_BAR_PA):
+        return ONE_BAR_PA
+    if math.isclose(p, ONE_ATM_PA):
+        return ONE_ATM_PA
+    raise UnitError(standard_pressure, "standard pressure", "use 1 bar or 1 atm")
+
+
 def _reaction_quotient(
     rxn: Reaction, pressures: Mapping[str, float], standard_pressure: float, T: np.ndarray
 ) -> tuple[np.ndarray, list[str]]:
@@ -272,22 +301,9 @@ def assess(
     """
     library = library or default_library()
     rxn = equation if isinstance(equation, Reaction) else Reaction.parse(equation, library, balance)
-    p_std = float(to_pascal(standard_pressure))
-    if not (math.isclose(p_std, ONE_BAR_PA) or math.isclose(p_std, ONE_ATM_PA)):
-        raise UnitError(standard_pressure, "standard pressure", "use 1 bar or 1 atm")
-    p_std = ONE_BAR_PA if math.isclose(p_std, ONE_BAR_PA) else ONE_ATM_PA
-    if (T is None) == (T_range is None):
-        raise UnitError(T, "temperature choice", "give either T or T_range, not both or neither")
+    p_std = read_standard_pressure(standard_pressure)
+    temps, _ = read_temperatures(T, T_range, points)
     crossover = estimate = None
-    if T is not None:
-        temps = np.atleast_1d(to_kelvin(T)).astype(float).ravel()
-    else:
-        lo, hi = (float(np.squeeze(to_kelvin(x))) for x in T_range)
-        if not hi > lo:
-            raise UnitError(T_range, "temperature range", "the upper end must be above the lower")
-        if not isinstance(points, int) or points < 2:
-            raise UnitError(points, "number of points", "need at least 2 temperatures")
-        temps = np.linspace(lo, hi, points)
     std = standard_properties(rxn, temps, p_std)
     notes: list[str] = []
     if T_range is not None:

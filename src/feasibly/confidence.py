@@ -22,7 +22,7 @@ import numpy as np
 from scipy import special
 
 from ._selection import row_statistics
-from .assessment import ONE_ATM_PA, ONE_BAR_PA, _reaction_quotient
+from .assessment import _reaction_quotient, read_standard_pressure, read_temperatures
 from .errors import FeasiblyError, InvalidUncertainty, UnitError
 from .library import Library, default_library
 from .propagation import (
@@ -236,21 +236,7 @@ class UncertainAssessment:
         model = self._model(temps)
         thr = self._threshold(temps)
         g = summarise(model, self.samples, "G", thr)
-        rows = []
-        for i, t in enumerate(temps):
-            rows.append(
-                {
-                    "T_K": float(t),
-                    "dG_mean_J_per_mol": float(g.mean[i]),
-                    "dG_std_J_per_mol": float(g.u[i]),
-                    "dG_median_J_per_mol": float(g.median[i]),
-                    "dG_lo_J_per_mol": float(g.lo[i]),
-                    "dG_hi_J_per_mol": float(g.hi[i]),
-                    "P_feasible": float(g.p_below[i]),
-                    "P_feasible_se": float(g.p_below_se[i]),
-                    "verdict": verdict(float(g.p_below[i]), self.confidence),
-                }
-            )
+        rows = [_dg_row(g, i, float(t), self.confidence) for i, t in enumerate(temps)]
         return rows[0] if np.ndim(to_kelvin(T)) == 0 else {"rows": rows}
 
     def samples_at(self, T: float) -> np.ndarray:
@@ -443,15 +429,8 @@ class UncertainAssessment:
         out = []
         for i, t in enumerate(self.T):
             out.append(
-                {
-                    "T_K": float(t),
-                    "dG_mean_J_per_mol": float(self.G.mean[i]),
-                    "dG_std_J_per_mol": float(self.G.u[i]),
-                    "dG_median_J_per_mol": float(self.G.median[i]),
-                    "dG_lo_J_per_mol": float(self.G.lo[i]),
-                    "dG_hi_J_per_mol": float(self.G.hi[i]),
-                    "dG_lo_se_J_per_mol": float(self.G.lo_se[i]),
-                    "dG_hi_se_J_per_mol": float(self.G.hi_se[i]),
+                _dg_row(self.G, i, float(t), self.confidence)
+                | {
                     "dH_mean_J_per_mol": float(self.H.mean[i]),
                     "dH_std_J_per_mol": float(self.H.u[i]),
                     "dH_lo_J_per_mol": float(self.H.lo[i]),
@@ -465,9 +444,6 @@ class UncertainAssessment:
                     "log10_K_lo": float(k["lo"][i]),
                     "log10_K_hi": float(k["hi"][i]),
                     "threshold_J_per_mol": float(self.threshold_J_per_mol[i]),
-                    "P_feasible": float(self.p_feasible[i]),
-                    "P_feasible_se": float(self.p_feasible_se[i]),
-                    "verdict": self.verdicts[i],
                     "gum_dG_std_J_per_mol": float(gum["u"][i]),
                     "gum_validated": bool(gum["validated"][i]) if gum["decisive"][i] else None,
                 }
@@ -509,6 +485,23 @@ class UncertainAssessment:
         return out
 
 
+def _dg_row(g: Summary, i: int, t: float, confidence: float) -> dict[str, Any]:
+    """The ΔrG summary and the call at row i, with the documented JSON keys."""
+    return {
+        "T_K": t,
+        "dG_mean_J_per_mol": float(g.mean[i]),
+        "dG_std_J_per_mol": float(g.u[i]),
+        "dG_median_J_per_mol": float(g.median[i]),
+        "dG_lo_J_per_mol": float(g.lo[i]),
+        "dG_hi_J_per_mol": float(g.hi[i]),
+        "dG_lo_se_J_per_mol": float(g.lo_se[i]),
+        "dG_hi_se_J_per_mol": float(g.hi_se[i]),
+        "P_feasible": float(g.p_below[i]),
+        "P_feasible_se": float(g.p_below_se[i]),
+        "verdict": verdict(float(g.p_below[i]), confidence),
+    }
+
+
 def _ranked(keys: Sequence[InputKey], idx: np.ndarray) -> list[tuple[str, str, float]]:
     rows = [(k[0], k[1], float(v)) for k, v in zip(keys, idx, strict=True) if v > 0]
     return sorted(rows, key=lambda r: -r[2])
@@ -534,30 +527,6 @@ def _threshold_fn(
         threshold = "0 J/mol"
     value = float(np.squeeze(to_energy_per_mol(threshold)))
     return (lambda T: np.full(np.shape(T), value)), f"ΔrG < {value / 1000:g} kJ/mol"
-
-
-def _temperatures(
-    T: Any, T_range: Any, points: int
-) -> tuple[np.ndarray, tuple[float, float] | None]:
-    if (T is None) == (T_range is None):
-        raise UnitError(T, "temperature choice", "give either T or T_range, not both or neither")
-    if T is not None:
-        return np.atleast_1d(to_kelvin(T)).astype(float).ravel(), None
-    lo, hi = (float(np.squeeze(to_kelvin(x))) for x in T_range)
-    if not hi > lo:
-        raise UnitError(T_range, "temperature range", "the upper end must be above the lower")
-    if not isinstance(points, int) or points < 2:
-        raise UnitError(points, "number of points", "need at least 2 temperatures")
-    return np.linspace(lo, hi, points), (lo, hi)
-
-
-def _pressure(standard_pressure: Any) -> float:
-    p = float(np.squeeze(to_pascal(standard_pressure)))
-    if math.isclose(p, ONE_BAR_PA):
-        return ONE_BAR_PA
-    if math.isclose(p, ONE_ATM_PA):
-        return ONE_ATM_PA
-    raise UnitError(standard_pressure, "standard pressure", "use 1 bar or 1 atm")
 
 
 def _adaptive(
@@ -637,8 +606,8 @@ def assess_uncertainty(
     confidence = _check_confidence(confidence)
     library = library or default_library()
     rxn = equation if isinstance(equation, Reaction) else Reaction.parse(equation, library, balance)
-    temps, crossing_range = _temperatures(T, T_range, points)
-    p_std = _pressure(standard_pressure)
+    temps, crossing_range = read_temperatures(T, T_range, points)
+    p_std = read_standard_pressure(standard_pressure)
     thr_fn, thr_text = _threshold_fn(threshold, required_K)
     pressures = {
         name: float(np.squeeze(to_pascal(v))) for name, v in (partial_pressures or {}).items()
