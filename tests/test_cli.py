@@ -229,3 +229,36 @@ def test_uncertainty_errors(
     code, _, err = run(capsys, "assess", "MgCO3 -> MgO + CO2", "--T", "750", "K", *extra)
     assert code == 2, err
     assert fragment in err and "Traceback" not in err
+
+
+def test_record_from_the_command_line(capsys: pytest.CaptureFixture[str], tmp_path) -> None:
+    path = tmp_path / "kiln-trial.json"
+    argv = [
+        "assess",
+        "MgCO3 -> MgO + CO2",
+        "--T-range",
+        "650",
+        "800",
+        "K",
+        "--points",
+        "3",
+        "--samples",
+        "2048",
+        "--record",
+        str(path),
+        "--author",
+        "A. Chemist",
+        "--rationale",
+        "kiln trial screening",
+    ]
+    code, _, err = run(capsys, *argv)
+    assert code == 0, err
+    assert path.exists() and path.with_suffix(".html").exists()
+    doc = json.loads(path.read_text(encoding="utf-8"))
+    assert isinstance(json.dumps(doc), str)
+    code, out, err = run(capsys, "verify", str(path))
+    assert code == 0 and "identical" in out, err
+    code, _, err = run(capsys, *argv)  # an existing record is never overwritten unasked
+    assert code == 2 and "file exists" in err
+    code, _, err = run(capsys, *argv, "--overwrite")
+    assert code == 0, err

@@ -8,6 +8,10 @@ The kernel (this package's top level) holds one job per module:
   user species files and look-up;
 - :mod:`feasibly.reaction` — equations: parse, check and find the balance, choose phases;
 - :mod:`feasibly.assessment` — Δr quantities, K, crossover temperatures, non-standard ΔrG;
+- :mod:`feasibly.uncertainty` — uncertain inputs, overrides, correlations, reproducible draws;
+- :mod:`feasibly.propagation` — linear rows, Monte Carlo summaries, GUM result, sensitivity;
+- :mod:`feasibly.confidence` — the call: probability, verdict, window, routes;
+- :mod:`feasibly.records` — reproducible decision records (JSON, HTML, Markdown) and verification;
 - :mod:`feasibly.safety` — plain-language cautions;
 - :mod:`feasibly.units` — pint at the edges, SI floats inside;
 - :mod:`feasibly.cli` — the ``feasibly`` command.
@@ -24,6 +28,7 @@ from .assessment import (
     crossover_temperatures,
     standard_properties,
 )
+from .confidence import Route, UncertainAssessment, assess_route, assess_uncertainty
 from .errors import (
     AmbiguousBalance,
     DataFileError,
@@ -39,8 +44,18 @@ from .errors import (
 from .formula import parse_formula, pretty_formula
 from .library import Library, default_library, standard_uncertainty
 from .reaction import Reaction
+from .records import (
+    RecordError,
+    VerifyResult,
+    load_record,
+    make_record,
+    record_from,
+    verify_record,
+    write_record,
+)
 from .safety import Caution
 from .species import Species
+from .uncertainty import Override, parse_override
 from .units import Q_, ureg
 
 __all__ = [
@@ -54,20 +69,33 @@ __all__ = [
     "InvalidUncertainty",
     "Library",
     "OutsideDataRange",
+    "Override",
     "Reaction",
     "ReactionSyntaxError",
+    "RecordError",
+    "Route",
     "Species",
     "StandardProperties",
     "UnbalancedReaction",
+    "UncertainAssessment",
     "UnitError",
     "UnknownSpecies",
+    "VerifyResult",
     "__version__",
     "assess",
+    "assess_route",
+    "assess_uncertainty",
     "crossover_temperatures",
     "default_library",
+    "load_record",
+    "make_record",
     "parse_formula",
+    "parse_override",
     "pretty_formula",
+    "record_from",
     "standard_properties",
     "standard_uncertainty",
     "ureg",
+    "verify_record",
+    "write_record",
 ]

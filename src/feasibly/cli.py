@@ -8,16 +8,20 @@ from __future__ import annotations
 import argparse
 import json
 import math
+import secrets
 import sys
 from collections.abc import Sequence
+from pathlib import Path
 
 import numpy as np
 
 from .__about__ import __version__
+from ._cli_records import register as _register_records
 from .assessment import Assessment, assess
 from .confidence import UncertainAssessment, assess_uncertainty
 from .errors import FeasiblyError, UnitError
 from .library import Library, default_library
+from .records import record_from, write_record
 from .uncertainty import parse_override
 from .units import to_pascal
 
@@ -232,6 +236,9 @@ def _cmd_assess(args: argparse.Namespace) -> int:
         library=lib,
         balance=args.balance,
     )
+    if args.record and args.seed is None and (args.samples is not None or args.adaptive):
+        # A record must be reproducible: draw the seed here and write it into the record.
+        args.seed = secrets.randbits(32)
     uncertain = None
     if args.samples is not None or args.adaptive:
         threshold = " ".join(args.threshold) if args.threshold else "0 J/mol"
@@ -261,6 +268,20 @@ def _cmd_assess(args: argparse.Namespace) -> int:
             "uncertainty run",
             "--threshold, --require-K, --override and --correlate need --samples N (or --adaptive)",
         )
+    if args.record:
+        record = record_from(
+            result,
+            uncertain,
+            author=args.author or "",
+            reviewer=args.reviewer or "",
+            rationale=args.rationale or "",
+            balance=args.balance,
+            required_K=args.require_K,
+        )
+        written = write_record(
+            record, args.record, Path(args.record).with_suffix(".html"), overwrite=args.overwrite
+        )
+        print("record written: " + ", ".join(str(p) for p in written), file=sys.stderr)
     if args.json:
         doc = result.to_dict()
         if uncertain is not None:
@@ -384,6 +405,16 @@ def build_parser() -> argparse.ArgumentParser:
         help="add your own species (JSON or TOML, schema in data/SCHEMA.md)",
     )
     a.add_argument("--json", action="store_true", help="print JSON instead of a table")
+    r = a.add_argument_group("decision record")
+    r.add_argument(
+        "--record",
+        metavar="PATH",
+        help="write a reproducible record (JSON) and its report (PATH with .html)",
+    )
+    r.add_argument("--author", help="who made the call (goes into the record)")
+    r.add_argument("--reviewer", help="who reviews it (goes into the record)")
+    r.add_argument("--rationale", help="why this step, in your words (goes into the record)")
+    r.add_argument("--overwrite", action="store_true", help="replace existing record files")
     g = a.add_argument_group("how sure (Monte Carlo over the data's uncertainty)")
     g.add_argument("--samples", type=int, metavar="N", help="Monte Carlo trials, e.g. 100000")
     g.add_argument("--seed", type=int, metavar="S", help="seed of the random generator")
@@ -440,6 +471,7 @@ def build_parser() -> argparse.ArgumentParser:
     s.add_argument("--species-file", action="append", metavar="PATH")
     s.add_argument("--json", action="store_true")
     s.set_defaults(run=_cmd_species)
+    _register_records(sub)
     return parser
 
 

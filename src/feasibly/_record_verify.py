@@ -1,0 +1,219 @@
+"""Private part of :mod:`feasibly.records`: recompute a record and compare it exactly.
+
+The record's inputs alone (equation, balance flag, conditions, sampling settings and seed,
+overrides with their reasons, correlations, and the user species entries it carries) are fed to
+the kernel again; the rebuilt sections are compared with the recorded ones value by value, floats
+bit for bit.
+"""
+
+from __future__ import annotations
+
+import json
+from collections.abc import Mapping
+from pathlib import Path
+from typing import Any
+
+from ._record_build import environment
+from .assessment import ONE_BAR_PA, assess
+from .confidence import _ADAPTIVE_MAX_TRIALS, assess_uncertainty
+from .errors import FeasiblyError
+from .library import Library, default_library
+from .records import (
+    _RECOMPUTED,
+    Difference,
+    RecordError,
+    VerifyResult,
+    _changed_sections,
+    load_record,
+    record_from,
+    record_hash,
+    validate_record,
+)
+from .uncertainty import InputKey, Override
+
+
+def _same(a: Any, b: Any) -> bool:
+    if isinstance(a, float) and isinstance(b, float):
+        return a.hex() == b.hex()  # bitwise, so −0.0 and 0.0 differ as the results would
+    return type(a) is type(b) and a == b
+
+
+def _diff(a: Any, b: Any, path: str, out: list[Difference], kind: str = "result") -> None:
+    if isinstance(a, dict) and isinstance(b, dict):
+        for k in list(a) + [k for k in b if k not in a]:
+            where = f"{path}.{k}" if path else k
+            if k not in b:
+                out.append(Difference(where, a[k], "(absent)", kind))
+            elif k not in a:
+                out.append(Difference(where, "(absent)", b[k], kind))
+            else:
+                _diff(a[k], b[k], where, out, kind)
+    elif isinstance(a, list) and isinstance(b, list):
+        if len(a) != len(b):
+            out.append(Difference(f"{path} (length)", len(a), len(b), kind))
+        for i, (x, y) in enumerate(zip(a, b, strict=False)):
+            _diff(x, y, f"{path}[{i}]", out, kind)
+    elif not _same(a, b):
+        out.append(Difference(path, a, b, kind))
+
+
+def _distribution(data: Any) -> Any:
+    if isinstance(data, str):
+        return data
+    from scipy import stats
+
+    family = getattr(stats, str(data["scipy"]), None)
+    if not isinstance(family, stats.rv_continuous):
+        raise RecordError(
+            "record",
+            [f"field distribution.scipy: {data['scipy']!r} is not a scipy.stats distribution"],
+        )
+    return family(*data["args"], **data["kwds"])
+
+
+def _library_for(doc: Mapping[str, Any]) -> Library:
+    """The shipped library with the user entries the record carries (its own files not needed)."""
+    lib = default_library()
+    origins = dict.fromkeys(s["origin"] for s in doc["species"] if s["origin"] != "library")
+    for origin in origins:
+        entries = [s["entry"] for s in doc["species"] if s["origin"] == origin]
+        text = json.dumps({"schema": "feasibly-species", "schema_version": 1, "species": entries})
+        lib = lib.with_species(Library.from_text(text, "species carried in the record", origin))
+    return lib
+
+
+def _rerun(doc: Mapping[str, Any]) -> dict[str, Any]:
+    """Recompute the recorded sections from the record's inputs alone."""
+    lib = _library_for(doc)
+    cond = doc["conditions"]
+    temp = cond["temperature"]
+    T: Any = None
+    T_range: Any = None
+    points = 12
+    if temp["kind"] == "range":
+        T_range, points = ((temp["T_lo_K"], "K"), (temp["T_hi_K"], "K")), temp["points"]
+    else:
+        T = (temp["T_K"], "K")
+    p_std = "1 bar" if cond["standard_pressure_Pa"] == ONE_BAR_PA else "1 atm"
+    pressures = {k: (float(v), "Pa") for k, v in cond["partial_pressures_Pa"].items()}
+    rxn = doc["reaction"]
+    a = assess(
+        rxn["entered"],
+        T=T,
+        T_range=T_range,
+        points=points,
+        partial_pressures=pressures,
+        standard_pressure=p_std,
+        library=lib,
+        balance=rxn["balance"],
+    )
+    unc = doc["uncertainty"]
+    if unc is None:
+        return record_from(a, None, balance=rxn["balance"])
+    crit = unc["criterion"]
+    overrides = [
+        Override(
+            o["target"],
+            o["quantity"],
+            o["reason"],
+            o["value"],
+            o["uncertainty"],
+            o["coverage"],
+            _distribution(o["distribution"]),
+        )
+        for o in unc["overrides"]
+    ]
+    corr: dict[tuple[InputKey, InputKey], float] = {
+        ((c["a"][0], c["a"][1]), (c["b"][0], c["b"][1])): float(c["rho"])
+        for c in unc["correlations"]
+    }
+    adaptive = unc["adaptive"]
+    max_trials = adaptive["max_trials"] if adaptive else _ADAPTIVE_MAX_TRIALS
+    u = assess_uncertainty(
+        a.reaction,
+        T=T,
+        T_range=T_range,
+        points=points,
+        samples=unc["samples"] if unc["samples"] is not None else 100_000,
+        seed=unc["seed"],
+        method=unc["method"],
+        adaptive=adaptive is not None,
+        max_trials=max_trials,
+        confidence=unc["confidence"],
+        threshold=(crit["threshold_J_per_mol"], "J/mol") if crit["kind"] == "threshold" else None,
+        required_K=crit.get("required_K"),
+        overrides=overrides,
+        correlations=corr or None,
+        partial_pressures=pressures,
+        standard_pressure=p_std,
+        library=lib,
+        progress=False,
+    )
+    return record_from(
+        a,
+        u,
+        balance=rxn["balance"],
+        required_K=crit.get("required_K"),
+        max_trials=max_trials if adaptive else None,
+        sensitivity_at=(unc["sensitivity_T_K"], "K"),
+    )
+
+
+def verify(record: Mapping[str, Any] | str | Path) -> VerifyResult:
+    """Recompute a record (a dict, or the path of its JSON) and compare every result exactly.
+
+    Reports an edit after export (content hash), each result that differs (recorded and now),
+    species entries of the shipped library that differ from the library installed now, and a
+    change of data library version or hash as such. Malformed records raise :class:`RecordError`.
+    """
+    if isinstance(record, (str, Path)):
+        doc = load_record(record, check_hash=False)
+    else:
+        doc = validate_record(dict(record), check_hash=False)
+    result = VerifyResult()
+    actual = record_hash(doc)
+    if doc["integrity"]["content_sha256"] != actual:
+        changed = _changed_sections(doc)
+        result.differences.append(
+            Difference(
+                "integrity.content_sha256",
+                doc["integrity"]["content_sha256"],
+                "the content hash does not match: the record was edited after export"
+                + (f" (changed: {', '.join(changed)})" if changed else ""),
+                "integrity",
+            )
+        )
+    lib = default_library()
+    data = doc["data"]
+    if (data["library_version"], data["library_sha256"]) != (lib.version, lib.content_hash):
+        result.notes.append(
+            f"data drift: recorded with data library {data['library_version']} "
+            f"(sha256 {data['library_sha256'][:12]}…), now {lib.version} "
+            f"(sha256 {lib.content_hash[:12]}…); results may differ for that reason"
+        )
+    env, now_env = doc["environment"], environment()
+    changed_env = [
+        f"{k} {env.get(k)} → {now_env[k]}"
+        for k in ("feasibly", "python", "numpy", "scipy", "pint", "platform")
+        if env.get(k) != now_env[k]
+    ]
+    if changed_env:
+        result.notes.append(
+            "different environment (" + "; ".join(changed_env) + "): results are bitwise "
+            "reproducible only on the same platform and versions; differences in the last "
+            "digits may come from that"
+        )
+    try:
+        fresh = _rerun(doc)
+    except FeasiblyError as exc:
+        result.differences.append(
+            Difference("recomputation", None, f"could not recompute the call: {exc}", "recompute")
+        )
+        return result
+    # Which user files the entries came from is a description, not a result: the record
+    # carries the entries themselves and verification never reads those files.
+    fresh["data"]["user_files"] = doc["data"]["user_files"]
+    for section in _RECOMPUTED:
+        kind = "data" if section in ("data", "species") else "result"
+        _diff(doc[section], fresh[section], section, result.differences, kind)
+    return result

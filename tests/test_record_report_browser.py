@@ -1,0 +1,117 @@
+"""The HTML report of a decision record in a real browser (headless Chromium, networking off).
+
+Outside reference: Chromium's own HTML/SVG rendering. The page must show the verdict, the
+equation and an SVG figure with no network at all; a screenshot is kept under test-artifacts/.
+"""
+
+from __future__ import annotations
+
+import importlib.util
+import shutil
+from pathlib import Path
+
+import pytest
+
+from feasibly.records import make_record, write_record
+from feasibly.uncertainty import parse_override
+
+CHROMIUM = shutil.which("chromium") or (
+    "/usr/bin/chromium" if Path("/usr/bin/chromium").exists() else None
+)
+HAVE_PLAYWRIGHT = importlib.util.find_spec("playwright") is not None
+ARTIFACTS = Path(__file__).resolve().parents[1] / "test-artifacts"
+
+pytestmark = [
+    pytest.mark.skipif(
+        CHROMIUM is None, reason="chromium is not installed (apt-get install chromium)"
+    ),
+    pytest.mark.skipif(not HAVE_PLAYWRIGHT, reason="playwright (Python) is not installed"),
+]
+
+# Flags from ../shared/notes/browser-testing.md; the last ones stop Chromium's own look-ups.
+ARGS = [
+    "--headless",
+    "--no-sandbox",
+    "--disable-gpu",
+    "--disable-quic",
+    "--no-first-run",
+    "--disable-background-networking",
+    "--disable-component-update",
+    "--disable-sync",
+    "--gaia-url=http://127.0.0.1:9",
+    "--lso-url=http://127.0.0.1:9",
+    "--component-updater=url-source=http://127.0.0.1:9",
+    "--host-resolver-rules=MAP * ~NOTFOUND",
+]
+
+
+@pytest.fixture(autouse=True)
+def _private_home(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    home = tmp_path / "home"
+    home.mkdir()
+    for var in ("HOME", "XDG_CONFIG_HOME", "XDG_CACHE_HOME", "XDG_DATA_HOME"):
+        monkeypatch.setenv(var, str(home))
+
+
+def test_report_opens_offline_and_shows_verdict_equation_and_figure(tmp_path: Path) -> None:
+    from playwright.sync_api import sync_playwright
+
+    record = make_record(
+        "Fe3O4 + H2 -> Fe + H2O",
+        T_range=("500 K", "1300 K"),
+        points=9,
+        balance=True,
+        samples=8192,
+        seed=7,
+        partial_pressures={"H2O": "0.1 bar"},
+        overrides=[parse_override("Fe3O4(cr):dHf ± 6 kJ/mol 95%; our own DSC, run 12")],
+        author="A. Chemist",
+        reviewer="B. Reviewer",
+        rationale="Pilot reduction of a magnetite charge.",
+    )
+    html = tmp_path / "record.html"
+    write_record(record, tmp_path / "record.json", html)
+    requests: list[str] = []
+    with sync_playwright() as pw:
+        context = pw.chromium.launch_persistent_context(
+            str(tmp_path / "profile"),
+            executable_path=CHROMIUM,
+            headless=True,
+            args=ARGS,
+            viewport={"width": 1100, "height": 900},
+        )
+        try:
+            context.route(
+                "**/*",
+                lambda route: (
+                    route.continue_()
+                    if route.request.url.startswith("file://")
+                    else (requests.append(route.request.url), route.abort())
+                ),
+            )
+            page = context.new_page()
+            page.goto(html.as_uri())
+            verdict = page.locator("#verdict")
+            assert verdict.is_visible()
+            assert "feasible in part of the range" in verdict.inner_text().lower()
+            assert "Feasible at 95% confidence from" in verdict.inner_text()
+            equation = page.locator("#equation")
+            assert equation.is_visible()
+            assert equation.inner_text() == "Fe₃O₄ + 4 H₂ → 3 Fe + 4 H₂O"
+            figures = page.locator("svg.figure")
+            assert figures.count() == 2
+            box = figures.first.bounding_box()
+            assert box is not None and box["width"] > 300 and box["height"] > 150
+            assert figures.first.is_visible()
+            # The band and lines are drawn (the polygon of the 95 % interval, the mean line).
+            assert page.locator("svg.figure polygon").count() == 1
+            assert page.locator("svg.figure polyline").count() >= 2
+            assert "process-safety review" in page.locator(".caution").inner_text()
+            ARTIFACTS.mkdir(exist_ok=True)
+            page.screenshot(path=str(ARTIFACTS / "record-report.png"), full_page=True)
+            page.emulate_media(media="print")
+            page.screenshot(path=str(ARTIFACTS / "record-report-print.png"), full_page=True)
+        finally:
+            context.close()
+    # The report needs nothing from outside: no request other than the file itself was made.
+    assert requests == []
