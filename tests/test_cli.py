@@ -262,3 +262,37 @@ def test_record_from_the_command_line(capsys: pytest.CaptureFixture[str], tmp_pa
     assert code == 2 and "file exists" in err
     code, _, err = run(capsys, *argv, "--overwrite")
     assert code == 0, err
+
+
+def test_required_conversion_from_the_command_line(capsys: pytest.CaptureFixture[str]) -> None:
+    argv = [
+        "assess",
+        "CH4 + H2O -> CO + 3 H2",
+        "--T-range",
+        "800",
+        "1100",
+        "K",
+        "--points",
+        "4",
+        "--feed",
+        "CH4:1, H2O:3, N2:0.5",
+        "--require-conversion",
+        "90%",
+        "--key",
+        "CH4",
+        "--P",
+        "5",
+        "bar",
+    ]
+    code, out, err = run(capsys, *argv, "--samples", "2000", "--seed", "2", "--json")
+    assert code == 0, err
+    conv = json.loads(out)["conversion"]
+    assert conv["required_conversion"] == 0.9 and conv["P_Pa"] == 5e5 and conv["trials"] == 2000
+    rows = conv["rows"]
+    # Conversion rises with T for this endothermic reaction; bands bracket the nominal value.
+    assert [r["conversion"] for r in rows] == sorted(r["conversion"] for r in rows)
+    assert all(r["conversion_lo"] <= r["conversion"] <= r["conversion_hi"] for r in rows)
+    code, out, _ = run(capsys, *argv)
+    assert code == 0 and "Equilibrium conversion of CH4 at 5 bar" in out
+    code, _, err = run(capsys, *argv[:-7])  # --feed without the rest
+    assert code == 2 and "together" in err

@@ -11,6 +11,7 @@ The kernel (this package's top level) holds one job per module:
 - :mod:`feasibly.uncertainty` — uncertain inputs, overrides, correlations, reproducible draws;
 - :mod:`feasibly.propagation` — linear rows, Monte Carlo summaries, GUM result, sensitivity;
 - :mod:`feasibly.confidence` — the call: probability, verdict, window, routes;
+- :mod:`feasibly.equilibrium` — equilibrium extent and conversion, Gibbs minimisation, bands;
 - :mod:`feasibly.records` — reproducible decision records (JSON, HTML, Markdown) and verification;
 - :mod:`feasibly.safety` — plain-language cautions;
 - :mod:`feasibly.units` — pint at the edges, SI floats inside;
@@ -29,6 +30,16 @@ from .assessment import (
     standard_properties,
 )
 from .confidence import Route, UncertainAssessment, assess_route, assess_uncertainty
+from .equilibrium import (
+    ConversionBands,
+    Equilibrium,
+    EquilibriumNotConverged,
+    ExtentEquilibrium,
+    conversion_assessment,
+    conversion_bands,
+    equilibrate,
+    equilibrium_extent,
+)
 from .errors import (
     AmbiguousBalance,
     DataFileError,
@@ -63,7 +74,11 @@ __all__ = [
     "AmbiguousBalance",
     "Assessment",
     "Caution",
+    "ConversionBands",
     "DataFileError",
+    "Equilibrium",
+    "EquilibriumNotConverged",
+    "ExtentEquilibrium",
     "FeasiblyError",
     "InvalidTemperature",
     "InvalidUncertainty",
@@ -85,8 +100,12 @@ __all__ = [
     "assess",
     "assess_route",
     "assess_uncertainty",
+    "conversion_assessment",
+    "conversion_bands",
     "crossover_temperatures",
     "default_library",
+    "equilibrate",
+    "equilibrium_extent",
     "load_record",
     "make_record",
     "parse_formula",

@@ -12,13 +12,16 @@ import secrets
 import sys
 from collections.abc import Sequence
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 
 from .__about__ import __version__
+from ._cli_equilibrium import register as _register_equilibrium
 from ._cli_records import register as _register_records
 from .assessment import Assessment, assess
 from .confidence import UncertainAssessment, assess_uncertainty
+from .equilibrium import conversion_assessment
 from .errors import FeasiblyError, UnitError
 from .library import Library, default_library
 from .records import record_from, write_record
@@ -207,7 +210,7 @@ def _cmd_assess(args: argparse.Namespace) -> int:
             if not 0 < y <= 1:
                 raise UnitError(value, "mole fraction", "must be in (0, 1]")
             pressures[name] = f"{y * total} Pa"
-    elif args.P is not None:
+    elif args.P is not None and not args.feed:
         raise UnitError(
             " ".join(args.P),
             "total pressure",
@@ -268,6 +271,28 @@ def _cmd_assess(args: argparse.Namespace) -> int:
             "uncertainty run",
             "--threshold, --require-K, --override and --correlate need --samples N (or --adaptive)",
         )
+    conversion = None
+    if args.feed or args.require_conversion or args.key:
+        if not (args.feed and args.require_conversion and args.key):
+            raise UnitError(
+                None,
+                "required conversion",
+                "give --feed, --require-conversion and "
+                '--key together (e.g. --feed "CH4:1, H2O:2" '
+                "--require-conversion 90% --key CH4)",
+            )
+        conversion = conversion_assessment(
+            result.reaction,
+            (result.standard.T, "K"),
+            args.feed,
+            args.key,
+            args.require_conversion,
+            _quantity_text(args.P, "pressure") if args.P else "1 bar",
+            samples=args.samples,
+            seed=args.seed,
+            confidence=args.confidence,
+            library=lib,
+        )
     if args.record:
         record = record_from(
             result,
@@ -289,12 +314,52 @@ def _cmd_assess(args: argparse.Namespace) -> int:
             for row, urow in zip(doc["rows"], extra.pop("rows"), strict=True):
                 row.update({k: v for k, v in urow.items() if k != "T_K"})
             doc["uncertainty"] = extra
+        if conversion is not None:
+            doc["conversion"] = conversion
         print(json.dumps(doc, indent=2, ensure_ascii=False))
     else:
         _print_assessment(result)
         if uncertain is not None:
             _print_uncertainty(uncertain)
+        if conversion is not None:
+            _print_conversion(conversion)
     return EXIT_OK
+
+
+def _print_conversion(c: dict[str, Any]) -> None:
+    print()
+    req = c["required_conversion"]
+    print(
+        f"Equilibrium conversion of {c['key']} at {c['P_Pa'] / 1e5:g} bar "
+        f"(required: {req:.0%}; {c['model']})"
+    )
+    sampled = c["trials"] > 0
+    header = ["T / K", "conversion"] + (["95 % interval", "P(meets)"] if sampled else ["meets?"])
+    rows = []
+    for r in c["rows"]:
+        row = [_fmt(r["T_K"]), f"{r['conversion']:.1%}"]
+        if sampled:
+            row += [
+                f"[{r['conversion_lo']:.1%}, {r['conversion_hi']:.1%}]",
+                f"{r['P_meets_required']:.1%} ± {r['P_meets_required_se']:.1%}",
+            ]
+        else:
+            row.append("yes" if r["meets_required"] else "no")
+        rows.append(row)
+    widths = [max(len(h), *(len(x[j]) for x in rows)) for j, h in enumerate(header)]
+    print("  ".join(h.rjust(w) for h, w in zip(header, widths, strict=True)))
+    for x in rows:
+        print("  ".join(v.rjust(w) for v, w in zip(x, widths, strict=True)))
+    if c["window"]:
+        spans = ", ".join(
+            ("from the start of the range" if w["lo_open"] else f"from {w['T_lo_K']:.0f} K")
+            + (" to the end of the range" if w["hi_open"] else f" to {w['T_hi_K']:.0f} K")
+            for w in c["window"]
+        )
+        where = f"at {c['confidence']:.0%} confidence" if sampled else "at the nominal data"
+        print(f"The required conversion is met {where} {spans}.")
+    else:
+        print("The required conversion is not met anywhere in this range.")
 
 
 def _correlation(tokens: list[str]) -> tuple[tuple[str, str], tuple[str, str], str]:
@@ -405,6 +470,15 @@ def build_parser() -> argparse.ArgumentParser:
         help="add your own species (JSON or TOML, schema in data/SCHEMA.md)",
     )
     a.add_argument("--json", action="store_true", help="print JSON instead of a table")
+    e = a.add_argument_group("required conversion (equilibrium of this reaction)")
+    e.add_argument("--feed", help='feed amounts, e.g. "CH4:1, H2O:2, N2:0.5" (inerts allowed)')
+    e.add_argument(
+        "--require-conversion",
+        dest="require_conversion",
+        metavar="X",
+        help="conversion of --key that you need, e.g. 90%% or 0.9",
+    )
+    e.add_argument("--key", help="the reactant whose conversion counts, e.g. CH4")
     r = a.add_argument_group("decision record")
     r.add_argument(
         "--record",
@@ -472,6 +546,7 @@ def build_parser() -> argparse.ArgumentParser:
     s.add_argument("--json", action="store_true")
     s.set_defaults(run=_cmd_species)
     _register_records(sub)
+    _register_equilibrium(sub)
     return parser
 
 

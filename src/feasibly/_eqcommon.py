@@ -1,0 +1,92 @@
+"""Shared pieces of the equilibrium modules: input reading, the non-convergence error, bands."""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Mapping, Sequence
+from typing import Any
+
+import numpy as np
+
+from .errors import FeasiblyError, UnitError
+from .reaction import _LABEL, _PHASE_WORDS
+from .units import to_kelvin, to_pascal
+
+__all__ = ["BAND_PROBS", "EquilibriumNotConverged", "parse_feed"]
+
+#: The bands reported: the probabilistically symmetric 95 % interval and the median (JCGM 101 §7.7).
+BAND_PROBS = (0.025, 0.5, 0.975)
+_P_STD = 1e5  # the library's standard pressure, Pa (1 bar)
+
+
+class EquilibriumNotConverged(FeasiblyError, RuntimeError):
+    """The equilibrium iteration did not converge for some states; no number is reported."""
+
+    def __init__(self, what: str, states: Sequence[str], hint: str) -> None:
+        self.what = what
+        self.states = list(states)
+        shown = "; ".join(self.states[:3])
+        more = f" (and {len(self.states) - 3} more)" if len(self.states) > 3 else ""
+        super().__init__(f"{what} did not converge at {shown}{more}. {hint}")
+
+
+# --- input reading ------------------------------------------------------------------------------
+def _split_label(text: str) -> tuple[str, str | None, str | None]:
+    text = text.strip()
+    phase = form = None
+    lab = _LABEL.search(text)
+    if lab:
+        bits = [b.strip() for b in lab.group(1).split(",")]
+        if bits[0] in _PHASE_WORDS:
+            phase = _PHASE_WORDS[bits[0]]
+            form = bits[1] if len(bits) > 1 else None
+        elif len(bits) == 1:
+            form = bits[0]
+        text = text[: lab.start()].strip()
+    return text, phase, form
+
+
+def parse_feed(feed: str | Mapping[str, Any]) -> dict[str, Any]:
+    """Feed amounts by species name: ``"CH4:1, H2O:2"`` or a mapping (values in mol, or arrays).
+
+    >>> parse_feed("CH4:1, H2O: 2.5")
+    {'CH4': 1.0, 'H2O': 2.5}
+    """
+    if isinstance(feed, Mapping):
+        items = list(feed.items())
+    elif isinstance(feed, str):
+        items = []
+        for part in filter(None, (p.strip() for p in re.split(r"[,;]", feed))):
+            if ":" not in part:
+                raise UnitError(part, "feed amount", "write SPECIES:AMOUNT, e.g. 'CH4:1, H2O:2'")
+            name, value = part.rsplit(":", 1)
+            try:
+                items.append((name.strip(), float(value)))
+            except ValueError:
+                raise UnitError(part, "feed amount", "the amount must be a number") from None
+    else:
+        raise UnitError(feed, "feed", "give 'SPECIES:AMOUNT, …' or a mapping of amounts")
+    out: dict[str, Any] = {}
+    for name, value in items:
+        arr = np.asarray(value, dtype=float)
+        if not np.all(np.isfinite(arr)) or np.any(arr < 0):
+            raise UnitError(value, f"feed amount of {name}", "amounts must be finite and ≥ 0")
+        if name in out:
+            raise UnitError(name, "feed", "a species is named twice; give it once")
+        out[name] = float(arr) if arr.ndim == 0 else arr
+    if not out or all(np.all(np.asarray(v) == 0) for v in out.values()):
+        raise UnitError(feed, "feed", "the feed is empty; give at least one positive amount")
+    return out
+
+
+def _kelvin_pascal(T: Any, P: Any) -> tuple[np.ndarray, np.ndarray]:
+    T_K = np.atleast_1d(to_kelvin(T)).astype(float).ravel()
+    P_Pa = np.atleast_1d(to_pascal(P)).astype(float).ravel()
+    if P_Pa.size not in (1, T_K.size) and T_K.size != 1:
+        raise UnitError(P, "pressure", f"give one pressure or one per temperature ({T_K.size})")
+    size = max(T_K.size, P_Pa.size)
+    return np.broadcast_to(T_K, size).copy(), np.broadcast_to(P_Pa, size).copy()
+
+
+def _fmt_state(T: float, P: float) -> str:
+    return f"T = {T:.6g} K, P = {P / 1e5:.6g} bar"

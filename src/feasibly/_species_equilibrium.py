@@ -1,0 +1,430 @@
+"""Equilibrium of a species set by Gibbs-energy minimisation (public face: feasibly.equilibrium).
+
+Reads the species list and the feed, sets up G°/RT and element totals per state, calls the
+vectorised solver of :mod:`feasibly._gibbs`, and repeats it over Monte Carlo draws of the data.
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
+from fractions import Fraction
+from typing import Any
+
+import numpy as np
+
+from ._eqcommon import (
+    _P_STD,
+    BAND_PROBS,
+    EquilibriumNotConverged,
+    _fmt_state,
+    _kelvin_pascal,
+    _split_label,
+    parse_feed,
+)
+from ._gibbs import GibbsBatch, reduce_elements, solve_batch
+from .errors import OutsideDataRange, UnitError, UnknownSpecies
+from .library import Library, default_library
+from .propagation import _deviation_rows, block_rows, uncertain_species
+from .reaction import Reaction, ReactionTerm, _resolve
+from .species import Species
+from .thermo_functions import R
+from .uncertainty import Correlations, Override, build_inputs, correlation_matrix, draw_samples
+
+__all__ = ["Equilibrium", "equilibrate"]
+
+
+# --- species sets -------------------------------------------------------------------------------
+@dataclass(frozen=True)
+class _SpeciesSet:
+    entries: tuple[Species, ...]
+    tokens: tuple[str, ...]
+    token_of: tuple[int, ...]  # entry → token index
+    elements: tuple[str, ...]
+    A: np.ndarray  # elements × entries
+
+    @property
+    def gas(self) -> np.ndarray:
+        return np.array([sp.phase == "g" for sp in self.entries])
+
+
+def _species_set(species: str | Sequence[str | Species], library: Library) -> _SpeciesSet:
+    items: list[str | Species] = (
+        re.findall(r"[^\s,()]+(?:\([^)]*\))?", species)
+        if isinstance(species, str)
+        else list(species)
+    )
+    if not items:
+        raise UnknownSpecies("", detail="The species list is empty.")
+    entries: list[Species] = []
+    tokens: list[str] = []
+    token_of: list[int] = []
+    for item in items:
+        if isinstance(item, Species):
+            found: tuple[Species, ...] = (item,)
+            tokens.append(item.id)
+        else:
+            formula, phase, form = _split_label(item)
+            _, found = _resolve(library, formula, phase, form, item)
+            found = tuple(sp for sp in found if sp.phase in ("g", "l", "cr"))
+            if not found:
+                raise UnknownSpecies(item, detail="Only gases and pure condensed phases are used.")
+            tokens.append(item)
+        for sp in found:
+            if sp.charge:
+                raise UnknownSpecies(sp.id, detail="Equilibria here are for neutral species.")
+            if any(sp is e for e in entries):
+                raise UnknownSpecies(sp.id, detail="It is listed twice; list it once.")
+            entries.append(sp)
+            token_of.append(len(tokens) - 1)
+    if not any(sp.phase == "g" for sp in entries):
+        raise UnknownSpecies(
+            " ".join(tokens), detail="List at least one gas; a gas phase is always present here."
+        )
+    elements = tuple(sorted({el for sp in entries for el in sp.elements}))
+    A = np.array([[sp.elements.get(el, 0.0) for sp in entries] for el in elements], dtype=float)
+    return _SpeciesSet(tuple(entries), tuple(tokens), tuple(token_of), elements, A)
+
+
+def _feed_elements(
+    feed: Mapping[str, Any], sset: _SpeciesSet, library: Library, size: int
+) -> np.ndarray:
+    """Element totals (size × elements) of a feed given by species names."""
+    b = np.zeros((size, len(sset.elements)))
+    for name, amount in feed.items():
+        formula, phase, form = _split_label(name)
+        match = [sp for sp in sset.entries if name in (sp.id, sp.formula)]
+        if match:
+            sp = match[0]
+        else:
+            sp = _resolve(library, formula, phase, form, name)[1][0]
+        for el, count in sp.elements.items():
+            if el not in sset.elements:
+                raise UnknownSpecies(
+                    name, detail=f"No species of the list contains {el}; add one that does."
+                )
+            b[:, sset.elements.index(el)] += count * np.broadcast_to(amount, size)
+    return b
+
+
+def _availability(sset: _SpeciesSet, T: np.ndarray) -> np.ndarray:
+    """Which entries have data at each T (states × entries); refuses a token covering no T."""
+    avail = np.stack([sp.covers(T) for sp in sset.entries], axis=1)
+    owner = np.array(sset.token_of)
+    for k, token in enumerate(sset.tokens):
+        cols = owner == k
+        missing = ~np.any(avail[:, cols], axis=1)
+        if np.any(missing):
+            group = [sp for sp, c in zip(sset.entries, cols, strict=True) if c]
+            lo = min(sp.T_range[0] for sp in group)
+            hi = max(sp.T_range[1] for sp in group)
+            label = group[0].id if len(group) == 1 else f"{token} (all phases)"
+            raise OutsideDataRange(label, float(T[missing][0]), lo, hi)
+    return avail
+
+
+def _gibbs_rt(sset: _SpeciesSet, T: np.ndarray, avail: np.ndarray) -> np.ndarray:
+    g = np.zeros((T.size, len(sset.entries)))
+    for j, sp in enumerate(sset.entries):
+        mask = avail[:, j]
+        if np.any(mask):
+            g[mask, j] = sp.gibbs(T[mask]) / (R * T[mask])
+    return g
+
+
+@dataclass
+class _Prepared:
+    sset: _SpeciesSet
+    T: np.ndarray
+    P: np.ndarray
+    b: np.ndarray  # states × elements
+    avail: np.ndarray
+
+    def groups(self) -> list[tuple[np.ndarray, np.ndarray, np.ndarray]]:
+        """States sharing the same elements with zero total: (rows, element mask, entry mask)."""
+        present = self.b > 0
+        out = []
+        # one pattern is the usual case; np.unique over rows would sort every state for nothing
+        same = np.all(present == present[:1], axis=None)
+        for pattern in present[:1] if same else np.unique(present, axis=0):
+            rows = np.nonzero(np.all(present == pattern, axis=1))[0]
+            keep = ~np.any(self.sset.A[~pattern] > 0, axis=0)
+            out.append((rows, pattern, keep))
+        return out
+
+
+def _solve(
+    prep: _Prepared,
+    g: np.ndarray,
+    warm: tuple[dict[bytes, tuple[np.ndarray, GibbsBatch]], np.ndarray] | None = None,
+) -> tuple[np.ndarray, np.ndarray, dict[bytes, tuple[np.ndarray, GibbsBatch]]]:
+    """Amounts (states × entries), converged mask, and the solver state per group of states.
+
+    ``warm``: solver states of an earlier solve and, for each state here, the state there to
+    start from (the nominal solution at the same T, P and feed for sampled data).
+    """
+    sset = prep.sset
+    gas = sset.gas
+    amounts = np.zeros((prep.T.size, len(sset.entries)))
+    converged = np.ones(prep.T.size, dtype=bool)
+    solved: dict[bytes, tuple[np.ndarray, GibbsBatch]] = {}
+    for rows, el_mask, keep in prep.groups():
+        A = sset.A[np.ix_(el_mask, keep)]
+        Q = reduce_elements(A)
+        Ar = Q.T @ A
+        kg, kc = gas[keep], ~gas[keep]
+        b = prep.b[np.ix_(rows, el_mask)]
+        scale = b.sum(axis=1)  # total atoms: brings the reduced totals to order one
+        br = (b @ Q) / scale[:, None]
+        gk = g[np.ix_(rows, keep)]
+        av = prep.avail[np.ix_(rows, keep)]
+        start = None
+        if warm is not None and el_mask.tobytes() in warm[0]:
+            rows0, batch0 = warm[0][el_mask.tobytes()]
+            start = batch0.take(np.searchsorted(rows0, warm[1][rows]))
+        sol = solve_batch(
+            Ar[:, kg],
+            Ar[:, kc],
+            gk[:, kg],
+            gk[:, kc],
+            br,
+            np.log(prep.P[rows] / _P_STD),
+            av[:, kg],
+            av[:, kc],
+            start=start,
+        )
+        solved[el_mask.tobytes()] = (rows, sol)
+        cols = np.nonzero(keep)[0]
+        sub = np.zeros((rows.size, cols.size))
+        sub[:, kg] = np.exp(sol.ln_n)
+        sub[:, kc] = sol.m
+        amounts[np.ix_(rows, cols)] = sub * scale[:, None]
+        converged[rows] = sol.converged
+    return amounts, converged, solved
+
+
+def _raise_unconverged(prep: _Prepared, ok: np.ndarray) -> None:
+    bad = np.nonzero(~ok)[0]
+    if bad.size == 0:
+        return
+    condensed = not np.all(prep.sset.gas)
+    hint = (
+        "Check that the feed can be made from the listed species. "
+        + (
+            "If the gas phase may vanish entirely (only condensed phases left), add a little "
+            "inert gas such as N2 or Ar: this solver keeps a gas phase. "
+            if condensed
+            else ""
+        )
+        + "If a temperature is near a phase boundary, try one a few kelvin away."
+    )
+    raise EquilibriumNotConverged(
+        "The Gibbs energy minimisation",
+        [_fmt_state(prep.T[i], prep.P[i]) for i in bad],
+        hint,
+    )
+
+
+# --- results ------------------------------------------------------------------------------------
+@dataclass
+class Equilibrium:
+    """Equilibrium amounts of a species set at each state (T, P, feed).
+
+    ``amounts`` (states × species, mol on the feed's scale) and ``gas_fractions`` (mole fractions
+    in the gas phase; 0 for condensed phases). With ``samples``, ``bands`` maps ``"amounts"`` and
+    ``"gas_fractions"`` to arrays (3 × states × species) at the probabilities :data:`BAND_PROBS`.
+    """
+
+    species: tuple[str, ...]
+    phases: tuple[str, ...]
+    elements: tuple[str, ...]
+    element_matrix: np.ndarray
+    T: np.ndarray
+    P: np.ndarray
+    feed_elements: np.ndarray
+    amounts: np.ndarray
+    bands: dict[str, np.ndarray] | None = None
+    trials: int = 0
+    seed: int | None = None
+
+    @property
+    def gas_fractions(self) -> np.ndarray:
+        gas = np.array([p == "g" for p in self.phases])
+        ng = np.where(gas, self.amounts, 0.0)
+        return ng / ng.sum(axis=1, keepdims=True)
+
+    def amount(self, species: str) -> np.ndarray:
+        """Amounts of one species (by entry id) at each state, mol."""
+        return self.amounts[:, self._col(species)]
+
+    def fraction(self, species: str) -> np.ndarray:
+        """Gas mole fraction of one gas species at each state."""
+        return self.gas_fractions[:, self._col(species)]
+
+    def _col(self, species: str) -> int:
+        if species in self.species:
+            return self.species.index(species)
+        hits = [i for i, s in enumerate(self.species) if s.split("(")[0] == species]
+        if len(hits) == 1:
+            return hits[0]
+        raise UnknownSpecies(species, [s for s in self.species if species in s] or self.species)
+
+    def rows(self) -> list[dict[str, Any]]:
+        """One JSON-ready row per state with amounts, fractions and (with samples) bands."""
+        out = []
+        x = self.gas_fractions
+        for i in range(self.T.size):
+            row: dict[str, Any] = {"T_K": float(self.T[i]), "P_Pa": float(self.P[i])}
+            per = {}
+            for j, sid in enumerate(self.species):
+                item: dict[str, Any] = {
+                    "phase": self.phases[j],
+                    "amount_mol": float(self.amounts[i, j]),
+                    "gas_mole_fraction": float(x[i, j]) if self.phases[j] == "g" else None,
+                }
+                if self.bands is not None:
+                    a, y = self.bands["amounts"], self.bands["gas_fractions"]
+                    item["amount_band_mol"] = [float(a[k, i, j]) for k in (0, 1, 2)]
+                    if self.phases[j] == "g":
+                        item["gas_mole_fraction_band"] = [float(y[k, i, j]) for k in (0, 1, 2)]
+                per[sid] = item
+            row["species"] = per
+            out.append(row)
+        return out
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "model": "ideal-gas mixture + pure condensed phases; standard state 1 bar",
+            "elements": list(self.elements),
+            "trials": self.trials,
+            "seed": self.seed,
+            "band_probabilities": list(BAND_PROBS) if self.bands is not None else None,
+            "rows": self.rows(),
+        }
+
+
+def _species_rows(
+    entries: Sequence[Species], T: np.ndarray, avail: np.ndarray, library: Library, keys: list
+) -> np.ndarray:
+    """∂G_i/∂x (states × species × inputs): each species' own linear rows in the inputs."""
+    index = {k: i for i, k in enumerate(keys)}
+    pseudo = Reaction([], "", library)
+    out = np.zeros((T.size, len(entries), len(keys)))
+    for j, sp in enumerate(entries):
+        mask = avail[:, j]
+        if not np.any(mask):
+            continue
+        h = np.zeros((T.size, len(keys)))
+        s = np.zeros((T.size, len(keys)))
+        _deviation_rows(sp, T[mask], pseudo, index, h, s, 1.0, mask)
+        out[:, j, :] = h - T[:, None] * s
+    return out
+
+
+def _uncertain(entries: Sequence[Species], library: Library) -> list[Species]:
+    terms = [
+        ReactionTerm(Fraction(1), sp.id, sp.formula, sp.phase, sp.form, (sp,)) for sp in entries
+    ]
+    return uncertain_species(Reaction(terms, "", library))
+
+
+def equilibrate(
+    species: str | Sequence[str | Species],
+    T: Any,
+    P: Any = "1 bar",
+    feed: str | Mapping[str, Any] | None = None,
+    *,
+    elements: Mapping[str, Any] | None = None,
+    library: Library | None = None,
+    samples: int | None = None,
+    seed: int | None = None,
+    overrides: Sequence[Override] = (),
+    correlations: Correlations | None = None,
+) -> Equilibrium:
+    """Equilibrium composition of a species set by Gibbs-energy minimisation at T and P.
+
+    ``species``: "CH4(g) H2O(g) CO(g) CO2(g) H2(g) C(s)" or a list; a name without a phase
+    brings every phase the library has for it (each where its data covers T). The element totals
+    come from ``feed`` (amounts by species name; scalars or arrays, one per state) or directly
+    from ``elements``. ``T`` and ``P`` carry units and broadcast together. With ``samples`` the
+    calculation is repeated over that many draws of the property data (``seed`` makes it
+    reproducible) and ``bands`` holds the 2.5/50/97.5 % values.
+
+    >>> eq = equilibrate("CO H2O CO2 H2", "1000 K", "1 bar", "CO:1, H2O:1")
+    >>> round(float(eq.fraction("H2")[0]), 3)
+    0.272
+    """
+    library = library or default_library()
+    sset = _species_set(species, library)
+    T_K, P_Pa = _kelvin_pascal(T, P)
+    if (feed is None) == (elements is None):
+        raise UnitError(feed, "feed", "give either a feed or element totals, not both or neither")
+    if feed is not None:
+        amounts_in = parse_feed(feed)
+        sizes = {np.size(v) for v in amounts_in.values()} - {1}
+    else:
+        assert elements is not None
+        amounts_in = {}
+        sizes = {np.size(v) for v in elements.values()} - {1}
+    size = max([T_K.size, *sizes])
+    if len(sizes | {T_K.size} - {1}) > 1:
+        raise UnitError(sizes, "feed", "array amounts must have one value per temperature")
+    T_K, P_Pa = np.broadcast_to(T_K, size).copy(), np.broadcast_to(P_Pa, size).copy()
+    if feed is not None:
+        b = _feed_elements(amounts_in, sset, library, size)
+    else:
+        assert elements is not None
+        b = np.zeros((size, len(sset.elements)))
+        for el, v in elements.items():
+            if el not in sset.elements:
+                raise UnknownSpecies(el, detail="No species of the list contains this element.")
+            b[:, sset.elements.index(el)] = np.broadcast_to(np.asarray(v, dtype=float), size)
+        if np.any(b < 0) or not np.all(np.isfinite(b)) or np.any(b.sum(axis=1) <= 0):
+            raise UnitError(elements, "element totals", "totals must be finite, ≥ 0, not all 0")
+    avail = _availability(sset, T_K)
+    prep = _Prepared(sset, T_K, P_Pa, b, avail)
+    g = _gibbs_rt(sset, T_K, avail)
+    amounts, ok, batches = _solve(prep, g)
+    _raise_unconverged(prep, ok)
+    result = Equilibrium(
+        tuple(sp.id for sp in sset.entries),
+        tuple(sp.phase for sp in sset.entries),
+        sset.elements,
+        sset.A,
+        T_K,
+        P_Pa,
+        b,
+        amounts,
+    )
+    if samples is None:
+        return result
+    inputs = build_inputs(_uncertain(sset.entries, library), overrides)
+    drawn = draw_samples(
+        inputs, samples, seed=seed, correlation=correlation_matrix(inputs, correlations)
+    )
+    rows = _species_rows(sset.entries, T_K, avail, library, drawn.keys)
+    n = drawn.n
+    bands = {k: np.empty((3, size, len(sset.entries))) for k in ("amounts", "gas_fractions")}
+    gas = sset.gas
+    # states per block: keeps the sampled arrays (block × N × species) to a few tens of MB
+    chunk = max(1, block_rows(n * len(sset.entries)))
+    for a in range(0, size, chunk):
+        sl = slice(a, min(a + chunk, size))
+        m = sl.stop - sl.start
+        dg = rows[sl] @ drawn.values  # (m, species, N), J/mol
+        g_s = g[sl, :, None] + dg / (R * T_K[sl, None, None])
+        g_flat = np.moveaxis(g_s, 2, 1).reshape(m * n, -1)
+        rep = np.repeat(np.arange(sl.start, sl.stop), n)
+        sub = _Prepared(sset, T_K[rep], P_Pa[rep], b[rep], avail[rep])
+        amt, ok_s, _ = _solve(sub, g_flat, (batches, rep))
+        _raise_unconverged(sub, ok_s)
+        amt = amt.reshape(m, n, -1)
+        ng = np.where(gas, amt, 0.0)
+        frac = ng / ng.sum(axis=2, keepdims=True)
+        bands["amounts"][:, sl] = np.quantile(amt, BAND_PROBS, axis=1)
+        bands["gas_fractions"][:, sl] = np.quantile(frac, BAND_PROBS, axis=1)
+    result.bands = bands
+    result.trials = n
+    result.seed = seed
+    return result
