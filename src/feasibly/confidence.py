@@ -11,6 +11,7 @@ temperature without re-sampling. The verdict at each temperature reads plainly i
 
 from __future__ import annotations
 
+import functools
 import math
 import sys
 import time
@@ -180,10 +181,18 @@ class UncertainAssessment:
         self.model = self._model(T)
         thr = threshold(T)
         self.G = summarise(self.model, samples, "G", thr)
-        self.H = summarise(self.model, samples, "H")
-        self.S = summarise(self.model, samples, "S")
         self.threshold_J_per_mol = thr
         self._crossing: tuple[np.ndarray, np.ndarray, np.ndarray] | None = None
+
+    @functools.cached_property
+    def H(self) -> Summary:
+        """Monte Carlo summary of ΔrH° on the grid (computed when first asked for)."""
+        return summarise(self.model, self.samples, "H")
+
+    @functools.cached_property
+    def S(self) -> Summary:
+        """Monte Carlo summary of ΔrS° on the grid (computed when first asked for)."""
+        return summarise(self.model, self.samples, "S")
 
     # --- evaluation -----------------------------------------------------------------------------
     def _model(self, T: np.ndarray) -> LinearModel:
