@@ -447,3 +447,45 @@ def test_record_error_is_a_feasibly_error() -> None:
     assert isinstance(err, FeasiblyError) and isinstance(err, ValueError)
     assert err.problems == ["field a: missing", "field b: wrong"]
     assert "2 problem(s)" in str(err)
+
+
+def test_required_conversion_travels_and_verifies(tmp_path: Path) -> None:
+    # The conversion criterion is recomputed from the record's own inputs by verify.
+    from feasibly.cli import main
+
+    path = tmp_path / "reformer.json"
+    argv = [
+        "assess",
+        "CH4 + H2O -> CO + 3 H2",
+        "--T-range",
+        "900",
+        "1100",
+        "K",
+        "--points",
+        "3",
+        "--feed",
+        "CH4:1, H2O:3",
+        "--require-conversion",
+        "90%",
+        "--key",
+        "CH4",
+        "--P",
+        "5",
+        "bar",
+        "--samples",
+        "1024",
+        "--seed",
+        "9",
+        "--record",
+        str(path),
+    ]
+    assert main(argv) == 0
+    doc = json.loads(path.read_text(encoding="utf-8"))
+    assert doc["conversion"]["key"] == "CH4" and doc["conversion"]["P_Pa"] == 5e5
+    assert doc["results"]["conversion"]["rows"][0]["P_meets_required"] is not None
+    assert verify_record(path).identical
+    assert "Required conversion of CH4" in path.with_suffix(".html").read_text(encoding="utf-8")
+    doc["results"]["conversion"]["rows"][0]["conversion"] += 0.01
+    result = verify_record(doc)
+    assert not result.identical
+    assert any("conversion" in d.field for d in result.differences)

@@ -16,6 +16,7 @@ from typing import Any
 from ._record_build import environment
 from .assessment import ONE_BAR_PA, assess
 from .confidence import _ADAPTIVE_MAX_TRIALS, assess_uncertainty
+from .equilibrium import conversion_assessment
 from .errors import FeasiblyError
 from .library import Library, default_library
 from .records import (
@@ -107,9 +108,27 @@ def _rerun(doc: Mapping[str, Any]) -> dict[str, Any]:
         library=lib,
         balance=rxn["balance"],
     )
+    conv_in = doc.get("conversion")
+    conv: dict[str, Any] = {}
+    if conv_in is not None:
+        conv = {
+            "conversion_inputs": conv_in,
+            "conversion": conversion_assessment(
+                a.reaction,
+                (a.standard.T, "K"),
+                dict(conv_in["feed"]),
+                conv_in["key"],
+                conv_in["required"],
+                (conv_in["P_Pa"], "Pa"),
+                samples=conv_in["samples"],
+                seed=conv_in["seed"],
+                confidence=conv_in["confidence"],
+                library=lib,
+            ),
+        }
     unc = doc["uncertainty"]
     if unc is None:
-        return record_from(a, None, balance=rxn["balance"])
+        return record_from(a, None, balance=rxn["balance"], **conv)
     crit = unc["criterion"]
     overrides = [
         Override(
@@ -156,6 +175,7 @@ def _rerun(doc: Mapping[str, Any]) -> dict[str, Any]:
         required_K=crit.get("required_K"),
         max_trials=max_trials if adaptive else None,
         sensitivity_at=(unc["sensitivity_T_K"], "K"),
+        **conv,
     )
 
 

@@ -324,6 +324,43 @@ def _conv(block: Mapping[str, Any]) -> str:
     return text + (" (assumed by policy)" if unc.get("assumed") else "")
 
 
+def _conversion(doc: Mapping[str, Any]) -> str:
+    """The required-conversion section, when the call used that criterion."""
+    inputs, res = doc.get("conversion"), doc["results"].get("conversion")
+    if not inputs or not res:
+        return ""
+    sampled = bool(res.get("trials"))
+    feed = ", ".join(f"{_e(k)} {_num(v, digits=3)}" for k, v in inputs["feed"].items())
+    head = ["T / K", "conversion"] + (["95 % interval", "P(meets)"] if sampled else ["meets?"])
+    rows = []
+    for r in res["rows"]:
+        row = [_num(r["T_K"]), _pct(r["conversion"])]
+        if sampled:
+            row += [
+                f"{_pct(r['conversion_lo'])} – {_pct(r['conversion_hi'])}",
+                f"{_pct(r['P_meets_required'])} ± {_pct(r['P_meets_required_se'])}",
+            ]
+        else:
+            row.append("yes" if r["meets_required"] else "no")
+        rows.append(row)
+    if res["window"]:
+        spans = "; ".join(
+            ("from the start of the range" if w["lo_open"] else f"from {w['T_lo_K']:.0f} K")
+            + (" to the end of the range" if w["hi_open"] else f" to {w['T_hi_K']:.0f} K")
+            for w in res["window"]
+        )
+        where = f"at {inputs['confidence']:.0%} confidence" if sampled else "at nominal data"
+        window = f"The required conversion is met {where} {spans}."
+    else:
+        window = "The required conversion is not met anywhere in this range."
+    return (
+        f"<h2>Required conversion of {_e(inputs['key'])}</h2>"
+        f"<p>Needed: {_pct(inputs['required'], 0)} of {_e(inputs['key'])} at "
+        f"{_num(inputs['P_Pa'], 1e5, 3)} bar total pressure; feed (mol): {feed}. "
+        f"{_e(res['model'])}.</p><p>{_e(window)}</p>" + _table(head, rows)
+    )
+
+
 def _species(doc: Mapping[str, Any]) -> str:
     rows = []
     for s in doc["species"]:
@@ -408,6 +445,7 @@ def render_html(doc: Mapping[str, Any]) -> str:
         extras,
         notes,
         _sensitivity(doc),
+        _conversion(doc),
         "<h2>Conditions and settings</h2>",
         _settings(doc),
         "<h2>Species data used</h2>",

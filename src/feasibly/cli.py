@@ -21,7 +21,7 @@ from ._cli_equilibrium import register as _register_equilibrium
 from ._cli_records import register as _register_records
 from .assessment import Assessment, assess
 from .confidence import UncertainAssessment, assess_uncertainty
-from .equilibrium import conversion_assessment
+from .equilibrium import conversion_assessment, parse_feed
 from .errors import FeasiblyError, UnitError
 from .library import Library, default_library
 from .records import record_from, write_record
@@ -294,6 +294,20 @@ def _cmd_assess(args: argparse.Namespace) -> int:
             library=lib,
         )
     if args.record:
+        conv_kwargs: dict[str, Any] = {}
+        if conversion is not None:
+            conv_kwargs = {
+                "conversion": conversion,
+                "conversion_inputs": {
+                    "feed": parse_feed(args.feed),
+                    "key": args.key,
+                    "required": conversion["required_conversion"],
+                    "P_Pa": conversion["P_Pa"],
+                    "samples": args.samples,
+                    "seed": args.seed,
+                    "confidence": args.confidence,
+                },
+            }
         record = record_from(
             result,
             uncertain,
@@ -302,6 +316,7 @@ def _cmd_assess(args: argparse.Namespace) -> int:
             rationale=args.rationale or "",
             balance=args.balance,
             required_K=args.require_K,
+            **conv_kwargs,
         )
         written = write_record(
             record, args.record, Path(args.record).with_suffix(".html"), overwrite=args.overwrite

@@ -244,8 +244,15 @@ def record_from(
     required_K: float | None = None,
     max_trials: int | None = None,
     sensitivity_at: Any = None,
+    conversion: Mapping[str, Any] | None = None,
+    conversion_inputs: Mapping[str, Any] | None = None,
 ) -> dict[str, Any]:
     """The decision record (plain dict, sealed with its content hash) of calls already made.
+
+    ``conversion`` is the result of :func:`feasibly.equilibrium.conversion_assessment` for the
+    same reaction and temperatures, and ``conversion_inputs`` what it was called with: ``feed``
+    (species → amount), ``key``, ``required`` (fraction), ``P_Pa``, ``samples``, ``seed`` and
+    ``confidence``. Give both or neither.
 
     ``uncertain`` must be the Monte Carlo run of the same reaction on the same temperatures and
     pressures, with a seed. ``balance`` (whether coefficients were found) is inferred when not
@@ -266,6 +273,10 @@ def record_from(
             problems.append("field uncertain: it was run at other partial pressures")
         if u.standard_pressure != a.standard.standard_pressure:
             problems.append("field uncertain: it was run at another standard pressure")
+    if (conversion is None) != (conversion_inputs is None):
+        problems.append("field conversion: give the conversion result and its inputs together")
+    if conversion is not None and conversion.get("T_K") != [float(t) for t in a.standard.T]:
+        problems.append("field conversion: it was computed on other temperatures")
     if problems:
         raise RecordError("record_from", problems)
     t_sens = float(a.standard.T[len(a.standard.T) // 2])
@@ -302,6 +313,9 @@ def record_from(
         "environment": environment(),
         "results": results_section(a, u, t_sens),
     }
+    if conversion is not None and conversion_inputs is not None:
+        record["conversion"] = plain(dict(conversion_inputs))
+        record["results"]["conversion"] = plain(dict(conversion))
     return _seal(record)
 
 
