@@ -17,8 +17,11 @@ The kernel (this package's top level) holds one job per module:
 - :mod:`feasibly.units` — pint at the edges, SI floats inside;
 - :mod:`feasibly.cli` — the ``feasibly`` command.
 
-Architecture rule: the kernel never imports ``feasibly.widgets`` or any figure code; widgets call
-the kernel.
+Beside the kernel: :mod:`feasibly.figures` (pure functions from results to plotly figures) and
+:mod:`feasibly.widgets` (notebook views and their state; install the ``widgets`` extra).
+
+Architecture rule: the kernel never imports ``feasibly.widgets`` or ``feasibly.figures``; widgets
+call the kernel and the figure builders.
 """
 
 from .__about__ import __version__

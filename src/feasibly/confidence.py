@@ -341,6 +341,12 @@ class UncertainAssessment:
             )
         return out
 
+    def crossing_temperatures(self) -> np.ndarray:
+        """Each trial's first crossing of the criterion over the grid's range, K (NaN: none)."""
+        self.crossover()
+        assert self._crossing is not None
+        return self._crossing[1]
+
     # --- uncertainty budget ---------------------------------------------------------------------
     def sensitivity(self, T: Any) -> list[dict[str, Any]]:
         """Inputs ranked by their share of Var(ΔrG(T)) (exact for this linear model).

@@ -1,0 +1,220 @@
+"""The composed worksheet: reaction, temperature, conditions and the feasibility panel, wired."""
+
+from __future__ import annotations
+
+from typing import Any
+
+import ipywidgets as w
+import numpy as np
+from traitlets import Float, Instance, Int, List, Tuple, Unicode
+
+from ..confidence import assess_uncertainty
+from ..errors import FeasiblyError
+from ..library import Library, default_library
+from ..reaction import Reaction
+from ..units import to_kelvin
+from ._common import error_html, note_html
+from .conditions import Conditions
+from .panel import FeasibilityPanel
+from .reaction import ReactionBuilder
+from .record import RecordExport
+from .temperature import TemperatureControl
+
+__all__ = ["FeasibilityWorksheet"]
+
+# Default sampled window: the reaction's data range, capped at 2000 K above its lower end —
+# wide enough for any bench or furnace step, narrow enough to keep the curves readable.
+_WINDOW_SPAN_K = 2000.0
+# 20 000 trials: P(feasible) near a 95 % level has a Monte Carlo standard error of 0.15 %, and a
+# temperature change re-evaluates in about 20 ms.
+_SAMPLES = 20_000
+# 41 grid temperatures: curves smooth at panel width; the selected temperature is exact anyway.
+_POINTS = 41
+
+
+def _kelvin(x: Any) -> float:
+    return float(to_kelvin(x))
+
+
+class FeasibilityWorksheet(w.VBox):
+    """Everything in one widget: ``FeasibilityWorksheet("MgCO3 -> MgO + CO2", T="650 K")``.
+
+    Parts (each a widget with its own traits): :attr:`reaction` (:class:`ReactionBuilder`),
+    :attr:`temperature` (:class:`TemperatureControl`), :attr:`conditions`
+    (:class:`Conditions`), :attr:`panel` (:class:`FeasibilityPanel`). Traits of the worksheet:
+    ``T_window`` ((lo, hi) K sampled for the curves; (0, 0) for automatic), ``samples``,
+    ``seed``, ``points``, ``confidence``, ``overrides``, ``library``, ``error`` and the counter
+    ``resamples``. Changing the equation, window, conditions or sampling settings draws new
+    samples once; changing the temperature only re-reads the kept draws. On bad input the
+    kernel's message shows inline and the last good result stays on screen.
+    """
+
+    T_window = Tuple(Float(), Float(), default_value=(0.0, 0.0), help="(lo, hi) K; (0, 0) = auto")
+    samples = Int(_SAMPLES, help="Monte Carlo trials")
+    seed = Int(2026, help="seed of the draws (results are reproducible)")
+    points = Int(_POINTS, help="grid temperatures of the curves")
+    confidence = Float(0.95, help="confidence level of the call")
+    overrides: List[Any] = List(help="feasibly.uncertainty.Override objects applied to the draws")
+    library = Instance(Library, help="species library (default: the shipped one)")
+    error = Unicode("", help="the kernel's message about the last change, '' when none")
+    resamples = Int(0, help="how many times samples have been drawn")
+
+    def __init__(
+        self,
+        equation: str = "MgCO3 -> MgO + CO2",
+        T: Any = None,
+        T_window: Any = None,
+        partial_pressures: dict[str, str] | None = None,
+        library: Library | None = None,
+        **kwargs: Any,
+    ) -> None:
+        self._busy = False
+        self._requested_T = _kelvin(T) if T is not None else None
+        super().__init__(**kwargs)
+        self.library = library or default_library()
+        if T_window is not None:
+            self.T_window = (_kelvin(T_window[0]), _kelvin(T_window[1]))
+        self.reaction = ReactionBuilder(equation, library=self.library)
+        self.temperature = TemperatureControl()
+        self.conditions = Conditions()
+        self.panel = FeasibilityPanel()
+        self.export = RecordExport(lambda: self.panel.result)
+        self._status = w.HTML()
+        self._feedback = w.HTML()
+        self.children = [
+            w.HTML(
+                "<b style='font-size:16px'>Is this step thermodynamically feasible?</b>"
+                "<div style='font-size:12px'>Monte Carlo over the uncertainty of the property "
+                "data. Thermodynamics only: nothing here speaks to rate, hazards or "
+                "scale-up.</div>"
+            ),
+            self.reaction,
+            self.temperature,
+            self.conditions,
+            self._feedback,
+            self._status,
+            self.panel,
+            w.Accordion(children=[self.export], titles=("Write a decision record",)),
+        ]
+        if partial_pressures:
+            self._set_gases()
+            self.conditions.entries = dict(partial_pressures)
+        self._update(None)
+        self.observe(
+            self._update,
+            names=["T_window", "samples", "seed", "points", "confidence", "overrides", "library"],
+        )
+        self.reaction.observe(self._update, names=["reaction_text", "error"])
+        self.conditions.observe(self._update, names=["partial_pressures_Pa", "error"])
+        self.temperature.observe(self._update, names=["value", "unit"])
+
+    @property
+    def result(self) -> Any:
+        """The :class:`~feasibly.confidence.UncertainAssessment` on screen (last good)."""
+        return self.panel.result
+
+    def _set_gases(self) -> None:
+        """Offer a partial pressure for every term that is a gas throughout the window."""
+        rxn = self.reaction.reaction
+        if rxn is None:
+            return
+        try:
+            lo, hi = self._window(rxn)
+            plan = rxn.phase_plan(np.linspace(lo, hi, self.points))
+        except FeasiblyError:
+            return
+        gases = [
+            t.label()
+            for t, idx in zip(rxn.terms, plan, strict=True)
+            if all(t.candidates[k].phase == "g" for k in set(idx.tolist()))
+        ]
+        self.conditions.gases = gases
+        self.conditions.entries = {g: v for g, v in self.conditions.entries.items() if g in gases}
+
+    def _window(self, rxn: Reaction) -> tuple[float, float]:
+        lo, hi = rxn.valid_range()
+        if self.T_window != (0.0, 0.0):
+            return self.T_window
+        return lo, min(hi, lo + _WINDOW_SPAN_K)
+
+    def _update(self, change: dict[str, Any] | None) -> None:
+        if self._busy:
+            return
+        owner = change["owner"] if change else None
+        name = change["name"] if change else None
+        if owner is self.temperature:
+            with self.panel.hold():
+                self.panel.temperature = self.temperature.value
+                self.panel.temperature_unit = self.temperature.unit
+            return
+        if name == "error":
+            self._show_status()
+            return
+        self._busy = True
+        try:
+            self._resample()
+        finally:
+            self._busy = False
+        self._show_status()
+
+    def _resample(self) -> None:
+        rxn = self.reaction.reaction
+        if rxn is None:
+            self.error = "Enter an equation to begin."
+            return
+        self._set_gases()
+        try:
+            lo, hi = self._window(rxn)
+            result = assess_uncertainty(
+                rxn,
+                T_range=((lo, "K"), (hi, "K")),
+                points=self.points,
+                samples=self.samples,
+                seed=self.seed,
+                confidence=self.confidence,
+                overrides=self.overrides,
+                partial_pressures={
+                    gas: (pa, "Pa") for gas, pa in self.conditions.partial_pressures_Pa.items()
+                },
+                library=self.library,
+                progress=False,
+            )
+        except FeasiblyError as exc:
+            self.error = str(exc)
+            return
+        self.resamples += 1
+        self.error = ""
+        with self.panel.hold():
+            self.temperature.set_range(rxn.valid_range())
+            if self.panel.result is None and self._requested_T is not None:
+                self.temperature.value = self._requested_T  # refused if outside the data
+            elif self.panel.result is None or not lo <= self.temperature.value <= hi:
+                self.temperature.value = 0.5 * (lo + hi)
+            self.panel.result = result
+            self.panel.temperature = self.temperature.value
+            self.panel.temperature_unit = self.temperature.unit
+
+    def _show_status(self) -> None:
+        self._feedback.value = error_html(self.error)
+        shown = self.panel.result
+        if shown is None:
+            self._status.value = ""
+            return
+        stale = bool(self.error or self.reaction.error or self.conditions.error)
+        lo, hi = float(shown.T[0]), float(shown.T[-1])
+        text = (
+            f"Showing {shown.reaction.equation(pretty=True)}, sampled {lo:g}–{hi:g} K "
+            f"({shown.trials:,} trials, seed {shown.samples.seed})."
+        )
+        if stale:
+            text = "Input above has a problem; still showing the last good result. " + text
+        self._status.value = note_html(text)
+
+    def __repr__(self) -> str:
+        r = self.panel.result
+        if r is None:
+            return f"<FeasibilityWorksheet {self.reaction.equation!r}: no result ({self.error})>"
+        return (
+            f"<FeasibilityWorksheet {r.reaction.equation()} at {self.temperature.value:.2f} K: "
+            f"{self.panel.verdict}, P(feasible) = {self.panel.probability:.3f}>"
+        )

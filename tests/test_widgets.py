@@ -1,0 +1,266 @@
+"""Widget state without a browser: set traits, assert traits and outputs, count recomputations."""
+
+from __future__ import annotations
+
+import pytest
+
+pytest.importorskip("ipywidgets", reason="widgets need the widgets extra (ipywidgets)")
+pytest.importorskip("plotly", reason="widgets need the widgets extra (plotly)")
+pytest.importorskip("anywidget", reason="plotly's FigureWidget needs anywidget")
+
+import traitlets
+
+from feasibly import figures
+from feasibly.confidence import assess_uncertainty
+from feasibly.widgets import (
+    Conditions,
+    FeasibilityPanel,
+    FeasibilityWorksheet,
+    ReactionBuilder,
+    SpeciesEstimate,
+    SpeciesPicker,
+    TemperatureControl,
+    UncertaintyInput,
+)
+from feasibly.widgets import worksheet as worksheet_module
+
+# 2048 trials: the widget tests check wiring, not statistics.
+N = 2048
+
+
+@pytest.fixture
+def counters(monkeypatch):
+    """Count kernel samplings and panel evaluations."""
+    calls = {"sample": 0, "snapshot": 0}
+    real_assess, real_snapshot = worksheet_module.assess_uncertainty, figures.snapshot
+
+    def assess(*a, **k):
+        calls["sample"] += 1
+        return real_assess(*a, **k)
+
+    def snapshot(*a, **k):
+        calls["snapshot"] += 1
+        return real_snapshot(*a, **k)
+
+    monkeypatch.setattr(worksheet_module, "assess_uncertainty", assess)
+    monkeypatch.setattr(figures, "snapshot", snapshot)
+    return calls
+
+
+@pytest.fixture
+def sheet(counters):
+    ws = FeasibilityWorksheet(
+        "MgCO3 -> MgO + CO2", T="650 K", T_window=("500 K", "900 K"), samples=N
+    )
+    counters["sample"] = counters["snapshot"] = 0
+    return ws
+
+
+# --- species picker -------------------------------------------------------------------------------
+def test_picker_lists_matches_and_yields_an_entry():
+    p = SpeciesPicker(query="carbon dioxide")
+    assert "CO2(g)" in p.matches
+    p.value = "CO2(g)"
+    assert p.species is not None and p.species.formula == "CO2"
+    label = dict((v, k) for k, v in p._list.options)["CO2(g)"]
+    assert "gas" in label and "K" in label and "kJ/mol" in label  # phase, range, uncertainty
+    assert p._info.value == ""
+    p.show_provenance = True
+    assert "source" in p._info.value and "CO2(g)" in p._info.value
+
+
+def test_picker_reports_no_match_inline():
+    p = SpeciesPicker(query="Qqzx")
+    assert p.matches == [] and "No species" in p.error and "No species" in p._feedback.value
+
+
+# --- reaction builder -----------------------------------------------------------------------------
+def test_builder_reports_balance_and_keeps_the_last_good_reaction():
+    b = ReactionBuilder("TiO2 + 2 Cl2 + C -> TiCl4 + CO2")
+    assert b.balanced and b.error == ""
+    assert "TiO<sub>2</sub>" in b._shown.value and "(cr" in b._shown.value  # subscripts, phases
+    good = b.reaction_text
+    b.equation = "TiO2 + Cl2 -> TiCl4 + O2"
+    assert not b.balanced and "not balanced" in b.error
+    assert "Cl" in b._table.value and "differs" in b._table.value  # per-element table
+    assert b.reaction_text == good and "last good" in b._shown.value
+
+
+def test_builder_suggests_species_and_applies_a_suggestion():
+    b = ReactionBuilder("TiO3 + 2 Cl2 + C -> TiCl4 + CO2")
+    assert "TiO2" in b.suggestions and "Did you mean" in b._feedback.value
+    b.use_suggestion("TiO3", "TiO2")
+    assert b.equation.startswith("TiO2 ") and b.balanced
+
+
+def test_builder_auto_balances_or_says_why_not():
+    b = ReactionBuilder("C3H8 + O2 -> CO2 + H2O")
+    b.auto_balance()
+    assert b.equation == "C3H8 + 5 O2 -> 3 CO2 + 4 H2O" and b.balanced
+    b.equation = "CO -> C2"
+    b.auto_balance()
+    assert "Cannot balance" in b.error or "Cannot read" in b.error or "No species" in b.error
+
+
+def test_builder_row_mode_writes_the_equation():
+    b = ReactionBuilder("MgCO3 -> MgO + CO2")
+    b.mode = "rows"
+    rows = b._rows.children
+    assert [r.term() for r in rows] == [
+        ("reactant", "MgCO3"),
+        ("product", "MgO"),
+        ("product", "CO2"),
+    ]
+    rows[2].coef.value = "2"
+    assert b.equation == "MgCO3 -> MgO + 2 CO2" and not b.balanced
+
+
+# --- temperature control --------------------------------------------------------------------------
+def test_temperature_units_and_inline_refusal():
+    t = TemperatureControl(value=700.0, valid_range=(298.15, 1000.0))
+    t.unit = "°C"
+    assert t._entry.value == "426.85" and t.value == 700.0
+    t._entry.value = "500"  # °C
+    assert t.value == pytest.approx(773.15) and t.error == ""
+    t._entry.value = "900"  # °C = 1173 K, outside
+    assert t.value == pytest.approx(773.15) and "outside" in t.error
+    assert "outside" in t._feedback.value
+    t._entry.value = "-300"  # below absolute zero: the kernel's message
+    assert "absolute zero" in t.error and t.value == pytest.approx(773.15)
+    t.unit = "°F"
+    assert float(t._entry.value) == pytest.approx(932.0)
+    with pytest.raises(traitlets.TraitError, match="outside the data range"):
+        t.value = 2000.0
+
+
+# --- uncertainty input and estimate ---------------------------------------------------------------
+def test_uncertainty_input_converts_coverage_and_requires_a_reason():
+    u = UncertaintyInput(target="MgCO3(cr)", quantity="dHf", value="-1111", uncertainty="4")
+    assert "say why" in u.error and u.override is None
+    u.reason = "our calorimetry"
+    u.coverage = "95 %"
+    assert u.error == "" and u.standard_u == pytest.approx(4000 / 1.96)
+    assert u.override is not None and u.override.coverage == "95%"
+    good = u.override
+    u.uncertainty = "-3"
+    assert "negative" in u.error and u.override is good  # the last valid entry is kept
+
+
+def test_species_estimate_builds_a_library_entry():
+    e = SpeciesEstimate(
+        formula="MnCO3",
+        phase="cr",
+        T_max=900.0,
+        cp=95.0,
+        dHf={"value": "-893", "uncertainty": "12", "coverage": "95 %", "reason": "estimate"},
+        S298={"value": "86", "uncertainty": "6", "coverage": "k = 2", "reason": "estimate"},
+        cp_u={"value": "1", "uncertainty": "10", "reason": "estimate"},
+    )
+    assert e.error == "" and e.species_id == "MnCO3(cr)"
+    sp = e.library["MnCO3(cr)"]
+    assert sp.dHf.u == pytest.approx(12000 / 1.96) and sp.S298.u == pytest.approx(3.0)
+    e.S298.reason = ""
+    assert "source or reason" in e.error and "MnCO3(cr)" in e.library
+
+
+# --- conditions -----------------------------------------------------------------------------------
+def test_conditions_units_fractions_and_totals():
+    c = Conditions(gases=["H2", "H2O(g)"])
+    c.entries = {"H2": "0.9", "H2O(g)": "50 mbar"}
+    assert c.partial_pressures_Pa == pytest.approx({"H2": 90000.0, "H2O(g)": 5000.0})
+    c.entries = {"H2": "0.9 bar", "H2O(g)": "0.2 bar"}
+    assert "add up to 1.1 bar" in c.error
+    assert c.partial_pressures_Pa == pytest.approx({"H2": 90000.0, "H2O(g)": 5000.0})
+    c.entries = {"H2": "0.9 kg"}
+    assert "not a pressure" in c.error
+
+
+# --- panel and worksheet --------------------------------------------------------------------------
+def test_panel_reads_the_kept_draws_without_resampling():
+    r = assess_uncertainty("MgCO3 -> MgO + CO2", T_range=("500 K", "900 K"), samples=N, seed=1)
+    p = FeasibilityPanel(r, temperature=650.0)
+    first = p.figure.data[figures.TRACES.index("histogram")].y
+    values_before = r.samples.values.copy()
+    p.temperature = 800.0
+    assert (r.samples.values == values_before).all()
+    assert p.verdict == r.at("800 K")["verdict"] and p.probability == r.at("800 K")["P_feasible"]
+    assert list(p.figure.data[figures.TRACES.index("histogram")].y) != list(first)
+    assert "Feasible at 800 K" in p.summary
+    assert "Gas is produced" in p._cautions.value  # the kernel's caution, shown
+
+
+def test_one_change_one_recomputation(sheet, counters):
+    sheet.temperature.value = 700.0
+    assert counters == {"sample": 0, "snapshot": 1}
+    sheet.temperature.unit = "°C"
+    assert counters == {"sample": 0, "snapshot": 2}
+    sheet.reaction.equation = "Mg(OH)2 -> MgO + H2O(g)"
+    assert counters == {"sample": 1, "snapshot": 3}
+    sheet.seed = 9
+    assert counters == {"sample": 2, "snapshot": 4}
+    assert sheet.resamples == 3  # one at construction (reset counter), then two
+
+
+def test_temperature_change_changes_verdict_and_plot(sheet):
+    hist = figures.TRACES.index("histogram")
+    before = (sheet.panel.verdict, list(sheet.panel.figure.data[hist].x))
+    sheet.temperature.value = 880.0
+    after = (sheet.panel.verdict, list(sheet.panel.figure.data[hist].x))
+    assert before[0] == "too close to call" and after[0] == "feasible"
+    assert before[1] != after[1]
+
+
+def test_bad_equation_is_shown_inline_and_the_last_result_kept(sheet, counters):
+    shown = sheet.result
+    sheet.reaction.equation = "MgCO3 -> MgO"
+    assert "not balanced" in sheet.reaction._feedback.value
+    assert sheet.result is shown and counters["sample"] == 0
+    assert "last good result" in sheet._status.value
+
+
+def test_kernel_error_is_shown_inline_and_the_last_result_kept(sheet):
+    shown = sheet.result
+    sheet.T_window = (500.0, 1500.0)  # MgCO3 data end at 1000 K: the kernel refuses
+    assert "MgCO3" in sheet.error and "1000 K" in sheet.error
+    assert "1000 K" in sheet._feedback.value and sheet.result is shown
+
+
+def test_pressures_reach_the_kernel(sheet):
+    assert sheet.conditions.gases == ["CO2"]
+    p_std = sheet.panel.probability
+    sheet.conditions.entries = {"CO2": "0.01 bar"}
+    assert sheet.result.partial_pressures_Pa == {"CO2": pytest.approx(1000.0)}
+    assert sheet.panel.probability > p_std
+    assert "ΔrG (kJ/mol)" in sheet.panel.figure.layout.yaxis.title.text
+
+
+def test_sample_arrays_are_not_synced(sheet):
+    """Only traits tagged for sync reach the browser; the result and its draws are not."""
+    for w in (sheet, sheet.panel, sheet.temperature, sheet.reaction, sheet.conditions):
+        synced = set(w.trait_names(sync=True))
+        assert not synced & {"result", "samples", "value", "temperature", "equation"}
+    hist = sheet.panel.figure.data[figures.TRACES.index("histogram")]
+    assert len(hist.y) == 40  # binned counts, not the 2048 draws
+
+
+def test_repr_is_a_short_deterministic_summary(sheet):
+    assert repr(sheet) == (
+        "<FeasibilityWorksheet MgCO3 -> MgO + CO2 at 650.00 K: "
+        f"{sheet.panel.verdict}, P(feasible) = {sheet.panel.probability:.3f}>"
+    )
+
+
+def test_record_export_writes_a_record_that_verifies(sheet, tmp_path):
+    from feasibly.records import verify_record
+
+    out = tmp_path / "screen.json"
+    sheet.export.author = "A. Chemist"
+    sheet.export.rationale = "screening before the pilot run"
+    sheet.export.path = str(out)
+    written = sheet.export.export()
+    assert written == [str(out), str(out.with_suffix(".html"))]
+    assert sheet.export.error == ""
+    assert verify_record(out).identical  # the record reproduces the result on screen
+    # Writing again without permission is refused inline, and nothing is lost.
+    assert sheet.export.export() == []
+    assert "file exists" in sheet.export.error and out.exists()
