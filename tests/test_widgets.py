@@ -264,3 +264,19 @@ def test_record_export_writes_a_record_that_verifies(sheet, tmp_path):
     # Writing again without permission is refused inline, and nothing is lost.
     assert sheet.export.export() == []
     assert "file exists" in sheet.export.error and out.exists()
+
+
+def test_required_conversion_in_the_worksheet(sheet):
+    # The kernel's conversion_assessment on the worksheet's reaction and temperatures.
+    target = sheet.conversion
+    assert not target.active and target.result == {}
+    key = sheet.panel.result.reaction.terms[0].formula
+    target.feed = f"{key}:1, N2:4"
+    target.key = key
+    target.required = "30%"
+    res = target.result
+    assert res["key"] == key and res["required_conversion"] == 0.3
+    assert [r["T_K"] for r in res["rows"]] == sheet.panel.result.T.tolist()
+    assert "conversion of" in target._out.value
+    target.feed = "nonsense"  # a bad feed: message inline, last good result kept
+    assert target.error and target.result is res

@@ -158,7 +158,7 @@ def test_main_worksheet_in_the_browser(lab):
             executable_path=CHROMIUM,
             headless=True,
             args=CHROMIUM_ARGS,
-            viewport={"width": 1300, "height": 1900},
+            viewport={"width": 1300, "height": 2600},  # the whole worksheet output fits
         )
         try:
             page = ctx.new_page()
@@ -222,5 +222,23 @@ def test_main_worksheet_in_the_browser(lab):
                 "(i) => document.querySelector('.js-plotly-plot').data[i].name", median
             ).startswith("median")
             output.first.screenshot(path=str(ARTIFACTS / "worksheet-3-equation.png"))
+
+            # Required conversion as the criterion: open its section, state the need, read it.
+            page.get_by_text("Required conversion", exact=True).first.click()
+            for placeholder, value in (
+                ("e.g. C3H8:1, N2:4", "C4H10:1, N2:4"),
+                ("e.g. C3H8", "C4H10"),
+                ("e.g. 40%", "40%"),
+            ):
+                box = page.locator(f"input[placeholder='{placeholder}']")
+                box.fill(value)
+                box.press("Enter")
+            page.wait_for_function(
+                "() => [...document.querySelectorAll('.feasibly-note')]"
+                ".some(e => e.textContent.includes('conversion of C4H10'))",
+                timeout=CHANGE_TIMEOUT_MS,
+            )
+            assert page.locator("text=P(meets)").count() >= 1
+            output.first.screenshot(path=str(ARTIFACTS / "worksheet-4-conversion.png"))
         finally:
             ctx.close()

@@ -12,6 +12,7 @@ composable; each has one private observer, called once at construction and regis
 - :class:`SpeciesEstimate` — a species no table has, from an estimate, as a user library entry;
 - :class:`Conditions` — total pressure and partial pressures;
 - :class:`FeasibilityPanel` — the figures, the verdict in words and the cautions;
+- :class:`ConversionTarget` — a required conversion as criterion: where and how surely it is met;
 - :class:`RecordExport` — write the call on screen as a decision record and its HTML report;
 - :class:`FeasibilityWorksheet` — all of them wired together: ``FeasibilityWorksheet("A -> B")``.
 
@@ -23,6 +24,7 @@ good result on screen.
 """
 
 from .conditions import Conditions
+from .conversion import ConversionTarget
 from .panel import FeasibilityPanel
 from .reaction import ReactionBuilder
 from .record import RecordExport
@@ -33,6 +35,7 @@ from .worksheet import FeasibilityWorksheet
 
 __all__ = [
     "Conditions",
+    "ConversionTarget",
     "FeasibilityPanel",
     "FeasibilityWorksheet",
     "ReactionBuilder",

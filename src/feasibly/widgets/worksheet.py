@@ -15,6 +15,7 @@ from ..reaction import Reaction
 from ..units import to_kelvin
 from ._common import error_html, note_html
 from .conditions import Conditions
+from .conversion import ConversionTarget
 from .panel import FeasibilityPanel
 from .reaction import ReactionBuilder
 from .record import RecordExport
@@ -79,6 +80,7 @@ class FeasibilityWorksheet(w.VBox):
         self.conditions = Conditions()
         self.panel = FeasibilityPanel()
         self.export = RecordExport(lambda: self.panel.result)
+        self.conversion = ConversionTarget()
         self._status = w.HTML()
         self._feedback = w.HTML()
         self.children = [
@@ -94,7 +96,10 @@ class FeasibilityWorksheet(w.VBox):
             self._feedback,
             self._status,
             self.panel,
-            w.Accordion(children=[self.export], titles=("Write a decision record",)),
+            w.Accordion(
+                children=[self.conversion, self.export],
+                titles=("Required conversion", "Write a decision record"),
+            ),
         ]
         if partial_pressures:
             self._set_gases()
@@ -193,6 +198,7 @@ class FeasibilityWorksheet(w.VBox):
             self.panel.result = result
             self.panel.temperature = self.temperature.value
             self.panel.temperature_unit = self.temperature.unit
+        self.conversion.evaluate(rxn, result.T, self.seed, self.confidence, self.library)
 
     def _show_status(self) -> None:
         self._feedback.value = error_html(self.error)

@@ -1,0 +1,145 @@
+"""Required conversion: the feed, the key reactant and the conversion needed, and the answer."""
+
+from __future__ import annotations
+
+import html
+from typing import Any
+
+import ipywidgets as w
+import numpy as np
+from traitlets import Dict, Unicode
+
+from ..equilibrium import conversion_assessment
+from ..errors import FeasiblyError
+from ..library import Library
+from ..reaction import Reaction
+from ._common import error_html, note_html
+
+__all__ = ["ConversionTarget"]
+
+# Trials of the equilibrium bands: the extent solve is per trial and temperature, so fewer than
+# the ΔrG draws; 4000 gives P(meets) near 95 % to about ±0.35 % (binomial standard error).
+_SAMPLES = 4000
+
+
+class ConversionTarget(w.VBox):
+    """State the conversion you need; see where and how surely the equilibrium reaches it.
+
+    Traits: ``feed`` (e.g. "C3H8:1, N2:4"; inerts allowed), ``key`` (the reactant whose
+    conversion counts), ``required`` ("90%" or "0.9"; '' switches the criterion off),
+    ``pressure`` (total, with unit), ``error`` and ``result`` (the kernel's
+    :func:`~feasibly.equilibrium.conversion_assessment` output; not synced to the browser).
+    :meth:`evaluate` is called by the worksheet with the reaction and temperatures on screen.
+    """
+
+    feed = Unicode("", help="feed amounts, SPECIES:AMOUNT separated by commas")
+    key = Unicode("", help="key reactant")
+    required = Unicode("", help="required conversion, e.g. 90%")
+    pressure = Unicode("1 bar", help="total pressure with unit")
+    error = Unicode("", help="why the last evaluation failed, '' when it did not")
+    result = Dict(help="conversion_assessment output (not synced)").tag(sync=False)
+
+    def __init__(self, **kwargs: Any) -> None:
+        super().__init__(**kwargs)
+        style = {"description_width": "80px"}
+        boxes = {
+            "feed": w.Text(
+                description="feed (mol)",
+                placeholder="e.g. C3H8:1, N2:4",
+                style=style,
+                continuous_update=False,
+            ),
+            "key": w.Text(
+                description="key", placeholder="e.g. C3H8", style=style, continuous_update=False
+            ),
+            "required": w.Text(
+                description="needed", placeholder="e.g. 40%", style=style, continuous_update=False
+            ),
+            "pressure": w.Text(description="total P", style=style, continuous_update=False),
+        }
+        for name, box in boxes.items():
+            w.link((self, name), (box, "value"))
+        self._out = w.HTML()
+        self._context: tuple[Reaction, np.ndarray, int, float, Library] | None = None
+        self.children = [
+            w.HTML(
+                "<b>Required conversion</b> (equilibrium of this reaction: ideal gases, "
+                "pure condensed phases)"
+            ),
+            *boxes.values(),
+            self._out,
+        ]
+        self.observe(self._changed, names=["feed", "key", "required", "pressure"])
+
+    @property
+    def active(self) -> bool:
+        return bool(self.feed.strip() and self.key.strip() and self.required.strip())
+
+    def evaluate(
+        self, reaction: Reaction, temps: np.ndarray, seed: int, confidence: float, library: Library
+    ) -> None:
+        """Recompute for the reaction and temperatures on screen (no-op when inactive)."""
+        self._context = (reaction, np.asarray(temps, dtype=float), seed, confidence, library)
+        self._changed(None)
+
+    def _changed(self, change: dict[str, Any] | None) -> None:
+        if not self.active or self._context is None:
+            self._out.value = note_html(
+                "Give the feed, the key reactant and the conversion "
+                "needed to use it as the criterion."
+            )
+            return
+        rxn, temps, seed, confidence, lib = self._context
+        try:
+            res = conversion_assessment(
+                rxn,
+                (temps, "K"),
+                self.feed,
+                self.key.strip(),
+                self.required,
+                self.pressure,
+                samples=_SAMPLES,
+                seed=seed,
+                confidence=confidence,
+                library=lib,
+            )
+        except FeasiblyError as exc:
+            self.error = str(exc)
+            self._out.value = error_html(self.error) + self._table(self.result)
+            return
+        self.error = ""
+        self.result = res
+        self._out.value = self._table(res)
+
+    @staticmethod
+    def _table(res: dict[str, Any]) -> str:
+        if not res:
+            return ""
+        rows = res["rows"]
+        step = max(1, len(rows) // 8)  # about eight rows: enough to read the trend at a glance
+        body = "".join(
+            f"<tr><td>{r['T_K']:.0f} K</td><td>{r['conversion']:.1%}</td>"
+            f"<td>{r['conversion_lo']:.1%} – {r['conversion_hi']:.1%}</td>"
+            f"<td>{r['P_meets_required']:.1%}</td></tr>"
+            for r in rows[::step]
+        )
+        if res["window"]:
+            spans = "; ".join(
+                ("from the start of the range" if w_["lo_open"] else f"from {w_['T_lo_K']:.0f} K")
+                + (" to the end of the range" if w_["hi_open"] else f" to {w_['T_hi_K']:.0f} K")
+                for w_ in res["window"]
+            )
+            say = (
+                f"{res['required_conversion']:.0%} conversion of {res['key']} is reached at "
+                f"{res['confidence']:.0%} confidence {spans}."
+            )
+        else:
+            say = (
+                f"{res['required_conversion']:.0%} conversion of {res['key']} is not reached "
+                f"at {res['confidence']:.0%} confidence anywhere on screen."
+            )
+        return (
+            note_html(html.escape(say))
+            + "<table style='font-size:12px;border-spacing:14px 2px'><tr><th>T</th>"
+            "<th>conversion</th><th>95 % interval</th><th>P(meets)</th></tr>" + body + "</table>"
+        )
