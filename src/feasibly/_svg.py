@@ -12,18 +12,9 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from html import escape
 
-__all__ = ["OKABE_ITO", "Band", "HLine", "Line", "chart", "nice_ticks"]
+from ._palette import OKABE_ITO
 
-OKABE_ITO = {
-    "black": "#000000",
-    "orange": "#E69F00",
-    "sky": "#56B4E9",
-    "green": "#009E73",
-    "yellow": "#F0E442",
-    "blue": "#0072B2",
-    "vermillion": "#D55E00",
-    "purple": "#CC79A7",
-}
+__all__ = ["OKABE_ITO", "Band", "HLine", "Line", "chart", "nice_ticks"]
 
 
 @dataclass(frozen=True)

@@ -32,6 +32,7 @@ from .propagation import (
     crossings,
     first_order_indices,
     gum_uncertainty,
+    level_window,
     linear_model,
     numerical_tolerance,
     route_probability,
@@ -260,41 +261,7 @@ class UncertainAssessment:
         standard error of that location (se of P divided by the slope of P there). An edge at the
         end of the grid is marked open: the window may extend beyond it.
         """
-        T = self.T
-        ok = self.p_feasible >= self.confidence
-        out = []
-        i = 0
-        while i < T.size:
-            if not ok[i]:
-                i += 1
-                continue
-            j = i
-            while j + 1 < T.size and ok[j + 1]:
-                j += 1
-            lo = self._edge(i - 1, i) if i > 0 else (float(T[0]), None, True)
-            hi = self._edge(j, j + 1) if j + 1 < T.size else (float(T[-1]), None, True)
-            out.append(
-                {
-                    "T_lo_K": lo[0],
-                    "T_lo_se_K": lo[1],
-                    "lo_open": lo[2],
-                    "T_hi_K": hi[0],
-                    "T_hi_se_K": hi[1],
-                    "hi_open": hi[2],
-                }
-            )
-            i = j + 1
-        return out
-
-    def _edge(self, a: int, b: int) -> tuple[float, float | None, bool]:
-        T, p, se, lvl = self.T, self.p_feasible, self.p_feasible_se, self.confidence
-        dp = p[b] - p[a]
-        if dp == 0:
-            return float(0.5 * (T[a] + T[b])), None, False
-        t = T[a] + (lvl - p[a]) / dp * (T[b] - T[a])
-        slope = abs(dp / (T[b] - T[a]))
-        err = float(max(se[a], se[b]) / slope) if slope > 0 else None
-        return float(t), err, False
+        return level_window(self.T, self.p_feasible, self.confidence, self.p_feasible_se)
 
     def crossover(self, points: int = 201) -> dict[str, Any]:
         """Distribution of the temperature where ΔrG crosses the threshold, per trial.

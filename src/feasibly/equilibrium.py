@@ -38,7 +38,7 @@ from ._species_equilibrium import Equilibrium, equilibrate
 from .assessment import standard_properties
 from .errors import UnitError, UnknownSpecies
 from .library import Library, default_library
-from .propagation import block_rows, linear_model, uncertain_species
+from .propagation import block_rows, level_window, linear_model, uncertain_species
 from .reaction import Reaction, _resolve
 from .thermo_functions import R
 from .uncertainty import Correlations, Override, build_inputs, correlation_matrix, draw_samples
@@ -307,32 +307,7 @@ def conversion_window(
     """
     if not 0.0 < confidence < 1.0:
         raise UnitError(confidence, "confidence level", "it lies strictly between 0 and 1")
-    T = np.asarray(T, dtype=float)
-    p = np.asarray(p_meets, dtype=float)
-    ok = p >= confidence
-    out = []
-
-    def edge(a: int, b: int) -> float:
-        return float(T[a] + (confidence - p[a]) / (p[b] - p[a]) * (T[b] - T[a]))
-
-    i = 0
-    while i < T.size:
-        if not ok[i]:
-            i += 1
-            continue
-        j = i
-        while j + 1 < T.size and ok[j + 1]:
-            j += 1
-        out.append(
-            {
-                "T_lo_K": edge(i - 1, i) if i > 0 else float(T[0]),
-                "lo_open": i == 0,
-                "T_hi_K": edge(j, j + 1) if j + 1 < T.size else float(T[-1]),
-                "hi_open": j + 1 == T.size,
-            }
-        )
-        i = j + 1
-    return out
+    return level_window(T, p_meets, confidence)
 
 
 def conversion_assessment(

@@ -22,6 +22,7 @@ from typing import Any
 
 import numpy as np
 
+from ._palette import OKABE_ITO
 from .confidence import UncertainAssessment
 from .propagation import summarise
 from .safety import DEFERRAL, cautions_for
@@ -44,16 +45,7 @@ __all__ = [
 ]
 
 #: Okabe & Ito (2008), "Color Universal Design": safe for deuteranopia, protanopia, tritanopia.
-PALETTE = {
-    "black": "#000000",
-    "orange": "#E69F00",
-    "sky": "#56B4E9",
-    "green": "#009E73",
-    "yellow": "#F0E442",
-    "blue": "#0072B2",
-    "vermillion": "#D55E00",
-    "purple": "#CC79A7",
-}
+PALETTE = OKABE_ITO
 #: Display units of temperature and their pint spelling.
 TEMPERATURE_UNITS = {"K": "K", "°C": "degC", "°F": "degF"}
 # 68 % is the one-standard-deviation band of a normal output (68.27 %, rounded as usually quoted).

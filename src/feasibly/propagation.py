@@ -17,6 +17,7 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 from scipy import special
@@ -31,6 +32,7 @@ from .uncertainty import SampleSet
 __all__ = [
     "LinearModel",
     "anchor_temperature",
+    "level_window",
     "linear_model",
     "numerical_tolerance",
     "summarise",
@@ -365,6 +367,61 @@ def shortest_interval(values: np.ndarray, coverage: float = COVERAGE) -> tuple[f
     widths = v[q:] - v[: n - q]
     r = int(np.argmin(widths))
     return float(v[r]), float(v[r + q])
+
+
+def level_window(
+    T: np.ndarray, p: np.ndarray, level: float, se: np.ndarray | None = None
+) -> list[dict[str, Any]]:
+    """Intervals of the ascending grid ``T`` where ``p`` ≥ ``level`` (a probability or fraction).
+
+    Each edge is interpolated linearly where ``p`` crosses ``level``; an edge at an end of the grid
+    is marked open (the interval may extend beyond it). With ``se`` (the Monte Carlo standard
+    error of ``p``), each inner edge also gets the standard error of its location: se of p divided
+    by the slope of p there.
+
+    >>> level_window(np.array([500., 600., 700.]), np.array([0.0, 0.5, 1.0]), 0.75)
+    [{'T_lo_K': 650.0, 'lo_open': False, 'T_hi_K': 700.0, 'hi_open': True}]
+    """
+    T = np.asarray(T, dtype=float)
+    p = np.asarray(p, dtype=float)
+    ok = p >= level
+
+    def edge(a: int, b: int) -> tuple[float, float | None]:
+        dp = p[b] - p[a]
+        t = float(T[a] + (level - p[a]) / dp * (T[b] - T[a])) if dp else float(T[a] + T[b]) / 2
+        slope = abs(dp / (T[b] - T[a]))
+        err = float(max(se[a], se[b]) / slope) if se is not None and slope > 0 else None
+        return t, err
+
+    out: list[dict[str, Any]] = []
+    i = 0
+    while i < T.size:
+        if not ok[i]:
+            i += 1
+            continue
+        j = i
+        while j + 1 < T.size and ok[j + 1]:
+            j += 1
+        lo, lo_se = edge(i - 1, i) if i > 0 else (float(T[0]), None)
+        hi, hi_se = edge(j, j + 1) if j + 1 < T.size else (float(T[-1]), None)
+        row: dict[str, Any] = {
+            "T_lo_K": lo,
+            "lo_open": i == 0,
+            "T_hi_K": hi,
+            "hi_open": j + 1 == T.size,
+        }
+        if se is not None:
+            row = {
+                "T_lo_K": lo,
+                "T_lo_se_K": lo_se,
+                "lo_open": i == 0,
+                "T_hi_K": hi,
+                "T_hi_se_K": hi_se,
+                "hi_open": j + 1 == T.size,
+            }
+        out.append(row)
+        i = j + 1
+    return out
 
 
 def route_probability(
