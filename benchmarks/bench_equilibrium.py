@@ -15,7 +15,7 @@ Routes timed in the same run:
             (--ct-states) and scaled to all states; the answers are compared on that subset.
 
 Prints both timings, the ratio and the largest |Δx| between the two on the compared states.
-Run by hand:  python benchmarks/bench_equilibrium.py [--ct-states N]
+Run by hand:  python benchmarks/bench_equilibrium.py [--ct-states N] [--repeat N]
 """
 
 from __future__ import annotations
@@ -51,6 +51,7 @@ def main() -> None:
     ap.add_argument("--samples", type=int, default=10_000)
     ap.add_argument("--temps", type=int, default=50)
     ap.add_argument("--ct-states", type=int, default=20_000, help="states Cantera is timed on")
+    ap.add_argument("--repeat", type=int, default=3, help="feasibly runs; the best is reported")
     args = ap.parse_args()
     import cantera as ct
 
@@ -60,9 +61,11 @@ def main() -> None:
         " ".join(SPECIES), (T, "K"), P=(P, "Pa"), feed="CH4:1, H2O:2", samples=args.samples, seed=1
     )
     run()  # warm-up (imports, caches)
-    t0 = time.perf_counter()
-    eq = run()
-    t_fe = time.perf_counter() - t0
+    t_fe = np.inf
+    for _ in range(args.repeat):  # best of N: the machine is shared, the minimum is the least noisy
+        t0 = time.perf_counter()
+        eq = run()
+        t_fe = min(t_fe, time.perf_counter() - t0)
     states = args.samples * args.temps
 
     # The same sampled G°/RT per state, rebuilt exactly as equilibrate does (same seed, same rows).
@@ -115,7 +118,9 @@ def main() -> None:
     per_call = t_ct / pick.size
     t_ct_all = per_call * states
     print(f"states: {args.samples:,} samples × {args.temps} temperatures = {states:,}")
-    print(f"feasibly equilibrate(samples=...): {t_fe:.3f} s  (bands included)")
+    print(
+        f"feasibly equilibrate(samples=...): {t_fe:.3f} s  (bands included; best of {args.repeat})"
+    )
     print(
         f"Cantera equilibrate('TP') loop:    {per_call * 1e6:.1f} µs per call over {pick.size:,} "
         f"states → {t_ct_all:.1f} s for all states"

@@ -148,7 +148,11 @@ class _Prepared:
         # one pattern is the usual case; np.unique over rows would sort every state for nothing
         same = np.all(present == present[:1], axis=None)
         for pattern in present[:1] if same else np.unique(present, axis=0):
-            rows = np.nonzero(np.all(present == pattern, axis=1))[0]
+            rows = (
+                np.arange(len(present))
+                if same
+                else np.nonzero(np.all(present == pattern, axis=1))[0]
+            )
             keep = ~np.any(self.sset.A[~pattern] > 0, axis=0)
             out.append((rows, pattern, keep))
         return out
@@ -170,19 +174,21 @@ def _solve(
     converged = np.ones(prep.T.size, dtype=bool)
     solved: dict[bytes, tuple[np.ndarray, GibbsBatch]] = {}
     for rows, el_mask, keep in prep.groups():
+        # One group of every state, element and entry (the usual case) needs no gathered copies.
+        whole = rows.size == prep.T.size and bool(np.all(el_mask)) and bool(np.all(keep))
         A = sset.A[np.ix_(el_mask, keep)]
         Q = reduce_elements(A)
         Ar = Q.T @ A
         kg, kc = gas[keep], ~gas[keep]
-        b = prep.b[np.ix_(rows, el_mask)]
+        b = prep.b if whole else prep.b[np.ix_(rows, el_mask)]
         scale = b.sum(axis=1)  # total atoms: brings the reduced totals to order one
         br = (b @ Q) / scale[:, None]
-        gk = g[np.ix_(rows, keep)]
-        av = prep.avail[np.ix_(rows, keep)]
-        start = None
+        gk = g if whole else g[np.ix_(rows, keep)]
+        av = prep.avail if whole else prep.avail[np.ix_(rows, keep)]
+        start = start_rows = None
         if warm is not None and el_mask.tobytes() in warm[0]:
-            rows0, batch0 = warm[0][el_mask.tobytes()]
-            start = batch0.take(np.searchsorted(rows0, warm[1][rows]))
+            rows0, start = warm[0][el_mask.tobytes()]
+            start_rows = np.searchsorted(rows0, warm[1][rows])
         sol = solve_batch(
             Ar[:, kg],
             Ar[:, kc],
@@ -193,13 +199,18 @@ def _solve(
             av[:, kg],
             av[:, kc],
             start=start,
+            start_rows=start_rows,
         )
         solved[el_mask.tobytes()] = (rows, sol)
         cols = np.nonzero(keep)[0]
-        sub = np.zeros((rows.size, cols.size))
+        sub = np.empty((rows.size, cols.size))
         sub[:, kg] = np.exp(sol.ln_n)
         sub[:, kc] = sol.m
-        amounts[np.ix_(rows, cols)] = sub * scale[:, None]
+        sub *= scale[:, None]
+        if whole:
+            amounts = sub
+        else:
+            amounts[np.ix_(rows, cols)] = sub
         converged[rows] = sol.converged
     return amounts, converged, solved
 
@@ -416,7 +427,7 @@ def equilibrate(
         g_s = g[sl, :, None] + dg / (R * T_K[sl, None, None])
         g_flat = np.moveaxis(g_s, 2, 1).reshape(m * n, -1)
         rep = np.repeat(np.arange(sl.start, sl.stop), n)
-        sub = _Prepared(sset, T_K[rep], P_Pa[rep], b[rep], avail[rep])
+        sub = _Prepared(sset, *(np.repeat(x[sl], n, axis=0) for x in (T_K, P_Pa, b, avail)))
         amt, ok_s, _ = _solve(sub, g_flat, (batches, rep))
         _raise_unconverged(sub, ok_s)
         amt = amt.reshape(m, n, -1)
