@@ -9,7 +9,7 @@ from typing import Any
 import numpy as np
 
 from .errors import FeasiblyError, UnitError
-from .reaction import _LABEL, _PHASE_WORDS
+from .reaction import split_phase_label
 from .units import to_kelvin, to_pascal
 
 __all__ = ["BAND_PROBS", "EquilibriumNotConverged", "parse_feed"]
@@ -32,18 +32,8 @@ class EquilibriumNotConverged(FeasiblyError, RuntimeError):
 
 # --- input reading ------------------------------------------------------------------------------
 def _split_label(text: str) -> tuple[str, str | None, str | None]:
-    text = text.strip()
-    phase = form = None
-    lab = _LABEL.search(text)
-    if lab:
-        bits = [b.strip() for b in lab.group(1).split(",")]
-        if bits[0] in _PHASE_WORDS:
-            phase = _PHASE_WORDS[bits[0]]
-            form = bits[1] if len(bits) > 1 else None
-        elif len(bits) == 1:
-            form = bits[0]
-        text = text[: lab.start()].strip()
-    return text, phase, form
+    """Formula, phase and form of a species written with an optional label (the parser's rule)."""
+    return split_phase_label(text)
 
 
 def parse_feed(feed: str | Mapping[str, Any]) -> dict[str, Any]:

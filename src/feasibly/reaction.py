@@ -30,7 +30,7 @@ from .formula import parse_formula, pretty_formula
 from .library import Library, default_library
 from .species import Species
 
-__all__ = ["Reaction", "ReactionTerm", "parse_equation"]
+__all__ = ["Reaction", "ReactionTerm", "parse_equation", "split_phase_label"]
 
 _ARROW = re.compile(r"\s*(<=>|<->|⇌|->|→|=>|=)\s*")
 _PHASE_WORDS = {
@@ -89,6 +89,34 @@ def _split_terms(side: str, text: str) -> list[str]:
     return terms
 
 
+def split_phase_label(term: str, context: str | None = None) -> tuple[str, str | None, str | None]:
+    """Split ``CaCO3(cr,calcite)`` into formula, phase and form (``(s)`` reads as ``cr``).
+
+    A trailing group that starts with a lowercase letter is a label; ``(OH)2`` is part of the
+    formula. ``context`` (the whole equation) goes into the error message.
+
+    >>> split_phase_label("CaCO3(s,calcite)")
+    ('CaCO3', 'cr', 'calcite')
+    >>> split_phase_label("Ca(OH)2")
+    ('Ca(OH)2', None, None)
+    """
+    term = term.strip()
+    lab = _LABEL.search(term)
+    if not lab:
+        return term, None, None
+    bits = [b.strip() for b in lab.group(1).split(",")]
+    if bits[0] in _PHASE_WORDS:
+        phase: str | None = _PHASE_WORDS[bits[0]]
+        form = bits[1] if len(bits) > 1 else None
+    elif len(bits) == 1:
+        phase, form = None, bits[0]
+    else:
+        raise ReactionSyntaxError(
+            context or term, f"phase label ({lab.group(1)}) is not one of g, l, s, cr, aq"
+        )
+    return term[: lab.start()].strip(), phase, form
+
+
 def parse_equation(text: str) -> list[tuple[Fraction, str, str | None, str | None, int]]:
     """Split equation text into (coefficient, formula, phase, form, side) with side −1 or +1.
 
@@ -118,20 +146,7 @@ def parse_equation(text: str) -> list[tuple[Fraction, str, str | None, str | Non
                 term = term[m.end() :].strip()
             if coef <= 0:
                 raise ReactionSyntaxError(text, f"coefficient {coef} of {term!r} must be positive")
-            phase = form = None
-            lab = _LABEL.search(term)
-            if lab:
-                bits = [b.strip() for b in lab.group(1).split(",")]
-                if bits[0] in _PHASE_WORDS:
-                    phase = _PHASE_WORDS[bits[0]]
-                    form = bits[1] if len(bits) > 1 else None
-                elif len(bits) == 1:
-                    form = bits[0]
-                else:
-                    raise ReactionSyntaxError(
-                        text, f"phase label ({lab.group(1)}) is not one of g, l, s, cr, aq"
-                    )
-                term = term[: lab.start()].strip()
+            term, phase, form = split_phase_label(term, text)
             if not term:
                 raise ReactionSyntaxError(text, "a coefficient or phase label has no formula")
             out.append((coef, term, phase, form, sign))
