@@ -15,6 +15,7 @@ from __future__ import annotations
 
 import math
 import os
+import threading
 from collections.abc import Callable
 from concurrent.futures import ThreadPoolExecutor
 from functools import cache
@@ -129,26 +130,32 @@ def row_statistics(
 
 
 def blocked_statistics(
-    make_block: Callable[[int, int], np.ndarray],
+    make_block: Callable[[int, int, np.ndarray], np.ndarray],
     n_rows: int,
     means: np.ndarray,
     stds: np.ndarray,
     probs: tuple[float, ...],
     thresholds: np.ndarray,
+    width: int,
     chunk: int = 4,
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Row statistics over ``n_rows`` rows produced ``chunk`` at a time by ``make_block(i, j)``.
+    """Row statistics over ``n_rows`` rows produced ``chunk`` at a time by
+    ``make_block(i, j, buffer)``, which writes rows i:j into ``buffer`` and returns them.
 
     Blocks are built and reduced in worker threads (numpy releases the GIL in the matrix product,
-    the comparisons and the partitions), so peak memory is a few blocks, not the whole matrix.
+    the comparisons and the partitions), each thread reusing one buffer, so peak memory is a few
+    blocks, not the whole matrix.
     """
     q = np.empty((n_rows, len(probs)))
     e = np.empty((n_rows, len(probs)))
     c = np.empty(n_rows, dtype=np.int64)
+    local = threading.local()
 
     def job(start: int) -> None:
         stop = min(start + chunk, n_rows)
-        block = make_block(start, stop)
+        if getattr(local, "buf", None) is None:
+            local.buf = np.empty((chunk, width))
+        block = make_block(start, stop, local.buf)
         q[start:stop], e[start:stop], c[start:stop] = row_statistics(
             block, means[start:stop], stds[start:stop], probs, thresholds[start:stop]
         )

@@ -74,12 +74,24 @@ class LinearModel:
     def _pick(self, which: str) -> tuple[np.ndarray, np.ndarray]:
         return {"H": (self.H0, self.aH), "S": (self.S0, self.aS), "G": (self.G0, self.aG)}[which]
 
-    def values(self, which: str, samples: SampleSet, rows: slice = slice(None)) -> np.ndarray:
-        """The sampled outputs for temperature rows ``rows``: shape (rows, N)."""
+    def values(
+        self,
+        which: str,
+        samples: SampleSet,
+        rows: slice = slice(None),
+        out: np.ndarray | None = None,
+    ) -> np.ndarray:
+        """The sampled outputs for temperature rows ``rows``: shape (rows, N).
+
+        ``out`` is a buffer of at least that many rows to write into (reusing one saves the
+        page faults of a fresh array per block, which cost as much as the product itself).
+        """
         nominal, coef = self._pick(which)
-        out = coef[rows] @ samples.values
-        out += nominal[rows, None]
-        return out
+        c = coef[rows]
+        target = None if out is None else out[: c.shape[0]]
+        res = np.matmul(c, samples.values, out=target)
+        res += nominal[rows, None]
+        return res
 
 
 def uncertain_species(rxn: Reaction) -> list[Species]:
@@ -242,12 +254,13 @@ def summarise(
 
     with threadpool_limits(limits=1, user_api="blas"):
         q, e, below = blocked_statistics(
-            lambda i, j: model.values(which, samples, slice(i, j)),
+            lambda i, j, buf: model.values(which, samples, slice(i, j), out=buf),
             model.T.size,
             mean,
             u,
             probs,
             thr,
+            width=n,
             chunk=chunk or block_rows(n),
         )
     p = below / n
