@@ -13,6 +13,7 @@ from html import escape
 from typing import Any
 
 from ._svg import OKABE_ITO, Band, HLine, Line, chart
+from .propagation import window_phrase
 from .safety import DEFERRAL
 
 __all__ = ["render_html", "render_markdown"]
@@ -344,11 +345,7 @@ def _conversion(doc: Mapping[str, Any]) -> str:
             row.append("yes" if r["meets_required"] else "no")
         rows.append(row)
     if res["window"]:
-        spans = "; ".join(
-            ("from the start of the range" if w["lo_open"] else f"from {w['T_lo_K']:.0f} K")
-            + (" to the end of the range" if w["hi_open"] else f" to {w['T_hi_K']:.0f} K")
-            for w in res["window"]
-        )
+        spans = window_phrase(res["window"])
         where = f"at {inputs['confidence']:.0%} confidence" if sampled else "at nominal data"
         window = f"The required conversion is met {where} {spans}."
     else:

@@ -24,6 +24,7 @@ from .confidence import UncertainAssessment, assess_uncertainty
 from .equilibrium import conversion_assessment, parse_feed
 from .errors import FeasiblyError, UnitError
 from .library import Library, default_library
+from .propagation import window_phrase
 from .records import record_from, write_record
 from .uncertainty import parse_override
 from .units import to_pascal
@@ -366,11 +367,7 @@ def _print_conversion(c: dict[str, Any]) -> None:
     for x in rows:
         print("  ".join(v.rjust(w) for v, w in zip(x, widths, strict=True)))
     if c["window"]:
-        spans = ", ".join(
-            ("from the start of the range" if w["lo_open"] else f"from {w['T_lo_K']:.0f} K")
-            + (" to the end of the range" if w["hi_open"] else f" to {w['T_hi_K']:.0f} K")
-            for w in c["window"]
-        )
+        spans = window_phrase(c["window"])
         where = f"at {c['confidence']:.0%} confidence" if sampled else "at the nominal data"
         print(f"The required conversion is met {where} {spans}.")
     else:

@@ -36,6 +36,7 @@ __all__ = [
     "linear_model",
     "numerical_tolerance",
     "summarise",
+    "window_phrase",
 ]
 
 _LN10 = math.log(10.0)
@@ -435,6 +436,19 @@ def level_window(
         out.append(row)
         i = j + 1
     return out
+
+
+def window_phrase(windows: Sequence[dict[str, Any]]) -> str:
+    """The intervals of :func:`level_window` in words, e.g. 'from 742 K to the end of the range'.
+
+    >>> window_phrase([{"T_lo_K": 742.4, "lo_open": False, "T_hi_K": 900.0, "hi_open": True}])
+    'from 742 K to the end of the range'
+    """
+    return "; ".join(
+        ("from the start of the range" if w["lo_open"] else f"from {w['T_lo_K']:.0f} K")
+        + (" to the end of the range" if w["hi_open"] else f" to {w['T_hi_K']:.0f} K")
+        for w in windows
+    )
 
 
 def route_probability(

@@ -12,6 +12,7 @@ from traitlets import Dict, Unicode
 from ..equilibrium import conversion_assessment
 from ..errors import FeasiblyError
 from ..library import Library
+from ..propagation import window_phrase
 from ..reaction import Reaction
 from ._common import error_html, note_html
 
@@ -124,11 +125,7 @@ class ConversionTarget(w.VBox):
             for r in rows[::step]
         )
         if res["window"]:
-            spans = "; ".join(
-                ("from the start of the range" if w_["lo_open"] else f"from {w_['T_lo_K']:.0f} K")
-                + (" to the end of the range" if w_["hi_open"] else f" to {w_['T_hi_K']:.0f} K")
-                for w_ in res["window"]
-            )
+            spans = window_phrase(res["window"])
             say = (
                 f"{res['required_conversion']:.0%} conversion of {res['key']} is reached at "
                 f"{res['confidence']:.0%} confidence {spans}."
