@@ -93,6 +93,7 @@ def test_example_user_file_loads_and_joins_the_library(lib: Library) -> None:
     assert sp.origin == "user file my-species.toml"
     merged = lib.with_species(user)
     assert "C9H10O3(cr)" in merged and len(merged) == len(lib) + 1
+    assert merged.user_files == (str(EXAMPLE),)  # records name the file the entries came from
     # Maier–Kelley increments: h(T) = ∫Cp dT from 298.15 K, checked by numerical quadrature (scipy).
     from scipy.integrate import quad
 

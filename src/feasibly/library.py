@@ -607,7 +607,8 @@ class Library:
             raise DataFileError(str(path), [f"cannot read the file ({exc.strerror})"]) from None
         except UnicodeDecodeError:
             raise DataFileError(str(path), ["not UTF-8 text"]) from None
-        return cls.from_text(text, str(path), origin=f"user file {path.name}")
+        lib = cls.from_text(text, str(path), origin=f"user file {path.name}")
+        return cls(lib, lib.meta, user_files=(str(path),))
 
     def with_species(self, other: Library | Iterable[Species]) -> Library:
         """A new library with ``other``'s entries added; one with an existing id replaces it."""
