@@ -7,41 +7,19 @@ equation and an SVG figure with no network at all; a screenshot is kept under te
 from __future__ import annotations
 
 import importlib.util
-import shutil
 from pathlib import Path
+from typing import Any
 
 import pytest
 
 from feasibly.records import make_record, write_record
 from feasibly.uncertainty import parse_override
 
-CHROMIUM = shutil.which("chromium") or (
-    "/usr/bin/chromium" if Path("/usr/bin/chromium").exists() else None
-)
 HAVE_PLAYWRIGHT = importlib.util.find_spec("playwright") is not None
 ARTIFACTS = Path(__file__).resolve().parents[1] / "test-artifacts"
 
 pytestmark = [
-    pytest.mark.skipif(
-        CHROMIUM is None, reason="chromium is not installed (apt-get install chromium)"
-    ),
     pytest.mark.skipif(not HAVE_PLAYWRIGHT, reason="playwright (Python) is not installed"),
-]
-
-# Flags from ../shared/notes/browser-testing.md; the last ones stop Chromium's own look-ups.
-ARGS = [
-    "--headless",
-    "--no-sandbox",
-    "--disable-gpu",
-    "--disable-quic",
-    "--no-first-run",
-    "--disable-background-networking",
-    "--disable-component-update",
-    "--disable-sync",
-    "--gaia-url=http://127.0.0.1:9",
-    "--lso-url=http://127.0.0.1:9",
-    "--component-updater=url-source=http://127.0.0.1:9",
-    "--host-resolver-rules=MAP * ~NOTFOUND",
 ]
 
 
@@ -53,7 +31,9 @@ def _private_home(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
         monkeypatch.setenv(var, str(home))
 
 
-def test_report_opens_offline_and_shows_verdict_equation_and_figure(tmp_path: Path) -> None:
+def test_report_opens_offline_and_shows_verdict_equation_and_figure(
+    tmp_path: Path, chromium: dict[str, Any]
+) -> None:
     from playwright.sync_api import sync_playwright
 
     record = make_record(
@@ -75,9 +55,8 @@ def test_report_opens_offline_and_shows_verdict_equation_and_figure(tmp_path: Pa
     with sync_playwright() as pw:
         context = pw.chromium.launch_persistent_context(
             str(tmp_path / "profile"),
-            executable_path=CHROMIUM,
-            headless=True,
-            args=ARGS,
+            # No name resolves at all: the report must need no network.
+            **{**chromium, "args": [*chromium["args"], "--host-resolver-rules=MAP * ~NOTFOUND"]},
             viewport={"width": 1100, "height": 900},
         )
         try:

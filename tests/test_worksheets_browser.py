@@ -23,7 +23,6 @@ import pytest
 ROOT = Path(__file__).resolve().parents[1]
 SHEET = ROOT / "worksheets" / "01-screening-a-temperature-window.ipynb"
 ARTIFACTS = ROOT / "test-artifacts"
-CHROMIUM = shutil.which("chromium") or "/usr/bin/chromium"
 
 try:
     import playwright.sync_api as pw
@@ -37,25 +36,10 @@ except ImportError:  # pragma: no cover
     HAVE_LAB = False
 
 pytestmark = [
-    pytest.mark.skipif(not Path(CHROMIUM).exists(), reason="Debian's chromium is not installed"),
     pytest.mark.skipif(pw is None, reason="Python Playwright is not installed"),
     pytest.mark.skipif(not HAVE_LAB, reason="JupyterLab is not installed"),
 ]
 
-# Flags from our notes on these machines: no sandbox as root, no GPU, no outside look-ups.
-CHROMIUM_ARGS = [
-    "--headless",
-    "--no-sandbox",
-    "--disable-gpu",
-    "--disable-quic",
-    "--no-first-run",
-    "--disable-background-networking",
-    "--disable-component-update",
-    "--disable-sync",
-    "--gaia-url=http://127.0.0.1:9",
-    "--lso-url=http://127.0.0.1:9",
-    "--component-updater=url-source=http://127.0.0.1:9",
-]
 # Generous waits: a cold kernel imports plotly and draws 20 000 trials on 2 slow cores.
 RUN_TIMEOUT_MS = 120_000
 CHANGE_TIMEOUT_MS = 30_000
@@ -147,7 +131,7 @@ def _plot_data(page, trace: int) -> list:
     )
 
 
-def test_main_worksheet_in_the_browser(lab):
+def test_main_worksheet_in_the_browser(chromium, lab):
     from feasibly.figures import TRACES
 
     hist = TRACES.index("histogram")
@@ -155,9 +139,7 @@ def test_main_worksheet_in_the_browser(lab):
     with pw.sync_playwright() as p:
         ctx = p.chromium.launch_persistent_context(
             str(lab["home"] / "chromium"),
-            executable_path=CHROMIUM,
-            headless=True,
-            args=CHROMIUM_ARGS,
+            **chromium,
             viewport={"width": 1300, "height": 2600},  # the whole worksheet output fits
         )
         try:
