@@ -283,38 +283,26 @@ def feasibility_figure(
         vertical_spacing=0.22,
     )
     band = dict(mode="lines", line={"width": 0}, hoverinfo="skip", showlegend=False)
+
+    def interval(hi: np.ndarray, lo: np.ndarray, label: str, fill: str) -> list[Any]:
+        """An invisible upper edge, then the lower edge filled up to it (one legend entry)."""
+        upper = go.Scatter(x=T, y=hi, name=f"{label} upper", **band)
+        lower = go.Scatter(
+            x=T,
+            y=lo,
+            name=f"{label} interval",
+            fill="tonexty",
+            fillcolor=fill,
+            **{**band, "showlegend": True},
+        )
+        return [(upper, 1, 1, False), (lower, 1, 1, False)]
+
     thr = c.threshold_kJ
     zero_name = f"{g} = {thr:g} kJ/mol" if thr else f"{g} = 0"
     mid = 0.5 * (c.crossing_edges_K[1:] + c.crossing_edges_K[:-1])
     traces: list[tuple[Any, int, int, bool]] = [
-        (go.Scatter(x=T, y=c.hi95, name="95 % upper", **band), 1, 1, False),
-        (
-            go.Scatter(
-                x=T,
-                y=c.lo95,
-                name="95 % interval",
-                fill="tonexty",
-                fillcolor="rgba(86,180,233,0.30)",
-                **{**band, "showlegend": True},
-            ),
-            1,
-            1,
-            False,
-        ),
-        (go.Scatter(x=T, y=c.hi68, name="68 % upper", **band), 1, 1, False),
-        (
-            go.Scatter(
-                x=T,
-                y=c.lo68,
-                name="68 % interval",
-                fill="tonexty",
-                fillcolor="rgba(0,114,178,0.40)",
-                **{**band, "showlegend": True},
-            ),
-            1,
-            1,
-            False,
-        ),
+        *interval(c.hi95, c.lo95, "95 %", "rgba(86,180,233,0.30)"),
+        *interval(c.hi68, c.lo68, "68 %", "rgba(0,114,178,0.40)"),
         (
             go.Scatter(
                 x=T,
