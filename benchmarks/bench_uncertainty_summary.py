@@ -1,4 +1,4 @@
-"""Monte Carlo summaries: feasibly's blocked exact selection vs the straightforward approach.
+"""Monte Carlo summaries: feasibly's streamed exact selection vs the straightforward approach.
 
 Run by hand (never in the tests): ``python benchmarks/bench_uncertainty_summary.py``.
 
@@ -22,6 +22,7 @@ import timeit
 import numpy as np
 
 import feasibly
+from feasibly import _scan
 from feasibly.confidence import assess_uncertainty
 from feasibly.propagation import linear_model, summarise
 from feasibly.uncertainty import build_inputs, draw_samples
@@ -85,7 +86,8 @@ def main() -> None:
     print(f"reaction: {EQUATION}")
     print(
         f"N = {args.n:,} trials × {args.points} temperatures, {len(samples.inputs)} inputs; "
-        f"numpy {np.__version__}, feasibly {feasibly.__version__}"
+        f"numpy {np.__version__}, feasibly {feasibly.__version__}, "
+        f"{'compiled C' if _scan.compiled() else 'numpy (C kernel not built)'} scan kernel"
     )
 
     ref = straightforward(model, samples)

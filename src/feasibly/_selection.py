@@ -1,29 +1,35 @@
 """Exact sample quantiles and exceedance counts of many rows, fast.
 
-For each row of a (T × N) block of Monte Carlo outputs this returns the same quantiles as
+For each row of T × N Monte Carlo outputs this returns the same quantiles as
 ``numpy.quantile(row, p)`` (the default 'linear' rule: h = (N − 1)p, interpolate between the order
-statistics ⌊h⌋ and ⌊h⌋ + 1), order-statistic standard errors, and the count below a threshold.
+statistics ⌊h⌋ and ⌊h⌋ + 1, with numpy's own arithmetic), order-statistic standard errors, and
+the count below a threshold.
 
 Speed comes from selecting only inside a narrow bracket around each quantile: a guess from the
-row's mean and standard deviation, a count of the values below the bracket, and a partial sort of
-the few values inside it. The bracket is checked to contain every rank needed; when it does not
-(a far-from-normal output) it is widened, and in the end the whole row is partitioned — so the
-result is always exact, never approximate.
+row's mean and standard deviation, a count of the values below the bracket, and a sort of the
+few values inside it. The bracket is checked to contain every rank needed; when it does not (a
+far-from-normal output) the row is formed whole, the bracket widened, and in the end the whole
+row partitioned — so the result is always exact, never approximate.
+
+``streamed_statistics`` does this for outputs that are linear in the draws (every Δr quantity
+is) without ever holding them: the product is factored to its low rank, formed a chunk of trials
+at a time, and scanned once by the kernels of ``_scan`` in worker threads. ``row_statistics``
+does it for rows already in memory.
 """
 
 from __future__ import annotations
 
 import math
 import os
-import threading
 from collections.abc import Callable
 from concurrent.futures import ThreadPoolExecutor
 from functools import cache
+from typing import Any
 
 import numpy as np
 from scipy import special
 
-__all__ = ["row_statistics", "workers"]
+__all__ = ["low_rank", "row_statistics", "streamed_statistics", "workers"]
 
 # Bracket half-width in units of the expected spacing of the needed ranks: 1.5 gives room for a
 # normal-approximation guess to be off by about one standard error of the quantile, which is what
@@ -78,6 +84,37 @@ def _select(
     return np.partition(row, ranks)[ranks]
 
 
+def _bracket(n: int, p: float) -> tuple[list[int], int, float, int, float]:
+    """The order statistics needed for quantile ``p`` of N values: the sorted ranks (the two that
+    ``numpy.quantile`` interpolates between, and one binomial standard deviation either side for
+    the standard error), the lower rank, the interpolation fraction, d, and the bracket's half
+    width in units of the output's standard deviation (for a normal output)."""
+    lo, frac, d = _ranks(n, p)
+    ranks = sorted({max(lo - d, 0), lo, min(lo + 1, n - 1), min(lo + 1 + d, n - 1)})
+    z = float(special.ndtri(p))
+    density = math.exp(-0.5 * z * z) / math.sqrt(2 * math.pi)  # of the standardised output
+    half = _WIDTH_FACTOR * (ranks[-1] - ranks[0] + 8) / (n * density)
+    return ranks, lo, frac, d, half
+
+
+def _quantile(vals: dict[int, Any], n: int, lo: int, frac: float, d: int) -> tuple[Any, Any]:
+    """The quantile and its order-statistic standard error from the order statistics ``vals``
+    (rank → value, or rank → array of values over rows).
+
+    The interpolation is numpy's 'linear' rule with numpy's own arithmetic (``_lerp`` in
+    ``numpy/lib/_function_base_impl.py``: from the upper end when the fraction is ½ or more), so
+    the result is the same floating-point number as ``numpy.quantile``.
+    """
+    a, b = np.asarray(vals[lo]), np.asarray(vals[min(lo + 1, n - 1)])
+    diff = b - a
+    q = b - diff * (1 - frac) if frac >= 0.5 else a + diff * frac
+    # Order-statistic standard error: half the spread of the ranks one binomial standard
+    # deviation either side (distribution-free; from memory, e.g. Wilcox, Introduction to
+    # Robust Estimation, §3.5).
+    error = (np.asarray(vals[min(lo + 1 + d, n - 1)]) - np.asarray(vals[max(lo - d, 0)])) / 2.0
+    return q, error
+
+
 def _one_row(
     row: np.ndarray,
     mean: float,
@@ -91,19 +128,13 @@ def _one_row(
         buf = (np.empty(n, dtype=bool), np.empty(n, dtype=bool))
     quantiles, errors = [], []
     for p in probs:
-        lo, frac, d = _ranks(n, p)
-        ranks = sorted({max(lo - d, 0), lo, min(lo + 1, n - 1), min(lo + 1 + d, n - 1)})
+        ranks, lo, frac, d, half = _bracket(n, p)
         z = float(special.ndtri(p))
-        density = math.exp(-0.5 * z * z) / (math.sqrt(2 * math.pi) * std) if std > 0 else 0.0
-        spacing = 1.0 / (n * density) if density > 0 else math.inf
-        half = _WIDTH_FACTOR * spacing * (ranks[-1] - ranks[0] + 8)
-        vals = dict(zip(ranks, _select(row, ranks, mean + std * z, half, buf), strict=True))
-        x_lo, x_hi = vals[lo], vals[min(lo + 1, n - 1)]
-        quantiles.append(float(x_lo + frac * (x_hi - x_lo)))
-        # Order-statistic standard error: half the spread of the ranks one binomial standard
-        # deviation either side (distribution-free; from memory, e.g. Wilcox, Introduction to
-        # Robust Estimation, §3.5).
-        errors.append(float(vals[min(lo + 1 + d, n - 1)] - vals[max(lo - d, 0)]) / 2.0)
+        guess, width = mean + std * z, (half * std if std > 0 else math.inf)
+        vals = dict(zip(ranks, _select(row, ranks, guess, width, buf), strict=True))
+        q, err = _quantile(vals, n, lo, frac, d)
+        quantiles.append(float(q))
+        errors.append(float(err))
     below = int(np.count_nonzero(np.less(row, threshold, out=buf[0])))
     return quantiles, errors, below
 
@@ -129,42 +160,243 @@ def row_statistics(
     return q, e, c
 
 
-def blocked_statistics(
-    make_block: Callable[[int, int, np.ndarray], np.ndarray],
-    n_rows: int,
+# Trials per chunk of the streamed product: one row's chunk (8 KB) and the chunk's inputs (64 KB
+# at rank 8) stay in a core's L1/L2 while it is scanned. Measured on the 2-core machine with
+# bench_uncertainty_summary.py: 256 to 4096 all gave 44-59 ms, within the run-to-run noise.
+_CHUNK_TRIALS = 1024
+# Temperature rows streamed together: bounds the bracket buffers (two threads) to about 5 MB per
+# 100 rows at N = 10^5 and 15 MB at 10^6; more rows are done in turns.
+_ROWS_PER_PASS = 128
+# Up to this many rows, each is formed whole (N values) and selected directly: streaming's fixed
+# cost (a kernel call per chunk of trials) is larger than the work for one or two rows.
+_DIRECT_ROWS = 2
+
+
+def low_rank(coef: np.ndarray, scale: np.ndarray) -> tuple[np.ndarray, np.ndarray] | None:
+    """``coef`` (rows × k) as A (rows × r) @ B (r × k) when its rank r is well below k, else None.
+
+    Δr rows over temperature have low rank: every ΔfH° input enters with the same T-independent
+    coefficient ν and every S° input with −νT, so 18 inputs of a 6-species reaction span 8
+    directions. The product then costs r instead of k multiply-adds per trial and temperature.
+    ``scale`` is each input's spread: the factorisation is judged on coef × scale, the sizes of
+    the contributions, and refused unless it reproduces them to a few rounding errors, so the
+    outputs differ from the direct product only in the last bits.
+    """
+    from scipy import linalg
+
+    rows, k = coef.shape
+    scaled = coef * np.where(scale > 0, scale, 1.0)
+    top = float(np.max(np.abs(scaled))) if scaled.size else 0.0
+    if rows < 2 or k < 4 or not math.isfinite(top) or top == 0.0:
+        return None
+    q, r, piv = linalg.qr(scaled, mode="economic", pivoting=True)
+    diag = np.abs(np.diag(r))
+    # Directions below 1e-13 of the largest are rounding noise of the exactly dependent columns.
+    rank = int(np.count_nonzero(diag > 1e-13 * diag[0]))
+    if rank > (3 * k) // 4:
+        return None
+    a = q[:, :rank]
+    b_scaled = np.empty((rank, k))
+    b_scaled[:, piv] = r[:rank]
+    # Accept only a factorisation within 16 rounding errors of the largest contribution.
+    if float(np.max(np.abs(a @ b_scaled - scaled))) > 16 * np.finfo(float).eps * top:
+        return None
+    return np.ascontiguousarray(a), b_scaled / np.where(scale > 0, scale, 1.0)
+
+
+def streamed_statistics(
+    coef: np.ndarray,
+    nominal: np.ndarray,
+    x: np.ndarray,
     means: np.ndarray,
     stds: np.ndarray,
     probs: tuple[float, ...],
     thresholds: np.ndarray,
-    width: int,
-    chunk: int = 4,
+    scale: np.ndarray | None = None,
+    kernels: tuple[Callable[..., Callable[[], None]], Callable[..., None]] | None = None,
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Row statistics over ``n_rows`` rows produced ``chunk`` at a time by
-    ``make_block(i, j, buffer)``, which writes rows i:j into ``buffer`` and returns them.
+    """Row statistics of the outputs ``nominal + coef @ x`` without holding them.
 
-    Blocks are built and reduced in worker threads (numpy releases the GIL in the matrix product,
-    the comparisons and the partitions), each thread reusing one buffer, so peak memory is a few
-    blocks, not the whole matrix.
+    ``coef`` (rows × k), ``x`` (k × N) the input draws; ``means``/``stds`` the outputs' moments,
+    which place the brackets. The product is formed a chunk of trials at a time in worker threads
+    and each chunk is scanned once (``_scan``): counts below the threshold and below each bracket,
+    and the few values inside the brackets. A row whose brackets miss a needed rank or overflow
+    their buffer is recomputed whole by ``row_statistics``' widening path, so every result is
+    exact. ``scale`` is each input's spread (default: the draws' standard deviations), used to
+    judge a low-rank factorisation of ``coef``; ``kernels`` the scan binder and the gatherer
+    (default: ``_scan.scan_kernel()``). Returns quantiles (rows × p), their standard errors and
+    the counts below threshold.
     """
-    q = np.empty((n_rows, len(probs)))
-    e = np.empty((n_rows, len(probs)))
-    c = np.empty(n_rows, dtype=np.int64)
-    local = threading.local()
+    from . import _scan
 
-    def job(start: int) -> None:
-        stop = min(start + chunk, n_rows)
-        if getattr(local, "buf", None) is None:
-            local.buf = np.empty((chunk, width))
-        block = make_block(start, stop, local.buf)
-        q[start:stop], e[start:stop], c[start:stop] = row_statistics(
-            block, means[start:stop], stds[start:stop], probs, thresholds[start:stop]
-        )
+    kernels = kernels or _scan.scan_kernel()
+    rows = coef.shape[0]
+    q = np.empty((rows, len(probs)))
+    e = np.empty((rows, len(probs)))
+    c = np.empty(rows, dtype=np.int64)
+    if rows <= _DIRECT_ROWS:
+        # A temperature or two (a re-evaluation at one T): forming the rows whole is cheaper
+        # than streaming, and selects the same way.
+        for r in range(rows):
+            row = coef[r] @ x
+            row += nominal[r]
+            q_r, e_r, c[r] = _one_row(
+                row, float(means[r]), float(stds[r]), probs, float(thresholds[r])
+            )
+            q[r], e[r] = q_r, e_r
+        return q, e, c
+    if scale is None:
+        scale = x.std(axis=1)
+    factors = low_rank(coef, scale)
+    from ._scan import BRACKETS
 
-    starts = range(0, n_rows, chunk)
-    if workers() == 1 or n_rows <= chunk:
-        for s in starts:
-            job(s)
-    else:
-        with ThreadPoolExecutor(workers()) as pool:
-            list(pool.map(job, starts))
+    for start in range(0, rows, _ROWS_PER_PASS):
+        part = slice(start, min(start + _ROWS_PER_PASS, rows))
+        if factors is None:
+            left, right = coef[part], None
+        else:
+            left, right = factors[0][part], factors[1]
+        for g in range(0, len(probs), BRACKETS):  # the kernel takes three brackets at a time
+            cols = slice(g, g + BRACKETS)
+            q[part, cols], e[part, cols], c[part] = _stream_rows(
+                kernels,
+                left,
+                right,
+                coef[part],
+                nominal[part],
+                x,
+                means[part],
+                stds[part],
+                probs[cols],
+                thresholds[part],
+            )
     return q, e, c
+
+
+def _stream_rows(
+    kernels: tuple[Callable[..., Callable[[], None]], Callable[..., None]],
+    left: np.ndarray,
+    right: np.ndarray | None,
+    coef: np.ndarray,
+    nominal: np.ndarray,
+    x: np.ndarray,
+    means: np.ndarray,
+    stds: np.ndarray,
+    probs: tuple[float, ...],
+    thresholds: np.ndarray,
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """``streamed_statistics`` for one pass of rows and at most three probabilities."""
+    from ._scan import BLOCK, BRACKETS
+
+    bind, gather = kernels
+    rows, n = left.shape[0], x.shape[1]
+    plans = [_bracket(n, p) for p in probs]
+    usable = np.isfinite(means) & np.isfinite(stds) & (stds > 0)
+    spread = np.where(usable, stds, 0.0)
+    z = special.ndtri(np.asarray(probs))
+    guess = np.where(usable, means, 0.0)[:, None] + spread[:, None] * z[None, :]
+    half = spread[:, None] * np.array([pl[4] for pl in plans])[None, :]
+    lo_edge = np.full((rows, BRACKETS), np.inf)  # padding brackets [+inf, +inf] hold nothing
+    hi_edge = np.full((rows, BRACKETS), np.inf)
+    lo_edge[:, : len(probs)] = guess - half
+    hi_edge[:, : len(probs)] = guess + half
+    lo_edge[~usable] = np.inf
+    hi_edge[~usable] = np.inf
+
+    chunks = list(range(0, n, _CHUNK_TRIALS))
+    threads = max(1, min(workers(), len(chunks)))
+    # Expected values inside a bracket for a normal output: 2 × half-width × density
+    # = 2 × 1.5 × (rank span + 8). Each thread's buffer holds twice its share plus slack; a row
+    # whose bracket needs more is recomputed whole.
+    expected = max(2 * _WIDTH_FACTOR * (pl[0][-1] - pl[0][0] + 8) for pl in plans)
+    cap = int(2 * expected / threads) + 64
+    values = np.empty((threads, rows, BRACKETS, cap))
+    filled = np.zeros((threads, rows, BRACKETS), dtype=np.int64)
+    below_thr = np.zeros((threads, rows), dtype=np.int64)
+    below = np.zeros((threads, rows, BRACKETS), dtype=np.int64)
+
+    k = left.shape[1]
+    k8 = BLOCK * -(-k // BLOCK)
+    coef8 = np.zeros((rows, k8))
+    coef8[:, :k] = left
+
+    def scan_chunks(t: int) -> None:
+        mine = chunks[t::threads]
+        if not mine:
+            return
+        run = None
+        for a in mine:
+            b = min(a + _CHUNK_TRIALS, n)
+            if run is None or b - a < _CHUNK_TRIALS:  # buffers, and for the short last chunk
+                m = b - a
+                z8 = np.zeros((k8, m))  # rows beyond k stay zero: they add exactly nothing
+                run = bind(
+                    z8,
+                    coef8,
+                    nominal,
+                    thresholds,
+                    lo_edge,
+                    hi_edge,
+                    below_thr[t],
+                    below[t],
+                    filled[t],
+                    values[t],
+                    np.empty(m),
+                    np.empty(BLOCK * -(-m // BLOCK), dtype=np.uint8),
+                )
+            if right is None:
+                z8[:k] = x[:, a:b]
+            else:
+                np.matmul(right, x[:, a:b], out=z8[:k])
+            run()
+
+    with _single_threaded_blas():
+        _run(scan_chunks, threads)
+
+    # Exact order statistics inside each bracket: the kept values of all threads side by side,
+    # sorted per row (numpy's vectorised sort), and the needed ranks read off.
+    c = below_thr.sum(axis=0)
+    total_below = below.sum(axis=0)
+    totals = filled.sum(axis=0)
+    ok = usable.copy()
+    q = np.empty((rows, len(probs)))
+    e = np.empty((rows, len(probs)))
+    for j, (rk, lo, frac, d, _) in enumerate(plans):
+        width = int(min(totals[:, j].max(initial=0), threads * cap))
+        kept = np.empty((rows, max(width, 1)))
+        count = np.empty(rows, dtype=np.int64)
+        gather(values, filled, j, kept, count)
+        kept.sort(axis=1)
+        local = np.asarray(rk)[None, :] - total_below[:, j, None]
+        ok &= (count >= 0) & (local[:, 0] >= 0) & (local[:, -1] < count)
+        at = np.take_along_axis(kept, np.clip(local, 0, kept.shape[1] - 1), axis=1)
+        with np.errstate(invalid="ignore"):  # rows that are not ok hold inf; recomputed below
+            q[:, j], e[:, j] = _quantile(dict(zip(rk, at.T, strict=True)), n, lo, frac, d)
+    for r in np.flatnonzero(~ok):
+        row = coef[r] @ x
+        row += nominal[r]
+        q_r, e_r, c[r] = _one_row(row, float(means[r]), float(stds[r]), probs, float(thresholds[r]))
+        q[r], e[r] = q_r, e_r
+    return q, e, c
+
+
+@cache
+def _blas_controller() -> Any:
+    from threadpoolctl import ThreadpoolController
+
+    return ThreadpoolController()  # finding the BLAS libraries takes milliseconds: do it once
+
+
+def _single_threaded_blas() -> Any:
+    """Context in which BLAS uses one thread (our worker threads are the parallelism)."""
+    return _blas_controller().limit(limits=1, user_api="blas")
+
+
+def _run(job: Callable[[int], None], threads: int) -> None:
+    """``job(t)`` for t in range(threads), in parallel threads when there is more than one."""
+    if threads == 1:
+        job(0)
+        return
+    with ThreadPoolExecutor(threads) as pool:
+        for f in [pool.submit(job, t) for t in range(threads)]:
+            f.result()

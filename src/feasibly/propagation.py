@@ -22,7 +22,7 @@ from typing import Any
 import numpy as np
 from scipy import special
 
-from ._selection import blocked_statistics
+from ._selection import streamed_statistics
 from .errors import FeasiblyError, InvalidUncertainty
 from .reaction import Reaction
 from .species import Species
@@ -185,13 +185,19 @@ def block_rows(n: int) -> int:
 
 
 def sample_moments(samples: SampleSet) -> tuple[np.ndarray, np.ndarray]:
-    """Mean (n,) and covariance (n, n, ddof = 1) of the input draws, without copying them."""
-    x = samples.values
-    n = x.shape[1]
-    xbar = x.mean(axis=1)
-    second = (x @ x.T) / n
-    cov = (second - np.outer(xbar, xbar)) * (n / (n - 1))
-    return xbar, np.atleast_2d(cov)
+    """Mean (n,) and covariance (n, n, ddof = 1) of the input draws, without copying them.
+
+    Computed once per sample set (its draws are read-only) and kept: every summary of every
+    output at every temperature uses the same moments.
+    """
+    if samples._moments is None:
+        x = samples.values
+        n = x.shape[1]
+        xbar = x.mean(axis=1)
+        second = (x @ x.T) / n
+        cov = (second - np.outer(xbar, xbar)) * (n / (n - 1))
+        samples._moments = (xbar, np.atleast_2d(cov))
+    return samples._moments
 
 
 def numerical_tolerance(u: np.ndarray, digits: int = 2) -> np.ndarray:
@@ -230,13 +236,13 @@ def summarise(
     which: str = "G",
     threshold: np.ndarray | float = 0.0,
     coverage: float = COVERAGE,
-    chunk: int | None = None,
 ) -> Summary:
     """Mean, u, median, coverage interval and P(output < threshold) at every temperature.
 
     Mean and standard deviation come from the sample moments of the inputs through the linear rows
     (identical to the moments of the sampled outputs); quantiles and probabilities come from the
-    sampled outputs themselves, selected exactly (the same numbers as ``numpy.quantile``).
+    sampled outputs themselves, selected exactly (the same numbers as ``numpy.quantile`` of the
+    outputs, streamed a chunk of trials at a time so the T × N matrix is never held).
     """
     if not 0.0 < coverage < 1.0:
         raise InvalidUncertainty(
@@ -251,19 +257,9 @@ def summarise(
     tail = (1.0 - coverage) / 2.0
     probs = (tail, 0.5, 1.0 - tail)
     thr = np.broadcast_to(np.asarray(threshold, dtype=float), model.T.shape).copy()
-    from threadpoolctl import threadpool_limits
-
-    with threadpool_limits(limits=1, user_api="blas"):
-        q, e, below = blocked_statistics(
-            lambda i, j, buf: model.values(which, samples, slice(i, j), out=buf),
-            model.T.size,
-            mean,
-            u,
-            probs,
-            thr,
-            width=n,
-            chunk=chunk or block_rows(n),
-        )
+    q, e, below = streamed_statistics(
+        coef, nominal, samples.values, mean, u, probs, thr, scale=np.sqrt(np.diag(cov))
+    )
     p = below / n
     return Summary(
         mean,

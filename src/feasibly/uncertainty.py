@@ -338,6 +338,14 @@ class SampleSet:
     correlation: np.ndarray | None = None
     blocks: list[int] = field(default_factory=list)
     rng: np.random.Generator | None = field(default=None, repr=False)
+    _moments: tuple[np.ndarray, np.ndarray] | None = field(
+        default=None, init=False, repr=False, compare=False
+    )
+
+    def __post_init__(self) -> None:
+        # Kept draws are never changed in place (their moments are computed once and kept, and
+        # a record's recomputation depends on them): make that a guarantee.
+        self.values.flags.writeable = False
 
     @property
     def n(self) -> int:

@@ -1,0 +1,282 @@
+"""One read of a chunk of Monte Carlo trials: counts below edges and the values inside brackets.
+
+The streamed summary (``_selection.streamed_statistics``) never holds the T × N matrix of
+outputs. It hands the kernel here one chunk of trials at a time; for every temperature row the
+kernel forms the chunk's outputs (``coef @ z + nominal``, the inputs eight at a time) and adds
+
+* the count of outputs below the row's threshold,
+* the count below the lower edge of each of three brackets, and
+* the outputs inside each bracket, appended to that bracket's buffer,
+
+so that the order statistics inside each bracket can be selected afterwards, exactly.
+
+The kernels are written twice: in C (``_scan.c``, compiled into the wheel by ``hatch_build.py``
+and called through ctypes, which releases the GIL so worker threads scan in parallel) and in
+numpy here. Both do the same floating-point operations in the same order, so they give the same
+bits; the tests compare them. The numpy ones are used where the library was not built (a
+platform without a C compiler): the same numbers, several times slower.
+"""
+
+from __future__ import annotations
+
+import ctypes
+from collections.abc import Callable
+from functools import cache
+from pathlib import Path
+
+import numpy as np
+
+__all__ = [
+    "BLOCK",
+    "BRACKETS",
+    "compiled",
+    "gather_numpy",
+    "product_numpy",
+    "scan_kernel",
+    "scan_numpy",
+]
+
+#: Brackets per call: three covers a coverage interval and its median (unused ones are padded
+#: with brackets that hold nothing).
+BRACKETS = 3
+#: Inputs are summed eight at a time; the input dimension is padded to a multiple of this.
+BLOCK = 8
+
+ScanKernel = Callable[..., None]
+
+
+def product_numpy(coef: np.ndarray, z: np.ndarray) -> np.ndarray:
+    """``coef @ z`` summed in the compiled kernel's order: inputs in blocks of eight, each block
+    summed left to right, the blocks added in turn. ``coef`` (rows × k), ``z`` (k × m), k a
+    multiple of 8. No fused multiply-add anywhere, so numpy and the kernel agree to the bit."""
+    out = np.zeros((coef.shape[0], z.shape[1]))
+    for kb in range(0, z.shape[0], BLOCK):
+        part = coef[:, kb, None] * z[kb]
+        for k in range(kb + 1, kb + BLOCK):
+            part = part + coef[:, k, None] * z[k]
+        out = part if kb == 0 else out + part
+    return out
+
+
+def scan_numpy(
+    z: np.ndarray,
+    coef: np.ndarray,
+    nominal: np.ndarray,
+    threshold: np.ndarray,
+    lo: np.ndarray,
+    hi: np.ndarray,
+    below_threshold: np.ndarray,
+    below: np.ndarray,
+    filled: np.ndarray,
+    values: np.ndarray,
+    scratch: np.ndarray,
+    flags: np.ndarray,
+) -> None:
+    """Add a chunk of trials to the accumulators, in place.
+
+    The chunk's outputs are ``coef @ z + nominal`` (``product_numpy``'s order): ``z`` (k × m) the
+    chunk's inputs, k a multiple of 8 (zero rows pad it), ``coef`` (rows × k); ``nominal``,
+    ``threshold`` (rows,); ``lo``, ``hi`` (rows, 3) bracket edges, inclusive (a bracket at
+    [+inf, +inf] holds nothing); ``below_threshold`` (rows,) and ``below`` (rows, 3) counts;
+    ``filled`` (rows, 3) how many values each bracket's buffer ``values`` (rows, 3, capacity)
+    holds. ``filled`` keeps counting past the capacity, so an overflowing bracket is seen (and
+    its row recomputed by the caller), never truncated silently. ``scratch`` and ``flags`` are
+    work space for the compiled kernel (unused here).
+    """
+    v = product_numpy(coef, z) + nominal[:, None]
+    below_threshold += np.count_nonzero(v < threshold[:, None], axis=1)
+    below += np.count_nonzero(v[:, None, :] < lo[:, :, None], axis=2)
+    cap = values.shape[2]
+    for b in range(BRACKETS):
+        inside = (v >= lo[:, b, None]) & (v <= hi[:, b, None])
+        for r in np.flatnonzero(inside.any(axis=1)):
+            kept = v[r, inside[r]]
+            k = int(filled[r, b])
+            if k + kept.size <= cap:
+                values[r, b, k : k + kept.size] = kept
+            filled[r, b] = k + kept.size
+
+
+def gather_numpy(
+    values: np.ndarray, filled: np.ndarray, bracket: int, out: np.ndarray, count: np.ndarray
+) -> None:
+    """One bracket's kept values of every row, from all threads' buffers, into ``out``
+    (rows × width, the rest +inf so that a row sort leaves them last); ``count`` (rows,) gets how
+    many there are, or −1 where a buffer overflowed (the row must be recomputed).
+
+    ``values`` is threads × rows × 3 × capacity and ``filled`` threads × rows × 3, as the scan
+    left them.
+    """
+    cap = values.shape[3]
+    out.fill(np.inf)
+    for r in range(out.shape[0]):
+        n = filled[:, r, bracket]
+        if np.any(n > cap) or n.sum() > out.shape[1]:
+            count[r] = -1
+            continue
+        out[r, : n.sum()] = np.concatenate([values[t, r, bracket, : n[t]] for t in range(n.size)])
+        count[r] = n.sum()
+
+
+_LIBRARY = Path(__file__).parent / "_lib" / "libfeasibly_scan.so"
+
+
+def _library_path() -> Path | None:
+    """The compiled kernels beside this module (built into the wheel by ``hatch_build.py``, or
+    in the source tree by ``bin/build-kernel``), if present."""
+    return _LIBRARY if _LIBRARY.is_file() else None
+
+
+@cache
+def _compiled() -> ctypes.CDLL | None:
+    path = _library_path()
+    if path is None:
+        return None
+    lib = ctypes.CDLL(str(path))
+    i64, ptr = ctypes.c_int64, ctypes.c_void_p
+    lib.feasibly_scan.argtypes = [i64, i64, i64, i64] + [ptr] * 12 + [i64]
+    lib.feasibly_scan.restype = None
+    lib.feasibly_gather.argtypes = [i64, i64, i64, ptr, ptr, i64, i64, ptr, ptr]
+    lib.feasibly_gather.restype = None
+    return lib
+
+
+def _address(a: np.ndarray, dtype: type, writeable: bool = False) -> int:
+    """The data address of ``a`` after checking what the C code assumes of it."""
+    if a.dtype != dtype or not a.flags.c_contiguous or (writeable and not a.flags.writeable):
+        msg = f"kernel argument must be a C-contiguous {np.dtype(dtype)} array, got {a.dtype}"
+        raise TypeError(msg)
+    return int(a.ctypes.data)
+
+
+def _bind_compiled(
+    z: np.ndarray,
+    coef: np.ndarray,
+    nominal: np.ndarray,
+    threshold: np.ndarray,
+    lo: np.ndarray,
+    hi: np.ndarray,
+    below_threshold: np.ndarray,
+    below: np.ndarray,
+    filled: np.ndarray,
+    values: np.ndarray,
+    scratch: np.ndarray,
+    flags: np.ndarray,
+) -> Callable[[], None]:
+    """``scan_numpy`` in C, bound to its arrays once (checked once): the returned function scans
+    whatever chunk ``z`` holds when it is called, with the same results to the bit."""
+    k, m = z.shape
+    rows = coef.shape[0]
+    if k % BLOCK or coef.shape[1] != k or scratch.size < m or flags.size < m or flags.size % 8:
+        raise ValueError("kernel arguments do not fit together")
+    if not (
+        nominal.size == threshold.size == below_threshold.size == rows
+        and lo.shape == hi.shape == below.shape == filled.shape == (rows, BRACKETS)
+        and values.shape[:2] == (rows, BRACKETS)
+    ):
+        raise ValueError("kernel arguments do not fit together")
+    f64 = np.float64
+    lib = _compiled()
+    assert lib is not None
+    args = (
+        k,
+        m,
+        rows,
+        values.shape[2],
+        _address(z, f64),
+        _address(coef, f64),
+        _address(nominal, f64),
+        _address(threshold, f64),
+        _address(lo, f64),
+        _address(hi, f64),
+        _address(below_threshold, np.int64, True),
+        _address(below, np.int64, True),
+        _address(filled, np.int64, True),
+        _address(values, f64, True),
+        _address(scratch, f64, True),
+        _address(flags, np.uint8, True),
+        flags.size,
+    )
+    kept = (
+        z,
+        coef,
+        nominal,
+        threshold,
+        lo,
+        hi,
+        below_threshold,
+        below,
+        filled,
+        values,
+        scratch,
+        flags,
+    )
+    return _BoundScan(lib, args, kept)
+
+
+class _BoundScan:
+    """A compiled scan bound to its arrays: calling it scans the chunk its ``z`` holds now."""
+
+    __slots__ = ("_args", "_arrays", "_lib")
+
+    def __init__(self, lib: ctypes.CDLL, args: tuple[int, ...], arrays: tuple[np.ndarray, ...]):
+        self._lib, self._args = lib, args
+        self._arrays = arrays  # holds the arrays whose addresses are in args
+
+    def __call__(self) -> None:
+        self._lib.feasibly_scan(*self._args)
+
+
+def _bind_numpy(*args: np.ndarray) -> Callable[[], None]:
+    """``scan_numpy`` bound to its arrays (the same interface as the compiled kernel)."""
+
+    def run() -> None:
+        scan_numpy(*args)
+
+    return run
+
+
+def _gather_compiled(
+    values: np.ndarray, filled: np.ndarray, bracket: int, out: np.ndarray, count: np.ndarray
+) -> None:
+    """``gather_numpy`` in C."""
+    threads, rows, nb, cap = values.shape
+    if filled.shape != (threads, rows, nb) or out.shape[0] != rows or count.shape != (rows,):
+        raise ValueError("kernel arguments do not fit together")
+    if not 0 <= bracket < nb:
+        raise ValueError("no such bracket")
+    lib = _compiled()
+    assert lib is not None
+    lib.feasibly_gather(
+        threads,
+        rows,
+        cap,
+        _address(values, np.float64),
+        _address(filled, np.int64),
+        bracket,
+        out.shape[1],
+        _address(out, np.float64, True),
+        _address(count, np.int64, True),
+    )
+
+
+def compiled() -> bool:
+    """Whether the compiled kernels are in use (else the numpy ones: same numbers, slower)."""
+    return _compiled() is not None
+
+
+@cache
+def scan_kernel() -> tuple[Callable[..., Callable[[], None]], ScanKernel]:
+    """The kernels (bind a scan to its arrays, gather): compiled where the library is present,
+    else numpy's.
+
+    Both give the same numbers; the compiled ones are several times faster. ctypes releases
+    the GIL during each call, so worker threads scan their chunks in parallel.
+    """
+    if compiled():
+        return _bind_compiled, _gather_compiled
+    return _bind_numpy, gather_numpy
+
+
+#: The numpy kernels in the form ``scan_kernel`` returns (for the tests and odd platforms).
+NUMPY_KERNELS = (_bind_numpy, gather_numpy)

@@ -1,0 +1,226 @@
+"""The streamed Monte Carlo summary: the C kernels against their numpy twins (to the bit), and the
+whole summary against ``numpy.quantile`` and plain counting on the materialised outputs (numpy is
+the outside reference here: its 'linear' quantile rule is Hyndman & Fan's definition 7).
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+import feasibly
+from feasibly import _scan, _selection
+from feasibly.propagation import linear_model, summarise
+from feasibly.uncertainty import build_inputs, draw_samples
+
+PROBS = (0.025, 0.5, 0.975)
+compiled = pytest.mark.skipif(
+    not _scan.compiled(),
+    reason="C kernels not built in this tree (bin/build-kernel); the installed wheel has them",
+)
+
+
+def test_installed_package_carries_the_compiled_kernels() -> None:
+    # The wheel bin/check installs must hold the library; only a bare source tree may lack it.
+    installed = "site-packages" in Path(feasibly.__file__).parts
+    if installed or _scan.compiled():
+        assert _scan.compiled()
+    else:
+        pytest.skip("running from src/ without bin/build-kernel")
+
+
+def _chunk(rng: np.random.Generator, rows: int, m: int, k: int, cap: int):  # type: ignore[no-untyped-def]
+    z = np.zeros((8 * -(-k // 8), m))
+    z[:k] = rng.standard_normal((k, m)) * rng.uniform(0.1, 50.0, (k, 1))
+    coef = np.zeros((rows, z.shape[0]))
+    coef[:, :k] = rng.standard_normal((rows, k))
+    nominal = rng.standard_normal(rows) * 10
+    spread = np.sqrt((coef[:, :k] ** 2 * z[:k].var(axis=1)).sum(axis=1))
+    centre = nominal[:, None] + spread[:, None] * np.array([-1.96, 0.0, 1.96])
+    lo = centre - 0.05 * spread[:, None]
+    hi = centre + 0.05 * spread[:, None]
+    lo[0, 2] = hi[0, 2] = np.inf  # a padding bracket holds nothing
+    lo[1, 1], hi[1, 1] = lo[1, 0], hi[1, 0] + 0.2 * spread[1]  # overlapping brackets
+    acc = (
+        np.zeros(rows, dtype=np.int64),
+        np.zeros((rows, 3), dtype=np.int64),
+        np.zeros((rows, 3), dtype=np.int64),
+        np.full((rows, 3, cap), np.nan),
+    )
+    flags = np.empty(8 * -(-m // 8), dtype=np.uint8)
+    return (z, coef, nominal, nominal * 0.3, lo, hi), acc, np.empty(m), flags
+
+
+@compiled
+@pytest.mark.parametrize(("m", "k", "cap"), [(1024, 8, 2000), (1000, 18, 2000), (37, 3, 64)])
+def test_scan_kernel_matches_numpy_to_the_bit(m: int, k: int, cap: int) -> None:
+    rng = np.random.default_rng(7)
+    args, acc_c, scratch, flags = _chunk(rng, 9, m, k, cap)
+    acc_n = tuple(a.copy() for a in acc_c)
+    bind, _ = _scan.scan_kernel()
+    run = bind(*args, *acc_c, scratch, flags)
+    for _ in range(3):  # several chunks accumulate
+        run()
+        _scan.scan_numpy(*args, *acc_n, scratch, flags)
+    for got, want in zip(acc_c[:3], acc_n[:3], strict=True):
+        np.testing.assert_array_equal(got, want)
+    filled = acc_n[2]
+    assert filled[0, 2] == 0 and filled.sum() > 0
+    for r, b in np.ndindex(filled.shape):
+        n = filled[r, b]
+        if n <= cap:
+            # Bitwise: the same product order, no fused multiply-add in either.
+            np.testing.assert_array_equal(acc_c[3][r, b, :n], acc_n[3][r, b, :n])
+
+
+@compiled
+def test_scan_kernel_counts_past_a_full_buffer() -> None:
+    rng = np.random.default_rng(8)
+    args, acc_c, scratch, flags = _chunk(rng, 4, 1024, 8, 5)  # room for 5 values only
+    acc_n = tuple(a.copy() for a in acc_c)
+    bind, _ = _scan.scan_kernel()
+    bind(*args, *acc_c, scratch, flags)()
+    _scan.scan_numpy(*args, *acc_n, scratch, flags)
+    np.testing.assert_array_equal(acc_c[2], acc_n[2])
+    assert acc_c[2].max() > 5  # the overflow is seen, so the row is recomputed
+
+
+def test_scan_counts_are_plain_counts() -> None:
+    # The numpy kernel (the compiled one's reference) against direct counting.
+    rng = np.random.default_rng(9)
+    args, acc, scratch, flags = _chunk(rng, 6, 512, 8, 4000)
+    _scan.scan_numpy(*args, *acc, scratch, flags)
+    z, coef, nominal, thr, lo, hi = args
+    v = coef @ z + nominal[:, None]
+    np.testing.assert_array_equal(acc[0], (v < thr[:, None]).sum(axis=1))
+    np.testing.assert_array_equal(acc[1], (v[:, None, :] < lo[:, :, None]).sum(axis=2))
+    inside = (v[:, None, :] >= lo[:, :, None]) & (v[:, None, :] <= hi[:, :, None])
+    np.testing.assert_array_equal(acc[2], inside.sum(axis=2))
+
+
+@compiled
+def test_gather_kernel_matches_numpy() -> None:
+    rng = np.random.default_rng(10)
+    values = rng.standard_normal((2, 5, 3, 40))
+    filled = rng.integers(0, 41, (2, 5, 3))
+    filled[1, 3, 0] = 41  # an overflowed buffer: the row reports −1
+    _, c_gather = _scan.scan_kernel()
+    for b in range(3):
+        out_c, out_n = np.empty((5, 80)), np.empty((5, 80))
+        cnt_c, cnt_n = np.empty(5, dtype=np.int64), np.empty(5, dtype=np.int64)
+        c_gather(values, filled, b, out_c, cnt_c)
+        _scan.gather_numpy(values, filled, b, out_n, cnt_n)
+        np.testing.assert_array_equal(cnt_c, cnt_n)
+        np.testing.assert_array_equal(out_c, out_n)
+    assert cnt_c[3] != -1 and cnt_n[3] != -1  # bracket 2 of row 3 did not overflow
+    cnt = np.empty(5, dtype=np.int64)
+    _scan.gather_numpy(values, filled, 0, np.empty((5, 80)), cnt)
+    assert cnt[3] == -1
+
+
+@compiled
+def test_kernels_refuse_misshapen_arguments() -> None:
+    rng = np.random.default_rng(11)
+    args, acc, scratch, flags = _chunk(rng, 3, 64, 8, 10)
+    bind, _ = _scan.scan_kernel()
+    with pytest.raises(ValueError, match="do not fit"):
+        bind(args[0][:7], *args[1:], *acc, scratch, flags)
+    with pytest.raises(TypeError, match="C-contiguous"):
+        bind(args[0], args[1].astype(np.float32), *args[2:], *acc, scratch, flags)
+
+
+def _reaction_model(n: int, seed: int, points: int = 40):  # type: ignore[no-untyped-def]
+    rxn = feasibly.Reaction.parse("2 CH4(g) + O2(g) + CO2(g) -> 3 CO(g) + 3 H2(g) + H2O(g)")
+    samples = draw_samples(build_inputs(rxn.species_used()), n, seed=seed)
+    return linear_model(rxn, np.linspace(800.0, 1500.0, points), samples), samples
+
+
+@pytest.mark.parametrize("threads", [1, 2])
+def test_streamed_summary_is_numpys(threads: int, monkeypatch: pytest.MonkeyPatch) -> None:
+    # numpy.quantile and plain counting on the materialised outputs. The outputs differ from the
+    # direct product only by summation order (the low-rank product), a few units in the last bit.
+    monkeypatch.setattr(_selection, "workers", lambda: threads)
+    model, samples = _reaction_model(20_011, 31)
+    thr = np.linspace(-2e4, 2e4, model.T.size)
+    s = summarise(model, samples, "G", thr)
+    g = model.values("G", samples)
+    ref = np.quantile(g, PROBS, axis=1)
+    for got, want in zip((s.lo, s.median, s.hi), ref, strict=True):
+        np.testing.assert_allclose(got, want, rtol=1e-13, atol=1e-9)
+    np.testing.assert_array_equal(s.p_below * samples.n, (g < thr[:, None]).sum(axis=1))
+
+
+def test_compiled_and_numpy_kernels_give_the_same_summary() -> None:
+    model, samples = _reaction_model(30_000, 32)
+    args = (
+        model.aG,
+        model.G0,
+        samples.values,
+        model.mean("G", samples),
+        np.sqrt(np.einsum("ij,jk,ik->i", model.aG, np.cov(samples.values), model.aG)),
+        PROBS,
+        np.zeros(model.T.size),
+    )
+    fast = _selection.streamed_statistics(*args)
+    slow = _selection.streamed_statistics(*args, kernels=_scan.NUMPY_KERNELS)
+    for a, b in zip(fast, slow, strict=True):
+        np.testing.assert_array_equal(a, b)
+
+
+@pytest.mark.parametrize("shape", ["normal", "skewed", "heavy", "ties", "bimodal", "constant"])
+def test_streamed_statistics_are_exact_for_any_shape(shape: str) -> None:
+    # Rows far from normal make the bracket guesses miss; those rows are recomputed whole. The
+    # outputs here are one input each (coefficient 1, nominal 0), so they are the draws exactly.
+    rng = np.random.default_rng(33)
+    n = 9_001
+    x = {
+        "normal": rng.standard_normal((3, n)),
+        "skewed": rng.exponential(size=(3, n)) ** 3,
+        "heavy": rng.standard_cauchy((3, n)),
+        "ties": rng.integers(0, 5, (3, n)).astype(float),
+        "bimodal": np.where(rng.random((3, n)) < 0.5, -10.0, 10.0) + rng.standard_normal((3, n)),
+        "constant": np.full((3, n), 2.5),
+    }[shape]
+    coef = np.eye(3)
+    thr = np.array([0.0, 1.0, -1.0])
+    q, e, c = _selection.streamed_statistics(
+        coef, np.zeros(3), x, x.mean(axis=1), x.std(axis=1), PROBS, thr
+    )
+    np.testing.assert_array_equal(q, np.quantile(x, PROBS, axis=1).T)
+    np.testing.assert_array_equal(c, (x < thr[:, None]).sum(axis=1))
+    assert np.all(e >= 0)
+
+
+@pytest.mark.parametrize("probs", [(0.1, 0.9), (0.01, 0.05, 0.5, 0.95, 0.99)])
+def test_streamed_statistics_with_many_rows_and_passes(probs: tuple[float, ...]) -> None:
+    # More rows than one pass holds; fewer than three probabilities (padding brackets) or more
+    # (two calls of the three-bracket kernel).
+    model, samples = _reaction_model(5_003, 34, points=_selection._ROWS_PER_PASS + 7)
+    g = model.values("G", samples)
+    mean, std = g.mean(axis=1), g.std(axis=1)
+    q, _, c = _selection.streamed_statistics(
+        model.aG, model.G0, samples.values, mean, std, probs, np.zeros(model.T.size)
+    )
+    np.testing.assert_allclose(q, np.quantile(g, probs, axis=1).T, rtol=1e-13, atol=1e-9)
+    np.testing.assert_array_equal(c, (g < 0).sum(axis=1))
+
+
+def test_low_rank_reproduces_the_contributions() -> None:
+    model, samples = _reaction_model(1_000, 35)
+    scale = samples.values.std(axis=1)
+    factors = _selection.low_rank(model.aG, scale)
+    assert factors is not None
+    a, b = factors
+    assert a.shape[1] == 8  # 6 species: ΔfH° and S° directions collapse, 6 Cp factors remain
+    top = np.abs(model.aG * scale).max()
+    assert np.abs((a @ b - model.aG) * scale).max() <= 16 * np.finfo(float).eps * top
+    rng = np.random.default_rng(36)
+    assert _selection.low_rank(rng.standard_normal((50, 10)), np.ones(10)) is None  # full rank
+
+
+def test_kept_draws_are_read_only() -> None:
+    _, samples = _reaction_model(100, 37)
+    with pytest.raises(ValueError, match="read-only"):
+        samples.values[0, 0] = 1.0
