@@ -224,3 +224,19 @@ def test_kept_draws_are_read_only() -> None:
     _, samples = _reaction_model(100, 37)
     with pytest.raises(ValueError, match="read-only"):
         samples.values[0, 0] = 1.0
+
+
+def test_an_unloadable_library_falls_back_with_a_warning(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    bad = tmp_path / "libfeasibly_scan.so"
+    bad.write_text("not a shared library")
+    monkeypatch.setattr(_scan, "_LIBRARY", bad)
+    _scan._compiled.cache_clear()
+    try:
+        with pytest.warns(RuntimeWarning, match="same numbers"):
+            assert _scan._compiled() is None
+    finally:
+        monkeypatch.undo()
+        _scan._compiled.cache_clear()
+    assert _scan.compiled() == (_scan._library_path() is not None)

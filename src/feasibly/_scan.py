@@ -20,6 +20,7 @@ platform without a C compiler): the same numbers, several times slower.
 from __future__ import annotations
 
 import ctypes
+import warnings
 from collections.abc import Callable
 from functools import cache
 from pathlib import Path
@@ -132,7 +133,16 @@ def _compiled() -> ctypes.CDLL | None:
     path = _library_path()
     if path is None:
         return None
-    lib = ctypes.CDLL(str(path))
+    try:
+        lib = ctypes.CDLL(str(path))
+    except OSError as exc:  # built for another machine, say: the numpy kernels give the same
+        warnings.warn(
+            f"feasibly's compiled Monte Carlo kernel could not be loaded ({exc}); using the numpy "
+            "kernels instead: the same numbers, several times slower",
+            RuntimeWarning,
+            stacklevel=2,
+        )
+        return None
     i64, ptr = ctypes.c_int64, ctypes.c_void_p
     lib.feasibly_scan.argtypes = [i64, i64, i64, i64] + [ptr] * 12 + [i64]
     lib.feasibly_scan.restype = None

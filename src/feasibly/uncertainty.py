@@ -328,7 +328,8 @@ class SampleSet:
 
     ``values`` has shape (n, N): one row per input, one column per trial, in SI, as deviations
     from the library values (library nominal + value = the sampled value). Inputs are rows so
-    that the linear part of every model is one matrix product into temperature-major rows.
+    that the linear part of every model is one matrix product into temperature-major rows. The
+    array is read-only: every result computed from a sample set refers to the same draws.
     """
 
     inputs: list[UncertainInput]
