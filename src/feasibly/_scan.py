@@ -44,6 +44,8 @@ BRACKETS = 3
 BLOCK = 8
 
 ScanKernel = Callable[..., None]
+#: (bind a scan to its arrays → run one chunk, gather one bracket): what ``scan_kernel`` returns.
+Kernels = tuple[Callable[..., Callable[[], None]], ScanKernel]
 
 
 def product_numpy(coef: np.ndarray, z: np.ndarray) -> np.ndarray:
@@ -276,7 +278,7 @@ def compiled() -> bool:
 
 
 @cache
-def scan_kernel() -> tuple[Callable[..., Callable[[], None]], ScanKernel]:
+def scan_kernel() -> Kernels:
     """The kernels (bind a scan to its arrays, gather): compiled where the library is present,
     else numpy's.
 
@@ -289,4 +291,4 @@ def scan_kernel() -> tuple[Callable[..., Callable[[], None]], ScanKernel]:
 
 
 #: The numpy kernels in the form ``scan_kernel`` returns (for the tests and odd platforms).
-NUMPY_KERNELS = (_bind_numpy, gather_numpy)
+NUMPY_KERNELS: Kernels = (_bind_numpy, gather_numpy)

@@ -24,10 +24,13 @@ import os
 from collections.abc import Callable
 from concurrent.futures import ThreadPoolExecutor
 from functools import cache
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 from scipy import special
+
+if TYPE_CHECKING:
+    from ._scan import Kernels
 
 __all__ = ["low_rank", "row_statistics", "streamed_statistics", "workers"]
 
@@ -213,7 +216,7 @@ def streamed_statistics(
     probs: tuple[float, ...],
     thresholds: np.ndarray,
     scale: np.ndarray | None = None,
-    kernels: tuple[Callable[..., Callable[[], None]], Callable[..., None]] | None = None,
+    kernels: Kernels | None = None,
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Row statistics of the outputs ``nominal + coef @ x`` without holding them.
 
@@ -274,7 +277,7 @@ def streamed_statistics(
 
 
 def _stream_rows(
-    kernels: tuple[Callable[..., Callable[[], None]], Callable[..., None]],
+    kernels: Kernels,
     left: np.ndarray,
     right: np.ndarray | None,
     coef: np.ndarray,
