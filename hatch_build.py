@@ -4,8 +4,8 @@ hatchling runs this when it builds a wheel (``[tool.hatch.build.targets.wheel.ho
 pyproject.toml). ``python hatch_build.py`` compiles the same library into the source tree, for
 running the tests against ``src/`` (``bin/build-kernel`` does that).
 
-Without a C compiler the wheel is built without the library and feasibly uses the numpy kernels
-instead: the same numbers, several times slower (``feasibly._scan.compiled()`` says which).
+Without a C compiler the wheel is built without the library and feasibly's summaries select with
+numpy instead: the same numbers, a few times slower (``feasibly._scan.compiled()`` says which).
 """
 
 from __future__ import annotations
@@ -50,7 +50,7 @@ class KernelBuildHook(BuildHookInterface):  # type: ignore[misc,valid-type]
             compile_kernel(target)
         except (OSError, subprocess.CalledProcessError) as exc:
             self.app.display_warning(
-                f"feasibly: C kernels not compiled ({exc}); the numpy kernels will be used"
+                f"feasibly: C kernels not compiled ({exc}); summaries will select with numpy"
             )
             return
         build_data["force_include"][str(target)] = f"feasibly/{LIBRARY}"

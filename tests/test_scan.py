@@ -152,6 +152,7 @@ def test_streamed_summary_is_numpys(threads: int, monkeypatch: pytest.MonkeyPatc
     np.testing.assert_array_equal(s.p_below * samples.n, (g < thr[:, None]).sum(axis=1))
 
 
+@compiled
 def test_compiled_and_numpy_kernels_give_the_same_summary() -> None:
     model, samples = _reaction_model(30_000, 32)
     args = (
@@ -240,3 +241,17 @@ def test_an_unloadable_library_falls_back_with_a_warning(
         monkeypatch.undo()
         _scan._compiled.cache_clear()
     assert _scan.compiled() == (_scan._library_path() is not None)
+
+
+def test_without_the_compiled_kernel_rows_are_formed_and_selected_by_numpy(
+    monkeypatch: pytest.MonkeyPatch,
+) -> None:
+    # The fallback path forms the same matrix product as LinearModel.values, block by block.
+    monkeypatch.setattr(_scan, "compiled", lambda: False)
+    model, samples = _reaction_model(10_007, 38)
+    s = summarise(model, samples, "G", 0.0)
+    g = model.values("G", samples)
+    ref = np.quantile(g, PROBS, axis=1)
+    for got, want in zip((s.lo, s.median, s.hi), ref, strict=True):
+        np.testing.assert_allclose(got, want, rtol=1e-13, atol=1e-9)
+    np.testing.assert_array_equal(s.p_below * samples.n, (g < 0).sum(axis=1))

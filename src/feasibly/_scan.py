@@ -13,8 +13,9 @@ so that the order statistics inside each bracket can be selected afterwards, exa
 The kernels are written twice: in C (``_scan.c``, compiled into the wheel by ``hatch_build.py``
 and called through ctypes, which releases the GIL so worker threads scan in parallel) and in
 numpy here. Both do the same floating-point operations in the same order, so they give the same
-bits; the tests compare them. The numpy ones are used where the library was not built (a
-platform without a C compiler): the same numbers, several times slower.
+bits; the tests compare them. Where the library was not built (no C compiler) the summary does
+not stream at all: it forms the rows in blocks and selects with numpy (``_selection``), the same
+quantiles to the last bits, about three times slower than with the kernel.
 """
 
 from __future__ import annotations
@@ -137,10 +138,10 @@ def _compiled() -> ctypes.CDLL | None:
         return None
     try:
         lib = ctypes.CDLL(str(path))
-    except OSError as exc:  # built for another machine, say: the numpy kernels give the same
+    except OSError as exc:  # built for another machine, say: numpy selection gives the same
         warnings.warn(
-            f"feasibly's compiled Monte Carlo kernel could not be loaded ({exc}); using the numpy "
-            "kernels instead: the same numbers, several times slower",
+            f"feasibly's compiled Monte Carlo kernel could not be loaded ({exc}); selecting with "
+            "numpy instead: the same numbers, a few times slower",
             RuntimeWarning,
             stacklevel=2,
         )
@@ -273,7 +274,8 @@ def _gather_compiled(
 
 
 def compiled() -> bool:
-    """Whether the compiled kernels are in use (else the numpy ones: same numbers, slower)."""
+    """Whether the compiled kernels are in use (else summaries select with numpy: the same
+    numbers, slower)."""
     return _compiled() is not None
 
 
@@ -282,7 +284,7 @@ def scan_kernel() -> Kernels:
     """The kernels (bind a scan to its arrays, gather): compiled where the library is present,
     else numpy's.
 
-    Both give the same numbers; the compiled ones are several times faster. ctypes releases
+    Both give the same bits; the compiled ones are about twenty times faster. ctypes releases
     the GIL during each call, so worker threads scan their chunks in parallel.
     """
     if compiled():
@@ -290,5 +292,5 @@ def scan_kernel() -> Kernels:
     return _bind_numpy, gather_numpy
 
 
-#: The numpy kernels in the form ``scan_kernel`` returns (for the tests and odd platforms).
+#: The numpy kernels in the form ``scan_kernel`` returns (the compiled ones' reference in tests).
 NUMPY_KERNELS: Kernels = (_bind_numpy, gather_numpy)
