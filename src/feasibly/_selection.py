@@ -142,6 +142,21 @@ def _one_row(
     return quantiles, errors, below
 
 
+# Bytes of sampled outputs formed at a time wherever rows are formed whole: small enough that
+# N = 10^6 trials stays far below 300 MB, large enough that the matrix products stay efficient.
+_BLOCK_BYTES = 16 * 2**20
+
+
+def block_rows(n: int) -> int:
+    """Rows (temperatures) per block of about 16 MB for N trials (at least 1)."""
+    return max(1, _BLOCK_BYTES // (8 * max(n, 1)))
+
+
+def _empty_statistics(rows: int, k: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Quantiles (rows × k), their standard errors (rows × k) and counts (rows,), unfilled."""
+    return np.empty((rows, k)), np.empty((rows, k)), np.empty(rows, dtype=np.int64)
+
+
 def row_statistics(
     block: np.ndarray,
     means: np.ndarray,
@@ -151,9 +166,7 @@ def row_statistics(
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Quantiles (T × k), their standard errors (T × k) and counts below threshold (T,)."""
     t = block.shape[0]
-    q = np.empty((t, len(probs)))
-    e = np.empty((t, len(probs)))
-    c = np.empty(t, dtype=np.int64)
+    q, e, c = _empty_statistics(t, len(probs))
     buf = (np.empty(block.shape[1], dtype=bool), np.empty(block.shape[1], dtype=bool))
     for i in range(t):
         qi, ei, ci = _one_row(
@@ -240,9 +253,7 @@ def streamed_statistics(
         # for 10^5 trials × 200 T, bench_uncertainty_summary.py without the library).
         return _blocked_rows(coef, nominal, x, means, stds, probs, thresholds)
     kernels = kernels or _scan.scan_kernel()
-    q = np.empty((rows, len(probs)))
-    e = np.empty((rows, len(probs)))
-    c = np.empty(rows, dtype=np.int64)
+    q, e, c = _empty_statistics(rows, len(probs))
     if scale is None:
         scale = x.std(axis=1)
     factors = low_rank(coef, scale)
@@ -271,10 +282,6 @@ def streamed_statistics(
     return q, e, c
 
 
-# Bytes of outputs formed at a time where rows are formed whole: N = 10^6 stays far below 300 MB.
-_BLOCK_BYTES = 16 * 2**20
-
-
 def _blocked_rows(
     coef: np.ndarray,
     nominal: np.ndarray,
@@ -286,10 +293,8 @@ def _blocked_rows(
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """``streamed_statistics`` by forming the rows whole, a block of about 16 MB at a time."""
     rows = coef.shape[0]
-    q = np.empty((rows, len(probs)))
-    e = np.empty((rows, len(probs)))
-    c = np.empty(rows, dtype=np.int64)
-    step = max(1, _BLOCK_BYTES // (8 * max(x.shape[1], 1)))
+    q, e, c = _empty_statistics(rows, len(probs))
+    step = block_rows(x.shape[1])
     for i in range(0, rows, step):
         j = min(i + step, rows)
         block = coef[i:j] @ x

@@ -22,7 +22,7 @@ from typing import Any
 import numpy as np
 from scipy import special
 
-from ._selection import streamed_statistics
+from ._selection import block_rows, streamed_statistics
 from .errors import FeasiblyError, InvalidUncertainty
 from .reaction import Reaction
 from .species import Species
@@ -172,16 +172,6 @@ def linear_model(
     aG = aH - T[:, None] * aS
     G0 = std.dG + (R * T * lnQ if lnQ is not None else 0.0)
     return LinearModel(T, std.dH, std.dS, G0, aH, aS, aG)
-
-
-# Bytes of sampled outputs held per worker at a time: small enough that N = 10^6 trials on two
-# cores stays far below 300 MB, large enough that the matrix products stay efficient.
-_BLOCK_BYTES = 16 * 2**20
-
-
-def block_rows(n: int) -> int:
-    """Temperature rows per block for N trials (at least 1)."""
-    return max(1, _BLOCK_BYTES // (8 * max(n, 1)))
 
 
 def sample_moments(samples: SampleSet) -> tuple[np.ndarray, np.ndarray]:
