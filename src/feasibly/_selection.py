@@ -24,7 +24,7 @@ import os
 from collections.abc import Callable
 from concurrent.futures import ThreadPoolExecutor
 from functools import cache
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING, Any, NamedTuple
 
 import numpy as np
 from scipy import special
@@ -87,20 +87,37 @@ def _select(
     return np.partition(row, ranks)[ranks]
 
 
-def _bracket(n: int, p: float) -> tuple[list[int], int, float, int, float]:
-    """The order statistics needed for quantile ``p`` of N values: the sorted ranks (the two that
-    ``numpy.quantile`` interpolates between, and one binomial standard deviation either side for
-    the standard error), the lower rank, the interpolation fraction, d, and the bracket's half
-    width in units of the output's standard deviation (for a normal output)."""
+class _Plan(NamedTuple):
+    """What selecting quantile ``p`` of N values needs.
+
+    ``ranks``: the sorted order statistics needed (the two that ``numpy.quantile`` interpolates
+    between, lower rank ``lo`` with fraction ``frac``, and one binomial standard deviation ``d``
+    either side for the standard error); ``z``: the standard normal quantile, which places the
+    bracket's centre; ``half``: the bracket's half width in standard deviations of the output
+    (for a normal output).
+    """
+
+    ranks: list[int]
+    lo: int
+    frac: float
+    d: int
+    z: float
+    half: float
+
+    @property
+    def span(self) -> int:
+        return self.ranks[-1] - self.ranks[0]
+
+
+def _bracket(n: int, p: float) -> _Plan:
     lo, frac, d = _ranks(n, p)
     ranks = sorted({max(lo - d, 0), lo, min(lo + 1, n - 1), min(lo + 1 + d, n - 1)})
     z = float(special.ndtri(p))
     density = math.exp(-0.5 * z * z) / math.sqrt(2 * math.pi)  # of the standardised output
-    half = _WIDTH_FACTOR * (ranks[-1] - ranks[0] + 8) / (n * density)
-    return ranks, lo, frac, d, half
+    return _Plan(ranks, lo, frac, d, z, _WIDTH_FACTOR * (ranks[-1] - ranks[0] + 8) / (n * density))
 
 
-def _quantile(vals: dict[int, Any], n: int, lo: int, frac: float, d: int) -> tuple[Any, Any]:
+def _quantile(vals: dict[int, Any], n: int, plan: _Plan) -> tuple[Any, Any]:
     """The quantile and its order-statistic standard error from the order statistics ``vals``
     (rank → value, or rank → array of values over rows).
 
@@ -108,6 +125,7 @@ def _quantile(vals: dict[int, Any], n: int, lo: int, frac: float, d: int) -> tup
     ``numpy/lib/_function_base_impl.py``: from the upper end when the fraction is ½ or more), so
     the result is the same floating-point number as ``numpy.quantile``.
     """
+    lo, frac, d = plan.lo, plan.frac, plan.d
     a, b = np.asarray(vals[lo]), np.asarray(vals[min(lo + 1, n - 1)])
     diff = b - a
     q = b - diff * (1 - frac) if frac >= 0.5 else a + diff * frac
@@ -131,11 +149,10 @@ def _one_row(
         buf = (np.empty(n, dtype=bool), np.empty(n, dtype=bool))
     quantiles, errors = [], []
     for p in probs:
-        ranks, lo, frac, d, half = _bracket(n, p)
-        z = float(special.ndtri(p))
-        guess, width = mean + std * z, (half * std if std > 0 else math.inf)
-        vals = dict(zip(ranks, _select(row, ranks, guess, width, buf), strict=True))
-        q, err = _quantile(vals, n, lo, frac, d)
+        plan = _bracket(n, p)
+        guess, width = mean + std * plan.z, (plan.half * std if std > 0 else math.inf)
+        vals = dict(zip(plan.ranks, _select(row, plan.ranks, guess, width, buf), strict=True))
+        q, err = _quantile(vals, n, plan)
         quantiles.append(float(q))
         errors.append(float(err))
     below = int(np.count_nonzero(np.less(row, threshold, out=buf[0])))
@@ -257,16 +274,14 @@ def streamed_statistics(
     if scale is None:
         scale = x.std(axis=1)
     factors = low_rank(coef, scale)
-    from ._scan import BRACKETS
-
     for start in range(0, rows, _ROWS_PER_PASS):
         part = slice(start, min(start + _ROWS_PER_PASS, rows))
         if factors is None:
             left, right = coef[part], None
         else:
             left, right = factors[0][part], factors[1]
-        for g in range(0, len(probs), BRACKETS):  # the kernel takes three brackets at a time
-            cols = slice(g, g + BRACKETS)
+        for g in range(0, len(probs), _scan.BRACKETS):  # the kernel takes three at a time
+            cols = slice(g, g + _scan.BRACKETS)
             q[part, cols], e[part, cols], c[part] = _stream_rows(
                 kernels,
                 left,
@@ -325,9 +340,9 @@ def _stream_rows(
     plans = [_bracket(n, p) for p in probs]
     usable = np.isfinite(means) & np.isfinite(stds) & (stds > 0)
     spread = np.where(usable, stds, 0.0)
-    z = special.ndtri(np.asarray(probs))
+    z = np.array([pl.z for pl in plans])
     guess = np.where(usable, means, 0.0)[:, None] + spread[:, None] * z[None, :]
-    half = spread[:, None] * np.array([pl[4] for pl in plans])[None, :]
+    half = spread[:, None] * np.array([pl.half for pl in plans])[None, :]
     lo_edge = np.full((rows, BRACKETS), np.inf)  # padding brackets [+inf, +inf] hold nothing
     hi_edge = np.full((rows, BRACKETS), np.inf)
     lo_edge[:, : len(probs)] = guess - half
@@ -340,7 +355,7 @@ def _stream_rows(
     # Expected values inside a bracket for a normal output: 2 × half-width × density
     # = 2 × 1.5 × (rank span + 8). Each thread's buffer holds twice its share plus slack; a row
     # whose bracket needs more is recomputed whole.
-    expected = max(2 * _WIDTH_FACTOR * (pl[0][-1] - pl[0][0] + 8) for pl in plans)
+    expected = max(2 * _WIDTH_FACTOR * (pl.span + 8) for pl in plans)
     cap = int(2 * expected / threads) + 64
     values = np.empty((threads, rows, BRACKETS, cap))
     filled = np.zeros((threads, rows, BRACKETS), dtype=np.int64)
@@ -353,11 +368,8 @@ def _stream_rows(
     coef8[:, :k] = left
 
     def scan_chunks(t: int) -> None:
-        mine = chunks[t::threads]
-        if not mine:
-            return
         run = None
-        for a in mine:
+        for a in chunks[t::threads]:  # threads ≤ chunks, so every thread has one
             b = min(a + _CHUNK_TRIALS, n)
             if run is None or b - a < _CHUNK_TRIALS:  # buffers, and for the short last chunk
                 m = b - a
@@ -393,22 +405,22 @@ def _stream_rows(
     ok = usable.copy()
     q = np.empty((rows, len(probs)))
     e = np.empty((rows, len(probs)))
-    for j, (rk, lo, frac, d, _) in enumerate(plans):
+    for j, plan in enumerate(plans):
         width = int(min(totals[:, j].max(initial=0), threads * cap))
         kept = np.empty((rows, max(width, 1)))
         count = np.empty(rows, dtype=np.int64)
         gather(values, filled, j, kept, count)
         kept.sort(axis=1)
-        local = np.asarray(rk)[None, :] - total_below[:, j, None]
+        local = np.asarray(plan.ranks)[None, :] - total_below[:, j, None]
         ok &= (count >= 0) & (local[:, 0] >= 0) & (local[:, -1] < count)
         at = np.take_along_axis(kept, np.clip(local, 0, kept.shape[1] - 1), axis=1)
         with np.errstate(invalid="ignore"):  # rows that are not ok hold inf; recomputed below
-            q[:, j], e[:, j] = _quantile(dict(zip(rk, at.T, strict=True)), n, lo, frac, d)
-    for r in np.flatnonzero(~ok):
-        row = coef[r] @ x
-        row += nominal[r]
-        q_r, e_r, c[r] = _one_row(row, float(means[r]), float(stds[r]), probs, float(thresholds[r]))
-        q[r], e[r] = q_r, e_r
+            q[:, j], e[:, j] = _quantile(dict(zip(plan.ranks, at.T, strict=True)), n, plan)
+    redo = np.flatnonzero(~ok)
+    if redo.size:
+        q[redo], e[redo], c[redo] = _blocked_rows(
+            coef[redo], nominal[redo], x, means[redo], stds[redo], probs, thresholds[redo]
+        )
     return q, e, c
 
 
