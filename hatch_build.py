@@ -1,11 +1,12 @@
-"""Build hook: compile feasibly's C kernels (``src/feasibly/_scan.c``) into the wheel.
+"""Build hook: compile feasibly's C kernels (``src/feasibly/uncertainty/_scan.c``) into the wheel.
 
 hatchling runs this when it builds a wheel (``[tool.hatch.build.targets.wheel.hooks.custom]`` in
 pyproject.toml). ``python hatch_build.py`` compiles the same library into the source tree, for
 running the tests against ``src/`` (``bin/build-kernel`` does that).
 
 Without a C compiler the wheel is built without the library and feasibly's summaries select with
-numpy instead: the same numbers, a few times slower (``feasibly._scan.compiled()`` says which).
+numpy instead: the same numbers, a few times slower (``feasibly.uncertainty._scan.compiled()``
+says which).
 """
 
 from __future__ import annotations
@@ -18,9 +19,9 @@ import sysconfig
 from pathlib import Path
 
 HERE = Path(__file__).parent
-SOURCE = HERE / "src" / "feasibly" / "_scan.c"
+SOURCE = HERE / "src" / "feasibly" / "uncertainty" / "_scan.c"
 # In a folder that is not a package, so module scanners never take it for an extension module.
-LIBRARY = "_lib/libfeasibly_scan.so"
+LIBRARY = "uncertainty/_lib/libfeasibly_scan.so"
 # -ffp-contract=off: no fused multiply-add, so the C kernel and the numpy kernel agree to the bit
 # (the tests compare them). No -ffast-math: comparisons with ±inf and NaN must keep IEEE meaning.
 FLAGS = ["-O3", "-std=c11", "-fPIC", "-shared", "-ffp-contract=off", "-Wall", "-Werror"]

@@ -22,10 +22,10 @@ import timeit
 import numpy as np
 
 import feasibly
-from feasibly import _scan
-from feasibly.confidence import assess_uncertainty
-from feasibly.propagation import linear_model, summarise
-from feasibly.uncertainty import build_inputs, draw_samples
+from feasibly.uncertainty import _scan
+from feasibly.uncertainty.assessment import assess_uncertainty
+from feasibly.uncertainty.inputs import build_inputs, draw_samples
+from feasibly.uncertainty.linear import linear_model, summarise
 
 EQUATION = "2 CH4(g) + O2(g) + CO2(g) -> 3 CO(g) + 3 H2(g) + H2O(g)"
 PROBS = (0.025, 0.5, 0.975)

@@ -22,7 +22,7 @@ from feasibly import (
     crossover_temperatures,
     standard_properties,
 )
-from feasibly.thermo_functions import R
+from feasibly.library.cp_models import R
 
 SHIFT = "CO + H2O -> CO2 + H2"
 CRACK = "C2H6 -> C2H4 + H2"

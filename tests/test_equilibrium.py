@@ -17,17 +17,17 @@ import pytest
 from scipy import special
 
 import feasibly
-from feasibly.cli import main
-from feasibly.equilibrium import (
-    EquilibriumNotConverged,
+from feasibly.cli.main import main
+from feasibly.equilibrium.conversion import (
     conversion_assessment,
     conversion_bands,
     conversion_window,
     equilibrate,
     equilibrium_extent,
 )
-from feasibly.propagation import gum_uncertainty, linear_model, uncertain_species
-from feasibly.uncertainty import build_inputs, draw_samples
+from feasibly.errors import EquilibriumNotConverged
+from feasibly.uncertainty.inputs import build_inputs, draw_samples
+from feasibly.uncertainty.linear import gum_uncertainty, linear_model, uncertain_species
 
 R = 8.314462618  # CODATA 2018 exact molar gas constant (from memory of the SI definition)
 LIB = feasibly.default_library()

@@ -7,7 +7,7 @@ from hypothesis import given
 from hypothesis import strategies as st
 
 from feasibly import ReactionSyntaxError, parse_formula, pretty_formula
-from feasibly.formula import element_table
+from feasibly.library.formula import element_table
 
 
 @pytest.mark.parametrize(

@@ -11,7 +11,7 @@ import pytest
 
 import feasibly
 from feasibly import DataFileError, Library, UnknownSpecies
-from feasibly.library import canonical_hash, standard_uncertainty
+from feasibly.library.catalogue import canonical_hash, standard_uncertainty
 
 EXAMPLE = Path(__file__).resolve().parents[1] / "data" / "examples" / "my-species.toml"
 

@@ -22,7 +22,7 @@ from feasibly import (
     UnbalancedReaction,
     UnknownSpecies,
 )
-from feasibly.reaction import parse_equation
+from feasibly.thermo.reaction import parse_equation
 
 
 def coefs(rxn: Reaction) -> dict[str, Fraction]:

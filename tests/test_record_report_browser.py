@@ -12,8 +12,8 @@ from typing import Any
 
 import pytest
 
-from feasibly.records import make_record, write_record
-from feasibly.uncertainty import parse_override
+from feasibly.records.document import make_record, write_record
+from feasibly.uncertainty.inputs import parse_override
 
 HAVE_PLAYWRIGHT = importlib.util.find_spec("playwright") is not None
 ARTIFACTS = Path(__file__).resolve().parents[1] / "test-artifacts"

@@ -17,11 +17,10 @@ import jsonschema
 import pytest
 
 import feasibly
-from feasibly.cli import main
-from feasibly.errors import FeasiblyError
-from feasibly.formula import data_text
-from feasibly.records import (
-    RecordError,
+from feasibly._files import data_text
+from feasibly.cli.main import main
+from feasibly.errors import FeasiblyError, RecordError
+from feasibly.records.document import (
     load_record,
     make_record,
     record_from,
@@ -32,7 +31,7 @@ from feasibly.records import (
     verify_record,
     write_record,
 )
-from feasibly.uncertainty import parse_override
+from feasibly.uncertainty.inputs import parse_override
 
 EXAMPLE_SPECIES = Path(__file__).resolve().parents[1] / "data" / "examples" / "my-species.toml"
 SCHEMA = json.loads(data_text("record-schema.json"))
@@ -59,7 +58,7 @@ def record() -> dict[str, Any]:
 
 def _resealed(doc: dict[str, Any]) -> dict[str, Any]:
     """The record re-hashed after an edit (a careful forger's version)."""
-    from feasibly.records import _seal
+    from feasibly.records.document import _seal
 
     doc = copy.deepcopy(doc)
     doc.pop("integrity")
@@ -104,7 +103,7 @@ def test_record_holds_what_a_reviewer_needs(record: dict[str, Any]) -> None:
 
 def test_results_are_the_kernels_own(record: dict[str, Any]) -> None:
     """Outside check: the kernel run directly with the same inputs gives the recorded numbers."""
-    from feasibly.confidence import assess_uncertainty
+    from feasibly.uncertainty.assessment import assess_uncertainty
 
     u = assess_uncertainty(
         "Fe3O4 + H2 -> Fe + H2O",
@@ -186,7 +185,7 @@ def test_user_species_travel_with_the_record(tmp_path: Path) -> None:
 
 
 def test_a_run_without_seed_is_refused() -> None:
-    from feasibly.confidence import assess_uncertainty
+    from feasibly.uncertainty.assessment import assess_uncertainty
 
     a = feasibly.assess("MgCO3 -> MgO + CO2", T="800 K")
     u = assess_uncertainty("MgCO3 -> MgO + CO2", T="800 K", samples=1024)
@@ -451,7 +450,7 @@ def test_record_error_is_a_feasibly_error() -> None:
 
 def test_required_conversion_travels_and_verifies(tmp_path: Path) -> None:
     # The conversion criterion is recomputed from the record's own inputs by verify.
-    from feasibly.cli import main
+    from feasibly.cli.main import main
 
     path = tmp_path / "reformer.json"
     argv = [

@@ -11,9 +11,10 @@ import numpy as np
 import pytest
 
 import feasibly
-from feasibly import _scan, _selection
-from feasibly.propagation import linear_model, summarise
-from feasibly.uncertainty import build_inputs, draw_samples
+from feasibly.uncertainty import _quantiles as _selection
+from feasibly.uncertainty import _scan
+from feasibly.uncertainty.inputs import build_inputs, draw_samples
+from feasibly.uncertainty.linear import linear_model, summarise
 
 PROBS = (0.025, 0.5, 0.975)
 compiled = pytest.mark.skipif(

@@ -18,22 +18,22 @@ from scipy.optimize import brentq
 
 import feasibly
 from feasibly import InvalidUncertainty
-from feasibly.confidence import assess_route, assess_uncertainty, verdict
-from feasibly.propagation import (
-    LinearModel,
-    first_order_indices,
-    linear_model,
-    numerical_tolerance,
-    shortest_interval,
-    summarise,
-)
-from feasibly.uncertainty import (
+from feasibly.uncertainty.assessment import assess_route, assess_uncertainty, verdict
+from feasibly.uncertainty.inputs import (
     Override,
     UncertainInput,
     build_inputs,
     correlation_matrix,
     draw_samples,
     parse_override,
+)
+from feasibly.uncertainty.linear import (
+    LinearModel,
+    first_order_indices,
+    linear_model,
+    numerical_tolerance,
+    shortest_interval,
+    summarise,
 )
 
 
@@ -287,7 +287,7 @@ def test_quantiles_are_numpys() -> None:
 def test_bracket_selection_is_exact(shape: str) -> None:
     # Against numpy.quantile on the very same rows: identical numbers, including far-from-normal
     # rows where the bracket guess fails and the fallback runs.
-    from feasibly._selection import row_statistics
+    from feasibly.uncertainty._quantiles import row_statistics
 
     rng = np.random.default_rng(25)
     n = 50_001
@@ -351,9 +351,7 @@ def test_required_K_threshold() -> None:
     a = assess_uncertainty(
         "MgCO3 -> MgO + CO2", T="800 K", samples=20_000, seed=23, required_K=10.0
     )
-    assert a.threshold_J_per_mol[0] == pytest.approx(
-        -feasibly.thermo_functions.R * 800 * math.log(10.0)
-    )
+    assert a.threshold_J_per_mol[0] == pytest.approx(-feasibly.library.R * 800 * math.log(10.0))
     b = assess_uncertainty("MgCO3 -> MgO + CO2", T="800 K", samples=20_000, seed=23)
     assert a.p_feasible[0] < b.p_feasible[0]
 

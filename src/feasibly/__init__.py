@@ -9,7 +9,7 @@ The kernel (this package's top level) holds one job per module:
 - :mod:`feasibly.reaction` — equations: parse, check and find the balance, choose phases;
 - :mod:`feasibly.assessment` — Δr quantities, K, crossover temperatures, non-standard ΔrG;
 - :mod:`feasibly.uncertainty` — uncertain inputs, overrides, correlations, reproducible draws;
-- :mod:`feasibly.propagation` — linear rows, Monte Carlo summaries, GUM result, sensitivity;
+- :mod:`feasibly.uncertainty.linear` — linear rows, Monte Carlo summaries, GUM result, sensitivity;
 - :mod:`feasibly.confidence` — the call: probability, verdict, window, routes;
 - :mod:`feasibly.equilibrium` — equilibrium extent and conversion, Gibbs minimisation, bands;
 - :mod:`feasibly.records` — reproducible decision records (JSON, HTML, Markdown) and verification;
@@ -25,18 +25,9 @@ call the kernel and the figure builders.
 """
 
 from .__about__ import __version__
-from .assessment import (
-    Assessment,
-    StandardProperties,
-    assess,
-    crossover_temperatures,
-    standard_properties,
-)
-from .confidence import Route, UncertainAssessment, assess_route, assess_uncertainty
-from .equilibrium import (
+from .equilibrium.conversion import (
     ConversionBands,
     Equilibrium,
-    EquilibriumNotConverged,
     ExtentEquilibrium,
     conversion_assessment,
     conversion_bands,
@@ -46,20 +37,21 @@ from .equilibrium import (
 from .errors import (
     AmbiguousBalance,
     DataFileError,
+    EquilibriumNotConverged,
     FeasiblyError,
     InvalidTemperature,
     InvalidUncertainty,
     OutsideDataRange,
     ReactionSyntaxError,
+    RecordError,
     UnbalancedReaction,
     UnitError,
     UnknownSpecies,
 )
-from .formula import parse_formula, pretty_formula
-from .library import Library, default_library, standard_uncertainty
-from .reaction import Reaction
-from .records import (
-    RecordError,
+from .library.catalogue import Library, default_library, standard_uncertainty
+from .library.formula import parse_formula, pretty_formula
+from .library.species import Species
+from .records.document import (
     VerifyResult,
     load_record,
     make_record,
@@ -67,9 +59,17 @@ from .records import (
     verify_record,
     write_record,
 )
-from .safety import Caution
-from .species import Species
-from .uncertainty import Override, parse_override
+from .thermo.assessment import (
+    Assessment,
+    StandardProperties,
+    assess,
+    crossover_temperatures,
+    standard_properties,
+)
+from .thermo.reaction import Reaction
+from .thermo.safety import Caution
+from .uncertainty.assessment import Route, UncertainAssessment, assess_route, assess_uncertainty
+from .uncertainty.inputs import Override, parse_override
 from .units import Q_, ureg
 
 __all__ = [

@@ -12,11 +12,13 @@ from collections.abc import Sequence
 __all__ = [
     "AmbiguousBalance",
     "DataFileError",
+    "EquilibriumNotConverged",
     "FeasiblyError",
     "InvalidTemperature",
     "InvalidUncertainty",
     "OutsideDataRange",
     "ReactionSyntaxError",
+    "RecordError",
     "UnbalancedReaction",
     "UnitError",
     "UnknownSpecies",
@@ -136,6 +138,32 @@ class DataFileError(FeasiblyError, ValueError):
         if len(self.problems) > len(shown):
             msg += f"\n  … and {len(self.problems) - len(shown)} more"
         super().__init__(msg)
+
+
+class RecordError(FeasiblyError, ValueError):
+    """A decision record that cannot be used; ``problems`` lists each as ``field X: problem``."""
+
+    def __init__(self, where: str, problems: Sequence[str]) -> None:
+        self.where = where
+        self.problems = list(problems)
+        shown = self.problems[:30]
+        msg = f"{where}: {len(self.problems)} problem(s) with the decision record:\n  " + (
+            "\n  ".join(shown)
+        )
+        if len(self.problems) > len(shown):
+            msg += f"\n  … and {len(self.problems) - len(shown)} more"
+        super().__init__(msg)
+
+
+class EquilibriumNotConverged(FeasiblyError, RuntimeError):
+    """The equilibrium iteration did not converge for some states; no number is reported."""
+
+    def __init__(self, what: str, states: Sequence[str], hint: str) -> None:
+        self.what = what
+        self.states = list(states)
+        shown = "; ".join(self.states[:3])
+        more = f" (and {len(self.states) - 3} more)" if len(self.states) > 3 else ""
+        super().__init__(f"{what} did not converge at {shown}{more}. {hint}")
 
 
 def _fmt(x: float) -> str:

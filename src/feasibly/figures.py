@@ -3,7 +3,7 @@
 Two steps keep the browser light and the widgets fast:
 
 - :func:`curves` reads what does not depend on the selected temperature from an
-  :class:`~feasibly.confidence.UncertainAssessment` (ΔrG bands over the grid, P(feasible), the
+  :class:`~feasibly.uncertainty.UncertainAssessment` (ΔrG bands over the grid, P(feasible), the
   crossover-temperature distribution), once per result;
 - :func:`snapshot` reads one temperature from the kept draws (no re-sampling): the summary, a
   histogram of ΔrG and the ranked variance shares;
@@ -23,9 +23,9 @@ from typing import Any
 import numpy as np
 
 from ._palette import OKABE_ITO
-from .confidence import UncertainAssessment
-from .propagation import summarise
-from .safety import DEFERRAL, cautions_for
+from .thermo.safety import DEFERRAL, cautions_for
+from .uncertainty.assessment import UncertainAssessment
+from .uncertainty.linear import summarise
 from .units import Q_
 
 __all__ = [

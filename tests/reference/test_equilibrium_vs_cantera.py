@@ -20,7 +20,7 @@ import numpy as np
 import pytest
 
 import feasibly
-from feasibly.equilibrium import equilibrate
+from feasibly.equilibrium.conversion import equilibrate
 
 ct = pytest.importorskip("cantera")
 

@@ -9,11 +9,11 @@ import ipywidgets as w
 import numpy as np
 from traitlets import Dict, Unicode
 
-from ..equilibrium import conversion_assessment
+from ..equilibrium.conversion import conversion_assessment
 from ..errors import FeasiblyError
-from ..library import Library
-from ..propagation import window_phrase
-from ..reaction import Reaction
+from ..library.catalogue import Library
+from ..thermo.reaction import Reaction
+from ..uncertainty.linear import window_phrase
 from ._common import error_html, note_html
 
 __all__ = ["ConversionTarget"]

@@ -11,8 +11,8 @@ import ipywidgets as w
 from traitlets import Enum, Float, Instance, Int, Unicode
 
 from .. import figures
-from ..confidence import UncertainAssessment
 from ..errors import FeasiblyError
+from ..uncertainty.assessment import UncertainAssessment
 from ._common import TEMPERATURE_UNITS, error_html, fmt_T, note_html
 
 __all__ = ["FeasibilityPanel", "in_words", "percent"]
@@ -54,7 +54,7 @@ def in_words(verdict: str, p: float, confidence: float, trials: int, T: str, g: 
 
 
 class FeasibilityPanel(w.VBox):
-    """Figures and the verdict for one :class:`~feasibly.confidence.UncertainAssessment`.
+    """Figures and the verdict for one :class:`~feasibly.uncertainty.UncertainAssessment`.
 
     Traits: ``result`` (kept in the kernel, never synced), ``temperature`` (selected, K),
     ``temperature_unit``, and the outputs ``verdict`` ("feasible", "not feasible", "too close to

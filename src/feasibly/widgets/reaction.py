@@ -11,9 +11,9 @@ import ipywidgets as w
 from traitlets import Bool, Enum, List, Unicode
 
 from ..errors import FeasiblyError, UnbalancedReaction, UnknownSpecies
-from ..formula import parse_formula
-from ..library import Library, default_library
-from ..reaction import Reaction, parse_equation
+from ..library.catalogue import Library, default_library
+from ..library.formula import parse_formula
+from ..thermo.reaction import Reaction, parse_equation
 from ._common import error_html
 from .species import SpeciesPicker
 

@@ -9,10 +9,10 @@ from typing import Any
 import ipywidgets as w
 from traitlets import Bool, List, Unicode
 
-from ..assessment import assess
-from ..confidence import UncertainAssessment
 from ..errors import FeasiblyError
-from ..records import record_from, write_record
+from ..records.document import record_from, write_record
+from ..thermo.assessment import assess
+from ..uncertainty.assessment import UncertainAssessment
 from ._common import error_html, note_html
 
 __all__ = ["RecordExport"]

@@ -9,8 +9,8 @@ import ipywidgets as w
 from traitlets import Bool, Int, List, Unicode
 
 from ..errors import FeasiblyError
-from ..library import Library, default_library
-from ..species import PHASES, Species
+from ..library.catalogue import Library, default_library
+from ..library.species import PHASES, Species
 from ._common import error_html
 
 __all__ = ["SpeciesPicker", "describe"]

@@ -9,9 +9,9 @@ import ipywidgets as w
 from traitlets import Enum, Float, Unicode
 
 from ..errors import FeasiblyError, InvalidUncertainty
-from ..library import Library, default_library
-from ..species import PHASES
-from ..uncertainty import Override, build_inputs
+from ..library.catalogue import Library, default_library
+from ..library.species import PHASES
+from ..uncertainty.inputs import Override, build_inputs
 from ._common import error_html, note_html
 
 __all__ = ["SpeciesEstimate", "UncertaintyInput"]

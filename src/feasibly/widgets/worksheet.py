@@ -8,10 +8,10 @@ import ipywidgets as w
 import numpy as np
 from traitlets import Float, Instance, Int, List, Tuple, Unicode
 
-from ..confidence import assess_uncertainty
 from ..errors import FeasiblyError
-from ..library import Library, default_library
-from ..reaction import Reaction
+from ..library.catalogue import Library, default_library
+from ..thermo.reaction import Reaction
+from ..uncertainty.assessment import assess_uncertainty
 from ..units import to_kelvin
 from ._common import error_html, note_html
 from .conditions import Conditions
@@ -115,7 +115,7 @@ class FeasibilityWorksheet(w.VBox):
 
     @property
     def result(self) -> Any:
-        """The :class:`~feasibly.confidence.UncertainAssessment` on screen (last good)."""
+        """The :class:`~feasibly.uncertainty.UncertainAssessment` on screen (last good)."""
         return self.panel.result
 
     def _set_gases(self) -> None:

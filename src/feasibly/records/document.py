@@ -9,7 +9,8 @@ platform versions, who made and reviewed the call and why, and the results: per-
 summary, verdict, feasible window, sensitivity ranking and the cautions shown.
 
 - :func:`make_record` runs the calculation and records it; :func:`record_from` records an
-  :class:`~feasibly.Assessment` (and :class:`~feasibly.confidence.UncertainAssessment`) already run.
+  :class:`~feasibly.Assessment` (and :class:`~feasibly.uncertainty.UncertainAssessment`) already
+  run.
 - :func:`write_record` writes the JSON (and an HTML report and Markdown) atomically and never
   replaces an existing file unless asked; :func:`load_record` reads and validates one.
 - :func:`verify_record` recomputes the call from the record's inputs and says whether every result
@@ -40,8 +41,16 @@ from typing import Any
 
 import numpy as np
 
-from . import __about__
-from ._record_build import (
+from .. import __about__
+from ..errors import RecordError, UnbalancedReaction
+from ..library.catalogue import Library
+from ..library.cp_models import R
+from ..thermo.assessment import Assessment, assess
+from ..thermo.reaction import Reaction
+from ..uncertainty.assessment import _ADAPTIVE_MAX_TRIALS, UncertainAssessment, assess_uncertainty
+from ..uncertainty.inputs import InputKey, Method, Override
+from ._schema import schema_problems
+from .build import (
     correlations,
     environment,
     plain,
@@ -49,20 +58,11 @@ from ._record_build import (
     species_section,
     temperature_section,
 )
-from ._record_schema import schema_problems
-from .assessment import Assessment, assess
-from .confidence import _ADAPTIVE_MAX_TRIALS, UncertainAssessment, assess_uncertainty
-from .errors import FeasiblyError, UnbalancedReaction
-from .library import Library
-from .reaction import Reaction
-from .thermo_functions import R
-from .uncertainty import InputKey, Method, Override
 
 __all__ = [
     "SCHEMA_MARK",
     "SCHEMA_VERSION",
     "Difference",
-    "RecordError",
     "VerifyResult",
     "load_record",
     "make_record",
@@ -94,21 +94,6 @@ _SECTIONS = (
 )
 # Sections a recomputation rebuilds and compares; the rest (who, when, where) are not results.
 _RECOMPUTED = ("reaction", "data", "species", "results")
-
-
-class RecordError(FeasiblyError, ValueError):
-    """A decision record that cannot be used; ``problems`` lists each as ``field X: problem``."""
-
-    def __init__(self, where: str, problems: Sequence[str]) -> None:
-        self.where = where
-        self.problems = list(problems)
-        shown = self.problems[:30]
-        msg = f"{where}: {len(self.problems)} problem(s) with the decision record:\n  " + (
-            "\n  ".join(shown)
-        )
-        if len(self.problems) > len(shown):
-            msg += f"\n  … and {len(self.problems) - len(shown)} more"
-        super().__init__(msg)
 
 
 # --- plain data -----------------------------------------------------------------------------------
@@ -281,7 +266,7 @@ def record_from(
         raise RecordError("record_from", problems)
     t_sens = float(a.standard.T[len(a.standard.T) // 2])
     if sensitivity_at is not None:
-        from .units import to_kelvin
+        from ..units import to_kelvin
 
         t_sens = float(np.squeeze(to_kelvin(sensitivity_at)))
     rxn = a.reaction
@@ -348,7 +333,7 @@ def make_record(
     ``adaptive`` is given) and return its decision record.
 
     Arguments are those of :func:`feasibly.assess` and
-    :func:`feasibly.confidence.assess_uncertainty`. Without a ``seed`` a fresh one is drawn and
+    :func:`feasibly.uncertainty.assess_uncertainty`. Without a ``seed`` a fresh one is drawn and
     recorded, so the run can be reproduced.
 
     >>> rec = make_record("MgCO3 -> MgO + CO2", T="800 K", samples=4096, seed=1, author="A. Chem")
@@ -556,7 +541,7 @@ def write_record(
     left alone (:class:`RecordError`) unless ``overwrite`` is true, and then none is written.
     """
     doc = validate_record(dict(record), "record to write")
-    from ._report_html import render_html, render_markdown
+    from ._report import render_html, render_markdown
 
     targets: list[tuple[Path, str]] = [
         (Path(path_json), json.dumps(doc, indent=2, ensure_ascii=False, allow_nan=False) + "\n")
@@ -581,14 +566,14 @@ def write_record(
 
 def record_html(record: Mapping[str, Any]) -> str:
     """The self-contained HTML report of a record (figures inline, no network, printable)."""
-    from ._report_html import render_html
+    from ._report import render_html
 
     return render_html(validate_record(dict(record)))
 
 
 def record_markdown(record: Mapping[str, Any]) -> str:
     """A Markdown summary of a record, for lab notebooks and merge requests."""
-    from ._report_html import render_markdown
+    from ._report import render_markdown
 
     return render_markdown(validate_record(dict(record)))
 
@@ -661,6 +646,6 @@ def verify_record(record: Mapping[str, Any] | str | Path) -> VerifyResult:
     species entries of the shipped library that differ from the library installed now, and a
     change of data library version or hash as such. Malformed records raise :class:`RecordError`.
     """
-    from ._record_verify import verify
+    from .verify import verify
 
     return verify(record)

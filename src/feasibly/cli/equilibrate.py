@@ -8,9 +8,9 @@ from typing import Any
 
 import numpy as np
 
-from .equilibrium import Equilibrium, equilibrate
-from .errors import UnitError
-from .library import Library, default_library
+from ..equilibrium.conversion import Equilibrium, equilibrate
+from ..errors import UnitError
+from ..library.catalogue import Library, default_library
 
 __all__ = ["register"]
 

@@ -12,7 +12,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .library import Library
+from ..library.catalogue import Library
 from .reaction import Reaction
 
 __all__ = ["DEFERRAL", "EXOTHERM_J_PER_G", "Caution", "cautions_for"]

@@ -14,13 +14,13 @@ from typing import Any
 import numpy as np
 from scipy.optimize import brentq
 
-from . import __about__
-from .errors import FeasiblyError, UnitError
-from .library import Library, default_library
+from .. import __about__
+from ..errors import FeasiblyError, UnitError
+from ..library.catalogue import Library, default_library
+from ..library.cp_models import T_REF, R
+from ..units import to_kelvin, to_pascal
 from .reaction import Reaction
 from .safety import DEFERRAL, Caution, cautions_for
-from .thermo_functions import T_REF, R
-from .units import to_kelvin, to_pascal
 
 __all__ = [
     "ONE_ATM_PA",

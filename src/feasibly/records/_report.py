@@ -12,9 +12,9 @@ from collections.abc import Mapping, Sequence
 from html import escape
 from typing import Any
 
+from ..thermo.safety import DEFERRAL
+from ..uncertainty.linear import window_phrase
 from ._svg import OKABE_ITO, Band, HLine, Line, chart
-from .propagation import window_phrase
-from .safety import DEFERRAL
 
 __all__ = ["render_html", "render_markdown"]
 

@@ -16,18 +16,18 @@ from typing import Any
 
 import numpy as np
 
-from .__about__ import __version__
-from ._cli_equilibrium import register as _register_equilibrium
-from ._cli_records import register as _register_records
-from .assessment import Assessment, assess
-from .confidence import UncertainAssessment, assess_uncertainty
-from .equilibrium import conversion_assessment, parse_feed
-from .errors import FeasiblyError, UnitError
-from .library import Library, default_library
-from .propagation import window_phrase
-from .records import record_from, write_record
-from .uncertainty import parse_override
-from .units import to_pascal
+from ..__about__ import __version__
+from ..equilibrium.conversion import conversion_assessment, parse_feed
+from ..errors import FeasiblyError, UnitError
+from ..library.catalogue import Library, default_library
+from ..records.document import record_from, write_record
+from ..thermo.assessment import Assessment, assess
+from ..uncertainty.assessment import UncertainAssessment, assess_uncertainty
+from ..uncertainty.inputs import parse_override
+from ..uncertainty.linear import window_phrase
+from ..units import to_pascal
+from .equilibrate import register as _register_equilibrium
+from .verify import register as _register_records
 
 __all__ = ["main"]
 

@@ -22,11 +22,25 @@ from typing import Any
 import numpy as np
 from scipy import special
 
-from ._selection import row_statistics
-from .assessment import _reaction_quotient, read_standard_pressure, read_temperatures
-from .errors import FeasiblyError, InvalidUncertainty, UnitError
-from .library import Library, default_library
-from .propagation import (
+from ..errors import FeasiblyError, InvalidUncertainty, UnitError
+from ..library.catalogue import Library, default_library
+from ..library.cp_models import R
+from ..thermo.assessment import _reaction_quotient, read_standard_pressure, read_temperatures
+from ..thermo.reaction import Reaction
+from ..units import to_energy_per_mol, to_kelvin, to_pascal
+from ._quantiles import row_statistics
+from .inputs import (
+    Correlations,
+    InputKey,
+    Method,
+    Override,
+    SampleSet,
+    build_inputs,
+    correlation_matrix,
+    draw_samples,
+    extend_samples,
+)
+from .linear import (
     LinearModel,
     Summary,
     crossings,
@@ -41,20 +55,6 @@ from .propagation import (
     uncertain_species,
     variance_shares,
 )
-from .reaction import Reaction
-from .thermo_functions import R
-from .uncertainty import (
-    Correlations,
-    InputKey,
-    Method,
-    Override,
-    SampleSet,
-    build_inputs,
-    correlation_matrix,
-    draw_samples,
-    extend_samples,
-)
-from .units import to_energy_per_mol, to_kelvin, to_pascal
 
 __all__ = [
     "VERDICTS",
@@ -147,7 +147,7 @@ class AdaptiveReport:
 class UncertainAssessment:
     """Monte Carlo feasibility of one reaction over a temperature grid, with kept draws.
 
-    Arrays are over ``T`` (K). ``G``, ``H``, ``S`` are :class:`~feasibly.propagation.Summary`
+    Arrays are over ``T`` (K). ``G``, ``H``, ``S`` are :class:`~feasibly.uncertainty.linear.Summary`
     objects of ΔrG (at the given partial pressures, if any), ΔrH°, ΔrS°; ``p_feasible`` is
     P(ΔrG < threshold) and ``verdicts`` the call at each T.
     """

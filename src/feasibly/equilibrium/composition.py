@@ -14,23 +14,28 @@ from typing import Any
 
 import numpy as np
 
-from ._eqcommon import (
+from ..errors import EquilibriumNotConverged, OutsideDataRange, UnitError, UnknownSpecies
+from ..library.catalogue import Library, default_library
+from ..library.cp_models import R
+from ..library.species import Species
+from ..thermo.reaction import Reaction, ReactionTerm, _resolve
+from ..uncertainty.inputs import (
+    Correlations,
+    Override,
+    build_inputs,
+    correlation_matrix,
+    draw_samples,
+)
+from ..uncertainty.linear import _deviation_rows, block_rows, uncertain_species
+from ._common import (
     _P_STD,
     BAND_PROBS,
-    EquilibriumNotConverged,
     _fmt_state,
     _kelvin_pascal,
     _split_label,
     parse_feed,
 )
-from ._gibbs import GibbsBatch, reduce_elements, solve_batch
-from .errors import OutsideDataRange, UnitError, UnknownSpecies
-from .library import Library, default_library
-from .propagation import _deviation_rows, block_rows, uncertain_species
-from .reaction import Reaction, ReactionTerm, _resolve
-from .species import Species
-from .thermo_functions import R
-from .uncertainty import Correlations, Override, build_inputs, correlation_matrix, draw_samples
+from ._gibbs_solver import GibbsBatch, reduce_elements, solve_batch
 
 __all__ = ["Equilibrium", "equilibrate"]
 

@@ -13,8 +13,8 @@ from typing import Any
 
 import numpy as np
 
-from .errors import OutsideDataRange
-from .thermo_functions import CpModel
+from ..errors import OutsideDataRange
+from .cp_models import CpModel
 
 __all__ = ["PHASES", "SourcedValue", "Species"]
 

@@ -18,7 +18,7 @@ from functools import reduce
 
 import numpy as np
 
-from .errors import (
+from ..errors import (
     AmbiguousBalance,
     FeasiblyError,
     OutsideDataRange,
@@ -26,9 +26,9 @@ from .errors import (
     UnbalancedReaction,
     UnknownSpecies,
 )
-from .formula import parse_formula, pretty_formula
-from .library import Library, default_library
-from .species import Species
+from ..library.catalogue import Library, default_library
+from ..library.formula import parse_formula, pretty_formula
+from ..library.species import Species
 
 __all__ = ["Reaction", "ReactionTerm", "parse_equation", "split_phase_label"]
 

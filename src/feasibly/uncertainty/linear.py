@@ -1,7 +1,7 @@
 """Propagating property-data uncertainty to ΔrG(T), K and the probability that a step is feasible.
 
 Every reaction quantity here is exactly linear in the uncertain inputs of
-:mod:`feasibly.uncertainty` (ΔfH° and S° shifts, heat-capacity factors), so each is
+:mod:`feasibly.uncertainty.inputs` (ΔfH° and S° shifts, heat-capacity factors), so each is
 ``nominal(T) + a(T) · x``: the coefficient rows ``a(T)`` come from the species' own
 increments, the draws ``x`` are shared, and the Monte Carlo ΔrG for N trials at T temperatures
 is one matrix product, evaluated in temperature blocks so that memory stays small. The same rows
@@ -22,12 +22,12 @@ from typing import Any
 import numpy as np
 from scipy import special
 
-from ._selection import block_rows, streamed_statistics
-from .errors import FeasiblyError, InvalidUncertainty
-from .reaction import Reaction
-from .species import Species
-from .thermo_functions import T_REF, R
-from .uncertainty import SampleSet
+from ..errors import FeasiblyError, InvalidUncertainty
+from ..library.cp_models import T_REF, R
+from ..library.species import Species
+from ..thermo.reaction import Reaction
+from ._quantiles import block_rows, streamed_statistics
+from .inputs import SampleSet
 
 __all__ = [
     "LinearModel",
@@ -155,7 +155,7 @@ def linear_model(
 
     Raises when the reaction uses a species-phase whose inputs the sample set does not hold.
     """
-    from .assessment import standard_properties
+    from ..thermo.assessment import standard_properties
 
     T = np.atleast_1d(np.asarray(T, dtype=float))
     std = standard_properties(rxn, T, standard_pressure)

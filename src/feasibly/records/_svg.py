@@ -12,7 +12,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from html import escape
 
-from ._palette import OKABE_ITO
+from .._palette import OKABE_ITO
 
 __all__ = ["OKABE_ITO", "Band", "HLine", "Line", "chart", "nice_ticks"]
 

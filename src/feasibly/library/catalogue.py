@@ -25,10 +25,11 @@ from typing import Any, TypeGuard
 
 import numpy as np
 
-from .errors import DataFileError, FeasiblyError, UnknownSpecies
-from .formula import data_text, element_table, parse_formula
+from .._files import data_text
+from ..errors import DataFileError, FeasiblyError, UnknownSpecies
+from .cp_models import T_REF, ConstantCp, CpModel, MaierKelleyCp, Nasa7
+from .formula import element_table, parse_formula
 from .species import PHASES, SourcedValue, Species
-from .thermo_functions import T_REF, ConstantCp, CpModel, MaierKelleyCp, Nasa7
 
 __all__ = [
     "COVERAGE_DIVISORS",
@@ -102,7 +103,7 @@ def standard_uncertainty(stated: float, convention: str) -> float:
     >>> standard_uncertainty(3.0, "k=3")
     1.0
     """
-    from .errors import InvalidUncertainty
+    from ..errors import InvalidUncertainty
 
     if (
         not isinstance(stated, (int, float))

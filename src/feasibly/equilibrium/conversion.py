@@ -24,24 +24,29 @@ from typing import Any
 
 import numpy as np
 
-from ._eqcommon import (
+from ..errors import EquilibriumNotConverged, UnitError, UnknownSpecies
+from ..library.catalogue import Library, default_library
+from ..library.cp_models import R
+from ..thermo.assessment import standard_properties
+from ..thermo.reaction import Reaction, _resolve
+from ..uncertainty.inputs import (
+    Correlations,
+    Override,
+    build_inputs,
+    correlation_matrix,
+    draw_samples,
+)
+from ..uncertainty.linear import block_rows, level_window, linear_model, uncertain_species
+from ._common import (
     _P_STD,
     BAND_PROBS,
-    EquilibriumNotConverged,
     _fmt_state,
     _kelvin_pascal,
     _split_label,
     parse_feed,
 )
-from ._extent import solve_extent
-from ._species_equilibrium import Equilibrium, equilibrate
-from .assessment import standard_properties
-from .errors import UnitError, UnknownSpecies
-from .library import Library, default_library
-from .propagation import block_rows, level_window, linear_model, uncertain_species
-from .reaction import Reaction, _resolve
-from .thermo_functions import R
-from .uncertainty import Correlations, Override, build_inputs, correlation_matrix, draw_samples
+from ._extent_solver import solve_extent
+from .composition import Equilibrium, equilibrate
 
 __all__ = [
     "BAND_PROBS",
@@ -249,7 +254,7 @@ def conversion_bands(
 ) -> ConversionBands:
     """Conversion of ``key`` over ``samples`` draws of the data: 2.5/50/97.5 % and P(≥ required).
 
-    ΔrG°(T) is sampled through the exact linear model of :mod:`feasibly.propagation` (shared
+    ΔrG°(T) is sampled through the exact linear model of :mod:`feasibly.uncertainty.linear` (shared
     draws per species-phase), and the equilibrium extent is solved for every draw at once.
     """
     library = library or default_library()

@@ -12,12 +12,12 @@ from typing import Any
 
 import numpy as np
 
-from . import __about__
-from .assessment import Assessment
-from .confidence import UncertainAssessment
-from .propagation import uncertain_species
-from .reaction import Reaction
-from .species import Species
+from .. import __about__
+from ..library.species import Species
+from ..thermo.assessment import Assessment
+from ..thermo.reaction import Reaction
+from ..uncertainty.assessment import UncertainAssessment
+from ..uncertainty.linear import uncertain_species
 
 
 def plain(x: Any) -> Any:

@@ -16,7 +16,7 @@ import re
 from functools import cache
 from typing import Any
 
-from .formula import data_text
+from .._files import data_text
 
 __all__ = ["record_schema", "schema_problems"]
 

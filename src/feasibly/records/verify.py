@@ -13,16 +13,16 @@ from collections.abc import Mapping
 from pathlib import Path
 from typing import Any
 
-from ._record_build import environment
-from .assessment import ONE_BAR_PA, assess
-from .confidence import _ADAPTIVE_MAX_TRIALS, assess_uncertainty
-from .equilibrium import conversion_assessment
-from .errors import FeasiblyError
-from .library import Library, default_library
-from .records import (
+from ..equilibrium.conversion import conversion_assessment
+from ..errors import FeasiblyError, RecordError
+from ..library.catalogue import Library, default_library
+from ..thermo.assessment import ONE_BAR_PA, assess
+from ..uncertainty.assessment import _ADAPTIVE_MAX_TRIALS, assess_uncertainty
+from ..uncertainty.inputs import InputKey, Override
+from .build import environment
+from .document import (
     _RECOMPUTED,
     Difference,
-    RecordError,
     VerifyResult,
     _changed_sections,
     load_record,
@@ -30,7 +30,6 @@ from .records import (
     record_hash,
     validate_record,
 )
-from .uncertainty import InputKey, Override
 
 
 def _same(a: Any, b: Any) -> bool:

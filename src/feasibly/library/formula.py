@@ -15,12 +15,11 @@ import json
 import re
 from dataclasses import dataclass
 from functools import cache
-from importlib import resources
-from pathlib import Path
 from types import MappingProxyType
 from typing import Any
 
-from .errors import ReactionSyntaxError
+from .._files import data_text
+from ..errors import ReactionSyntaxError
 
 __all__ = ["ParsedFormula", "element_table", "parse_formula", "pretty_formula"]
 
@@ -42,17 +41,6 @@ class ParsedFormula:
 def element_table() -> MappingProxyType[str, Any]:
     """Element symbol → {name, atomic_weight}, read once from the shipped ``elements.json``."""
     return MappingProxyType(json.loads(data_text("elements.json"))["elements"])
-
-
-def data_text(name: str) -> str:
-    """Text of a shipped data file: from the installed package, or from ``data/`` of a checkout."""
-    packaged = resources.files("feasibly").joinpath("_data", name)
-    if packaged.is_file():
-        return packaged.read_text("utf-8")
-    checkout = Path(__file__).resolve().parents[2] / "data" / name
-    if checkout.is_file():
-        return checkout.read_text("utf-8")
-    raise FileNotFoundError(f"shipped data file {name} is missing from the installation")
 
 
 _CHARGE = re.compile(r"(?:\^(?P<n1>\d*)(?P<s1>[+-])|(?P<s2>[+-])(?P<n2>\d*))$")

@@ -24,10 +24,10 @@ import numpy as np
 from scipy import special
 from scipy.stats import qmc
 
-from .errors import FeasiblyError, InvalidUncertainty, UnitError
-from .library import standard_uncertainty
-from .species import Species
-from .units import Q_, to_energy_per_mol
+from ..errors import FeasiblyError, InvalidUncertainty, UnitError
+from ..library.catalogue import standard_uncertainty
+from ..library.species import Species
+from ..units import Q_, to_energy_per_mol
 
 __all__ = [
     "QUANTITIES",

@@ -3,31 +3,20 @@
 from __future__ import annotations
 
 import re
-from collections.abc import Mapping, Sequence
+from collections.abc import Mapping
 from typing import Any
 
 import numpy as np
 
-from .errors import FeasiblyError, UnitError
-from .reaction import split_phase_label
-from .units import to_kelvin, to_pascal
+from ..errors import UnitError
+from ..thermo.reaction import split_phase_label
+from ..units import to_kelvin, to_pascal
 
-__all__ = ["BAND_PROBS", "EquilibriumNotConverged", "parse_feed"]
+__all__ = ["BAND_PROBS", "parse_feed"]
 
 #: The bands reported: the probabilistically symmetric 95 % interval and the median (JCGM 101 §7.7).
 BAND_PROBS = (0.025, 0.5, 0.975)
 _P_STD = 1e5  # the library's standard pressure, Pa (1 bar)
-
-
-class EquilibriumNotConverged(FeasiblyError, RuntimeError):
-    """The equilibrium iteration did not converge for some states; no number is reported."""
-
-    def __init__(self, what: str, states: Sequence[str], hint: str) -> None:
-        self.what = what
-        self.states = list(states)
-        shown = "; ".join(self.states[:3])
-        more = f" (and {len(self.states) - 3} more)" if len(self.states) > 3 else ""
-        super().__init__(f"{what} did not converge at {shown}{more}. {hint}")
 
 
 # --- input reading ------------------------------------------------------------------------------

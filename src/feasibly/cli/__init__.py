@@ -1,0 +1,9 @@
+"""The ``feasibly`` command: ``assess``, ``species``, ``equilibrate`` and ``verify``.
+
+Layer rule: the command line calls the kernel wings and records; it never imports figures or
+widgets.
+"""
+
+from .main import main
+
+__all__ = ["main"]

@@ -1,0 +1,43 @@
+"""Decision records: a sealed, versioned JSON document of one call, its HTML report, and
+verification that recomputes the call from the record's own inputs.
+
+- :mod:`~feasibly.records.document` — canonical form, hash, reading, validation, atomic writing;
+- :mod:`~feasibly.records.build` — a record from an assessment;
+- :mod:`~feasibly.records.verify` — recompute and compare;
+- ``_schema``, ``_report``, ``_svg`` — the published schema, the HTML/Markdown report and its
+  dependency-free charts (private).
+
+Layer rule: imports the kernel wings (thermo, uncertainty, equilibrium); never figures or widgets.
+"""
+
+from .document import (
+    SCHEMA_MARK,
+    SCHEMA_VERSION,
+    Difference,
+    VerifyResult,
+    load_record,
+    make_record,
+    record_from,
+    record_hash,
+    record_html,
+    record_markdown,
+    validate_record,
+    verify_record,
+    write_record,
+)
+
+__all__ = [
+    "SCHEMA_MARK",
+    "SCHEMA_VERSION",
+    "Difference",
+    "VerifyResult",
+    "load_record",
+    "make_record",
+    "record_from",
+    "record_hash",
+    "record_html",
+    "record_markdown",
+    "validate_record",
+    "verify_record",
+    "write_record",
+]

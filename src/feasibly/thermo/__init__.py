@@ -1,0 +1,40 @@
+"""Reactions and their standard thermodynamics: equations, Δr quantities, K, crossovers, cautions.
+
+- :mod:`~feasibly.thermo.reaction` — equations: parse, check and find the balance, choose phases;
+- :mod:`~feasibly.thermo.assessment` — Δr quantities, K, crossover temperatures, ΔrG at the
+  conditions given;
+- :mod:`~feasibly.thermo.safety` — plain-language cautions.
+
+Layer rule: imports :mod:`feasibly.library`, :mod:`feasibly.units` and
+:mod:`feasibly.conditions` below it; never uncertainty, equilibrium, records or widgets.
+"""
+
+from .assessment import (
+    ONE_ATM_PA,
+    ONE_BAR_PA,
+    Assessment,
+    StandardProperties,
+    assess,
+    crossover_temperatures,
+    standard_properties,
+)
+from .reaction import Reaction, ReactionTerm, parse_equation, split_phase_label
+from .safety import DEFERRAL, EXOTHERM_J_PER_G, Caution, cautions_for
+
+__all__ = [
+    "DEFERRAL",
+    "EXOTHERM_J_PER_G",
+    "ONE_ATM_PA",
+    "ONE_BAR_PA",
+    "Assessment",
+    "Caution",
+    "Reaction",
+    "ReactionTerm",
+    "StandardProperties",
+    "assess",
+    "cautions_for",
+    "crossover_temperatures",
+    "parse_equation",
+    "split_phase_label",
+    "standard_properties",
+]
