@@ -22,8 +22,7 @@ import timeit
 import numpy as np
 
 import feasibly
-from feasibly.uncertainty import _scan
-from feasibly.uncertainty.assessment import assess_uncertainty
+from feasibly.uncertainty import _scan, assess_uncertainty
 from feasibly.uncertainty.inputs import build_inputs, draw_samples
 from feasibly.uncertainty.linear import linear_model, summarise
 

@@ -8,7 +8,7 @@ import pytest
 pytest.importorskip("plotly", reason="figures need the widgets extra (plotly)")
 
 from feasibly import figures
-from feasibly.uncertainty.assessment import assess_uncertainty
+from feasibly.uncertainty import assess_uncertainty
 
 # 4096 trials: enough for stable bands in a test, fast to draw.
 N = 4096

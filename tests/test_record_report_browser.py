@@ -12,7 +12,7 @@ from typing import Any
 
 import pytest
 
-from feasibly.records.document import make_record, write_record
+from feasibly.records import make_record, write_record
 from feasibly.uncertainty.inputs import parse_override
 
 HAVE_PLAYWRIGHT = importlib.util.find_spec("playwright") is not None

@@ -20,7 +20,7 @@ import feasibly
 from feasibly._files import data_text
 from feasibly.cli.main import main
 from feasibly.errors import FeasiblyError, RecordError
-from feasibly.records.document import (
+from feasibly.records import (
     load_record,
     make_record,
     record_from,
@@ -103,7 +103,7 @@ def test_record_holds_what_a_reviewer_needs(record: dict[str, Any]) -> None:
 
 def test_results_are_the_kernels_own(record: dict[str, Any]) -> None:
     """Outside check: the kernel run directly with the same inputs gives the recorded numbers."""
-    from feasibly.uncertainty.assessment import assess_uncertainty
+    from feasibly.uncertainty import assess_uncertainty
 
     u = assess_uncertainty(
         "Fe3O4 + H2 -> Fe + H2O",
@@ -185,7 +185,7 @@ def test_user_species_travel_with_the_record(tmp_path: Path) -> None:
 
 
 def test_a_run_without_seed_is_refused() -> None:
-    from feasibly.uncertainty.assessment import assess_uncertainty
+    from feasibly.uncertainty import assess_uncertainty
 
     a = feasibly.assess("MgCO3 -> MgO + CO2", T="800 K")
     u = assess_uncertainty("MgCO3 -> MgO + CO2", T="800 K", samples=1024)

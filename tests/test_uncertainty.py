@@ -18,7 +18,7 @@ from scipy.optimize import brentq
 
 import feasibly
 from feasibly import InvalidUncertainty
-from feasibly.uncertainty.assessment import assess_route, assess_uncertainty, verdict
+from feasibly.uncertainty import assess_route, assess_uncertainty, verdict
 from feasibly.uncertainty.inputs import (
     Override,
     UncertainInput,

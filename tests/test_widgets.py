@@ -11,7 +11,7 @@ pytest.importorskip("anywidget", reason="plotly's FigureWidget needs anywidget")
 import traitlets
 
 from feasibly import figures
-from feasibly.uncertainty.assessment import assess_uncertainty
+from feasibly.uncertainty import assess_uncertainty
 from feasibly.widgets import (
     Conditions,
     FeasibilityPanel,
@@ -251,7 +251,7 @@ def test_repr_is_a_short_deterministic_summary(sheet):
 
 
 def test_record_export_writes_a_record_that_verifies(sheet, tmp_path):
-    from feasibly.records.document import verify_record
+    from feasibly.records import verify_record
 
     out = tmp_path / "screen.json"
     sheet.export.author = "A. Chemist"

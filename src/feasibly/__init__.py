@@ -51,7 +51,7 @@ from .errors import (
 from .library.catalogue import Library, default_library, standard_uncertainty
 from .library.formula import parse_formula, pretty_formula
 from .library.species import Species
-from .records.document import (
+from .records import (
     VerifyResult,
     load_record,
     make_record,
@@ -68,7 +68,7 @@ from .thermo.assessment import (
 )
 from .thermo.reaction import Reaction
 from .thermo.safety import Caution
-from .uncertainty.assessment import Route, UncertainAssessment, assess_route, assess_uncertainty
+from .uncertainty import Route, UncertainAssessment, assess_route, assess_uncertainty
 from .uncertainty.inputs import Override, parse_override
 from .units import Q_, ureg
 

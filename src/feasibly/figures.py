@@ -24,7 +24,7 @@ import numpy as np
 
 from ._palette import OKABE_ITO
 from .thermo.safety import DEFERRAL, cautions_for
-from .uncertainty.assessment import UncertainAssessment
+from .uncertainty import UncertainAssessment
 from .uncertainty.linear import summarise
 from .units import Q_
 

@@ -20,9 +20,9 @@ from ..__about__ import __version__
 from ..equilibrium.conversion import conversion_assessment, parse_feed
 from ..errors import FeasiblyError, UnitError
 from ..library.catalogue import Library, default_library
-from ..records.document import record_from, write_record
+from ..records import record_from, write_record
 from ..thermo.assessment import Assessment, assess
-from ..uncertainty.assessment import UncertainAssessment, assess_uncertainty
+from ..uncertainty import UncertainAssessment, assess_uncertainty
 from ..uncertainty.inputs import parse_override
 from ..uncertainty.linear import window_phrase
 from ..units import to_pascal

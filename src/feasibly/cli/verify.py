@@ -18,7 +18,7 @@ EXIT_DIFFERS = 1
 
 
 def _cmd_verify(args: argparse.Namespace) -> int:
-    from ..records.document import verify_record
+    from ..records import verify_record
 
     result = verify_record(args.record)
     if args.json:

@@ -10,21 +10,18 @@ verification that recomputes the call from the record's own inputs.
 Layer rule: imports the kernel wings (thermo, uncertainty, equilibrium); never figures or widgets.
 """
 
+from .build import make_record, record_from
 from .document import (
     SCHEMA_MARK,
     SCHEMA_VERSION,
-    Difference,
-    VerifyResult,
     load_record,
-    make_record,
-    record_from,
     record_hash,
     record_html,
     record_markdown,
     validate_record,
-    verify_record,
     write_record,
 )
+from .verify import Difference, VerifyResult, verify_record
 
 __all__ = [
     "SCHEMA_MARK",

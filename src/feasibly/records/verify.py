@@ -1,4 +1,4 @@
-"""Private part of :mod:`feasibly.records`: recompute a record and compare it exactly.
+"""Verify a decision record: recompute it and compare every result exactly.
 
 The record's inputs alone (equation, balance flag, conditions, sampling settings and seed,
 overrides with their reasons, correlations, and the user species entries it carries) are fed to
@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import json
 from collections.abc import Mapping
+from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
@@ -17,19 +18,12 @@ from ..equilibrium.conversion import conversion_assessment
 from ..errors import FeasiblyError, RecordError
 from ..library.catalogue import Library, default_library
 from ..thermo.assessment import ONE_BAR_PA, assess
-from ..uncertainty.assessment import _ADAPTIVE_MAX_TRIALS, assess_uncertainty
+from ..uncertainty import ADAPTIVE_MAX_TRIALS, assess_uncertainty
 from ..uncertainty.inputs import InputKey, Override
-from .build import environment
-from .document import (
-    _RECOMPUTED,
-    Difference,
-    VerifyResult,
-    _changed_sections,
-    load_record,
-    record_from,
-    record_hash,
-    validate_record,
-)
+from .build import environment, record_from
+from .document import _RECOMPUTED, _changed_sections, load_record, record_hash, validate_record
+
+__all__ = ["Difference", "VerifyResult", "verify_record"]
 
 
 def _same(a: Any, b: Any) -> bool:
@@ -146,7 +140,7 @@ def _rerun(doc: Mapping[str, Any]) -> dict[str, Any]:
         for c in unc["correlations"]
     }
     adaptive = unc["adaptive"]
-    max_trials = adaptive["max_trials"] if adaptive else _ADAPTIVE_MAX_TRIALS
+    max_trials = adaptive["max_trials"] if adaptive else ADAPTIVE_MAX_TRIALS
     u = assess_uncertainty(
         a.reaction,
         T=T,
@@ -178,7 +172,7 @@ def _rerun(doc: Mapping[str, Any]) -> dict[str, Any]:
     )
 
 
-def verify(record: Mapping[str, Any] | str | Path) -> VerifyResult:
+def verify_record(record: Mapping[str, Any] | str | Path) -> VerifyResult:
     """Recompute a record (a dict, or the path of its JSON) and compare every result exactly.
 
     Reports an edit after export (content hash), each result that differs (recorded and now),
@@ -236,3 +230,64 @@ def verify(record: Mapping[str, Any] | str | Path) -> VerifyResult:
         kind = "data" if section in ("data", "species") else "result"
         _diff(doc[section], fresh[section], section, result.differences, kind)
     return result
+
+
+# --- verifying ------------------------------------------------------------------------------------
+@dataclass(frozen=True)
+class Difference:
+    """One place where the record and the recomputation (or the data now) disagree."""
+
+    field: str
+    recorded: Any
+    now: Any
+    kind: str = "result"  # result | integrity | data | recompute
+
+    def __str__(self) -> str:
+        if self.kind in ("integrity", "recompute"):
+            return f"{self.field}: {self.now}"
+        return f"{self.field}: recorded {_short(self.recorded)}, now {_short(self.now)}"
+
+
+def _short(x: Any) -> str:
+    text = json.dumps(x, ensure_ascii=False)
+    return text if len(text) <= 80 else text[:77] + "…"
+
+
+@dataclass
+class VerifyResult:
+    """What :func:`verify_record` found. ``identical`` is true only when nothing differs."""
+
+    differences: list[Difference] = field(default_factory=list)
+    notes: list[str] = field(default_factory=list)
+
+    @property
+    def identical(self) -> bool:
+        return not self.differences
+
+    @property
+    def tampered(self) -> bool:
+        """True when the content hash shows an edit after export."""
+        return any(d.kind == "integrity" for d in self.differences)
+
+    def summary(self, limit: int = 25) -> str:
+        """Plain words for a person: identical, or each difference (first ``limit``)."""
+        if self.identical:
+            lines = ["identical: recomputing the record gives every result bit for bit."]
+        else:
+            lines = [f"DIFFERS: {len(self.differences)} difference(s)."]
+            lines += [f"  - {d}" for d in self.differences[:limit]]
+            if len(self.differences) > limit:
+                lines.append(f"  … and {len(self.differences) - limit} more")
+        lines += [f"note: {n}" for n in self.notes]
+        return "\n".join(lines)
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "identical": self.identical,
+            "tampered": self.tampered,
+            "differences": [
+                {"field": d.field, "kind": d.kind, "recorded": d.recorded, "now": d.now}
+                for d in self.differences
+            ],
+            "notes": list(self.notes),
+        }

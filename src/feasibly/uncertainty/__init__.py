@@ -4,7 +4,9 @@
   draws;
 - :mod:`~feasibly.uncertainty.linear` — linear rows, Monte Carlo summaries, GUM result,
   sensitivity, windows;
-- :mod:`~feasibly.uncertainty.assessment` — the call: probability, verdict, window, routes;
+- :mod:`~feasibly.uncertainty.assessment` — the call: probability, verdict, window, sensitivity;
+- :mod:`~feasibly.uncertainty.adaptive` — adaptive trial counts (JCGM 101 §7.9);
+- :mod:`~feasibly.uncertainty.route` — several steps over one shared set of draws;
 - ``_quantiles`` and ``_scan`` (+ ``_scan.c``) — the streamed order statistics behind the
   summaries (private).
 
@@ -12,14 +14,8 @@ Layer rule: imports :mod:`feasibly.thermo` and the levels below it; never equili
 figures or widgets.
 """
 
-from .assessment import (
-    VERDICTS,
-    Route,
-    UncertainAssessment,
-    assess_route,
-    assess_uncertainty,
-    verdict,
-)
+from .adaptive import ADAPTIVE_MAX_TRIALS, AdaptiveReport
+from .assessment import VERDICTS, UncertainAssessment, assess_uncertainty, verdict
 from .inputs import (
     QUANTITIES,
     Correlations,
@@ -42,10 +38,13 @@ from .linear import (
     summarise,
     window_phrase,
 )
+from .route import Route, assess_route
 
 __all__ = [
+    "ADAPTIVE_MAX_TRIALS",
     "QUANTITIES",
     "VERDICTS",
+    "AdaptiveReport",
     "Correlations",
     "InputKey",
     "LinearModel",

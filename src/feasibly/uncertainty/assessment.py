@@ -13,22 +13,27 @@ from __future__ import annotations
 
 import functools
 import math
-import sys
-import time
 from collections.abc import Callable, Mapping, Sequence
-from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
 from scipy import special
 
-from ..errors import FeasiblyError, InvalidUncertainty, UnitError
+from ..errors import InvalidUncertainty, UnitError
 from ..library.catalogue import Library, default_library
 from ..library.cp_models import R
 from ..thermo.assessment import _reaction_quotient, read_standard_pressure, read_temperatures
 from ..thermo.reaction import Reaction
 from ..units import to_energy_per_mol, to_kelvin, to_pascal
 from ._quantiles import row_statistics
+from .adaptive import (
+    _ADAPTIVE_DIGITS,
+    _PROGRESS_WORK,
+    ADAPTIVE_MAX_TRIALS,
+    AdaptiveReport,
+    _adaptive,
+    _Progress,
+)
 from .inputs import (
     Correlations,
     InputKey,
@@ -38,7 +43,6 @@ from .inputs import (
     build_inputs,
     correlation_matrix,
     draw_samples,
-    extend_samples,
 )
 from .linear import (
     LinearModel,
@@ -49,7 +53,6 @@ from .linear import (
     level_window,
     linear_model,
     numerical_tolerance,
-    route_probability,
     shortest_interval,
     summarise,
     uncertain_species,
@@ -58,23 +61,13 @@ from .linear import (
 
 __all__ = [
     "VERDICTS",
-    "Route",
     "UncertainAssessment",
-    "assess_route",
     "assess_uncertainty",
     "verdict",
 ]
 
 VERDICTS = ("feasible", "not feasible", "too close to call")
 _LN10 = math.log(10.0)
-# Adaptive mode (JCGM 101:2008 §7.9): significant digits of u asked for, the largest number of
-# trials before giving up, and the tolerance on probabilities (2 s_P ≤ 0.005, i.e. P stable to
-# half a percentage point: common practice, no source).
-_ADAPTIVE_DIGITS = 2
-_ADAPTIVE_MAX_TRIALS = 2_000_000
-_P_TOLERANCE = 0.005
-# Progress is shown on stderr when a run is expected to take this many trial-temperatures or more.
-_PROGRESS_WORK = 2e8
 
 
 def verdict(p: float, confidence: float) -> str:
@@ -94,54 +87,11 @@ def _check_confidence(confidence: float) -> float:
     return float(confidence)
 
 
-def _block(samples: SampleSet, start: int, stop: int) -> SampleSet:
-    return SampleSet(
-        samples.inputs,
-        samples.values[:, start:stop],
-        samples.method,
-        samples.seed,
-        samples.correlation,
-    )
-
-
 def _input_covariance(samples: SampleSet) -> np.ndarray:
     """Covariance of the inputs from their stated distributions (not from the draws)."""
     u = np.array([inp.u for inp in samples.inputs])
     corr = samples.correlation if samples.correlation is not None else np.eye(u.size)
     return corr * np.outer(u, u)
-
-
-@dataclass
-class _Progress:
-    total: int
-    enabled: bool
-    started: float = field(default_factory=time.perf_counter)
-
-    def update(self, done: int) -> None:
-        if not self.enabled:
-            return
-        frac = min(1.0, done / self.total) if self.total else 1.0
-        bar = "#" * int(30 * frac)
-        elapsed = time.perf_counter() - self.started
-        sys.stderr.write(f"\rsampling [{bar:<30}] {done:,} trials, {elapsed:.1f} s")
-        sys.stderr.flush()
-
-    def close(self) -> None:
-        if self.enabled:
-            sys.stderr.write("\n")
-            sys.stderr.flush()
-
-
-@dataclass(frozen=True)
-class AdaptiveReport:
-    """What the JCGM 101 §7.9 adaptive procedure did."""
-
-    trials: int
-    blocks: int
-    block_size: int
-    converged: bool
-    tolerance_J_per_mol: float
-    worst_ratio: float
 
 
 class UncertainAssessment:
@@ -511,45 +461,6 @@ def _threshold_fn(
     return (lambda T: np.full(np.shape(T), value)), f"ΔrG < {value / 1000:g} kJ/mol"
 
 
-def _adaptive(
-    samples: SampleSet,
-    model_fn: Callable[[SampleSet], Summary],
-    block: int,
-    max_trials: int,
-    progress: _Progress,
-) -> tuple[SampleSet, AdaptiveReport]:
-    """JCGM 101:2008 §7.9.4: add blocks of trials until every estimate is numerically stable."""
-    stats: list[Summary] = [model_fn(samples)]
-    converged = False
-    worst = math.inf
-    tol = 0.0
-    while True:
-        h = len(stats)
-        if h >= 2:
-
-            def sd(attr: str, h: int = h) -> np.ndarray:
-                vals = np.array([getattr(s, attr) for s in stats])
-                return vals.std(axis=0, ddof=1) / math.sqrt(h)
-
-            pooled_u = np.sqrt(np.mean([s.u**2 for s in stats], axis=0))
-            delta = numerical_tolerance(pooled_u, _ADAPTIVE_DIGITS)
-            ratios = [
-                2 * sd(a) / np.where(delta > 0, delta, np.inf) for a in ("mean", "u", "lo", "hi")
-            ]
-            ratios.append(2 * sd("p_below") / _P_TOLERANCE)
-            worst = float(np.max(ratios))
-            tol = float(np.min(delta))
-            if worst <= 1.0:
-                converged = True
-                break
-        if samples.n + block > max_trials:
-            break
-        samples = extend_samples(samples, block)
-        stats.append(model_fn(_block(samples, samples.n - block, samples.n)))
-        progress.update(samples.n)
-    return samples, AdaptiveReport(samples.n, len(stats), block, converged, tol, worst)
-
-
 def assess_uncertainty(
     equation: str | Reaction,
     T: Any = None,
@@ -569,7 +480,7 @@ def assess_uncertainty(
     standard_pressure: Any = "1 bar",
     library: Library | None = None,
     balance: bool = False,
-    max_trials: int = _ADAPTIVE_MAX_TRIALS,
+    max_trials: int = ADAPTIVE_MAX_TRIALS,
     progress: bool | None = None,
 ) -> UncertainAssessment:
     """Monte Carlo feasibility of a reaction: P(ΔrG < threshold), verdict and window over T.
@@ -639,72 +550,4 @@ def assess_uncertainty(
         library,
         report,
         crossing_range,
-    )
-
-
-@dataclass
-class Route:
-    """Several steps, each at its own temperature, over one shared set of draws."""
-
-    steps: list[tuple[Reaction, float]]
-    samples: SampleSet
-    thresholds: list[float]
-    p_steps: list[float]
-    p_steps_se: list[float]
-    p_all: float
-    p_all_se: float
-
-    @property
-    def p_independent(self) -> float:
-        """What P(all) would be if the steps shared no species: the product of the step P's."""
-        return float(np.prod(self.p_steps))
-
-
-def assess_route(
-    steps: Sequence[tuple[str | Reaction, Any]],
-    *,
-    samples: int = 100_000,
-    seed: int | None = None,
-    method: Method = "mc",
-    threshold: Any = "0 J/mol",
-    overrides: Sequence[Override] = (),
-    correlations: Correlations | None = None,
-    library: Library | None = None,
-) -> Route:
-    """P(every step is feasible) for a route of (equation, temperature) steps, shared draws.
-
-    >>> r = assess_route([("MgCO3 -> MgO + CO2", "800 K"), ("MgO + 2 HCl -> MgCl2 + H2O", "400 K")],
-    ...                  samples=4096, seed=3)
-    >>> r.p_all <= min(r.p_steps)
-    True
-    """
-    library = library or default_library()
-    rxns = [(s if isinstance(s, Reaction) else Reaction.parse(s, library), t) for s, t in steps]
-    if not rxns:
-        raise FeasiblyError("a route needs at least one step")
-    species = {sp.id: sp for rxn, _ in rxns for sp in uncertain_species(rxn)}
-    inputs = build_inputs(species.values(), overrides)
-    corr = correlation_matrix(inputs, correlations)
-    drawn = draw_samples(inputs, samples, method=method, seed=seed, correlation=corr)
-    thr_fn, _ = _threshold_fn(threshold, None)
-    models, thrs, temps = [], [], []
-    for rxn, t in rxns:
-        tk = float(np.squeeze(to_kelvin(t)))
-        models.append(linear_model(rxn, np.array([tk]), drawn))
-        thrs.append(float(thr_fn(np.array([tk]))[0]))
-        temps.append(tk)
-    p_steps, p_se = [], []
-    for m, thr in zip(models, thrs, strict=True):
-        p, se = route_probability([m], drawn, [thr])
-        p_steps.append(p)
-        p_se.append(se)
-    p_all, p_all_se = route_probability(models, drawn, thrs)
-    return Route(
-        [(r, t) for (r, _), t in zip(rxns, temps, strict=True)],
-        drawn,
-        thrs,
-        p_steps,
-        p_se,
-        p_all,
-        p_all_se,
     )

@@ -12,7 +12,7 @@ from traitlets import Enum, Float, Instance, Int, Unicode
 
 from .. import figures
 from ..errors import FeasiblyError
-from ..uncertainty.assessment import UncertainAssessment
+from ..uncertainty import UncertainAssessment
 from ._common import TEMPERATURE_UNITS, error_html, fmt_T, note_html
 
 __all__ = ["FeasibilityPanel", "in_words", "percent"]

@@ -10,9 +10,9 @@ import ipywidgets as w
 from traitlets import Bool, List, Unicode
 
 from ..errors import FeasiblyError
-from ..records.document import record_from, write_record
+from ..records import record_from, write_record
 from ..thermo.assessment import assess
-from ..uncertainty.assessment import UncertainAssessment
+from ..uncertainty import UncertainAssessment
 from ._common import error_html, note_html
 
 __all__ = ["RecordExport"]

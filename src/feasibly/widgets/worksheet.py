@@ -11,7 +11,7 @@ from traitlets import Float, Instance, Int, List, Tuple, Unicode
 from ..errors import FeasiblyError
 from ..library.catalogue import Library, default_library
 from ..thermo.reaction import Reaction
-from ..uncertainty.assessment import assess_uncertainty
+from ..uncertainty import assess_uncertainty
 from ..units import to_kelvin
 from ._common import error_html, note_html
 from .conditions import Conditions
