@@ -8,7 +8,7 @@ import sys
 
 import pytest
 
-from feasibly.cli.main import main
+from feasibly.cli import main
 
 
 def run(capsys: pytest.CaptureFixture[str], *argv: str) -> tuple[int, str, str]:

@@ -17,7 +17,7 @@ import pytest
 from scipy import special
 
 import feasibly
-from feasibly.cli.main import main
+from feasibly.cli import main
 from feasibly.equilibrium.conversion import (
     conversion_assessment,
     conversion_bands,

@@ -18,7 +18,7 @@ import pytest
 
 import feasibly
 from feasibly._files import data_text
-from feasibly.cli.main import main
+from feasibly.cli import main
 from feasibly.errors import FeasiblyError, RecordError
 from feasibly.records import (
     load_record,
@@ -450,7 +450,7 @@ def test_record_error_is_a_feasibly_error() -> None:
 
 def test_required_conversion_travels_and_verifies(tmp_path: Path) -> None:
     # The conversion criterion is recomputed from the record's own inputs by verify.
-    from feasibly.cli.main import main
+    from feasibly.cli import main
 
     path = tmp_path / "reformer.json"
     argv = [

@@ -1,0 +1,186 @@
+"""What the command line prints: the assessment, the uncertainty summary and the conversion, as
+terminal text; and the exit codes every subcommand shares."""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+from ..library import Library, default_library
+from ..thermo import Assessment
+from ..uncertainty import UncertainAssessment, window_phrase
+
+EXIT_OK = 0
+
+
+EXIT_INPUT = 2  # the user's input or data could not be used (also argparse's own code)
+
+
+EXIT_INTERNAL = 3  # a bug in feasibly: the message asks for a report
+
+
+def _library(files: list[str] | None) -> Library:
+    lib = default_library()
+    for path in files or []:
+        lib = lib.with_species(Library.from_file(path))
+    return lib
+
+
+def _fmt(x: float, digits: int = 2) -> str:
+    if not math.isfinite(x):
+        return "—"
+    return f"{x:,.{digits}f}"
+
+
+def _print_assessment(a: Assessment) -> None:
+    s = a.standard
+    print(f"Reaction   {a.reaction.equation(pretty=True)}")
+    if a.reaction.equation() != " ".join(a.reaction.text.split()):
+        print(f"           (entered as: {a.reaction.text})")
+    lo, hi = a.reaction.valid_range()
+    p_label = "1 bar" if s.standard_pressure == 1e5 else "1 atm"
+    print(
+        f"Data       feasibly library {a.library_version} (sha256 {a.library_hash[:12]}…); "
+        f"valid {lo:g}–{hi:g} K; standard pressure {p_label}"
+    )
+    header = ["T / K", "T / °C", "ΔrH° kJ/mol", "ΔrS° J/(mol·K)", "ΔrG° kJ/mol", "log10 K"]
+    if a.dG_actual is not None:
+        header.append("ΔrG kJ/mol")
+    header.append("ΔrG° < 0?")
+    rows = []
+    for i in range(s.T.size):
+        row = [
+            _fmt(s.T[i]),
+            _fmt(s.T[i] - 273.15),
+            _fmt(s.dH[i] / 1000),
+            _fmt(s.dS[i]),
+            _fmt(s.dG[i] / 1000),
+            _fmt(s.log10_K[i], 3),
+        ]
+        if a.dG_actual is not None:
+            row.append(_fmt(a.dG_actual[i] / 1000))
+        row.append("yes" if s.dG[i] < 0 else "no")
+        rows.append(row)
+    widths = [max(len(h), *(len(r[j]) for r in rows)) for j, h in enumerate(header)]
+    print()
+    print("  ".join(h.rjust(w) for h, w in zip(header, widths, strict=True)))
+    for r in rows:
+        print("  ".join(c.rjust(w) for c, w in zip(r, widths, strict=True)))
+    print()
+    if a.crossover_K is not None:
+        if a.crossover_K:
+            joined = ", ".join(f"{t:.1f} K ({t - 273.15:.1f} °C)" for t in a.crossover_K)
+            print(f"ΔrG° = 0 at {joined}")
+        else:
+            print("ΔrG° does not change sign in this range.")
+        if a.crossover_298_estimate_K is not None:
+            print(
+                f"  (the 298.15 K shortcut ΔrH°/ΔrS° would say {a.crossover_298_estimate_K:.1f} K)"
+            )
+    if a.dG_actual is not None:
+        given = ", ".join(f"{k} {v / 1e5:g} bar" for k, v in a.partial_pressures_Pa.items())
+        print(f"ΔrG at partial pressures: {given}; ideal gases, condensed phases pure.")
+        if a.assumed_standard:
+            print(
+                f"  At the standard pressure (no partial pressure given): "
+                f"{', '.join(a.assumed_standard)}"
+            )
+    for term, T, before, after in a.phase_changes:
+        print(f"Phase change: {term} goes from {before} to {after} at {T:.1f} K.")
+    for used, T, stable in a.metastable:
+        print(
+            f"Note: {used} is metastable at {T:.1f} K ({stable} has lower G°); "
+            "it is used because the equation names that phase."
+        )
+    if a.cautions:
+        print()
+        print("CAUTION")
+        for c in a.cautions:
+            print(f"  - {c.message}")
+    for note in a.notes:
+        print()
+        print(note)
+
+
+def _print_uncertainty(u: UncertainAssessment) -> None:
+    print()
+    basis = "ΔrG at the given partial pressures" if u.partial_pressures_Pa else "ΔrG°"
+    print(
+        f"How sure: {u.trials:,} trials ({u.samples.method}, seed {u.samples.seed}); "
+        f"criterion {u.threshold_text} on {basis}; confidence level {u.confidence:.0%}"
+    )
+    if u.adaptive is not None:
+        a = u.adaptive
+        state = "met" if a.converged else "NOT met (trial limit reached)"
+        print(
+            f"  adaptive (JCGM 101 §7.9): {a.blocks} blocks of {a.block_size:,}; tolerance {state}"
+        )
+    header = ["T / K", "mean kJ/mol", "u kJ/mol", "95 % interval kJ/mol", "P(feasible)", "call"]
+    rows = []
+    for r in u.rows():
+        rows.append(
+            [
+                _fmt(r["T_K"]),
+                _fmt(r["dG_mean_J_per_mol"] / 1000),
+                _fmt(r["dG_std_J_per_mol"] / 1000),
+                f"[{r['dG_lo_J_per_mol'] / 1000:,.2f}, {r['dG_hi_J_per_mol'] / 1000:,.2f}]",
+                f"{r['P_feasible']:.1%} ± {r['P_feasible_se']:.1%}",
+                r["verdict"],
+            ]
+        )
+    widths = [max(len(h), *(len(x[j]) for x in rows)) for j, h in enumerate(header)]
+    print("  ".join(h.rjust(w) for h, w in zip(header, widths, strict=True)))
+    for x in rows:
+        print("  ".join(c.rjust(w) for c, w in zip(x, widths, strict=True)))
+    windows = u.window()
+    if windows:
+        for w in windows:
+            lo = "below the range" if w["lo_open"] else f"{w['T_lo_K']:.0f} K"
+            hi = "above the range" if w["hi_open"] else f"{w['T_hi_K']:.0f} K"
+            print(f"Feasible at {u.confidence:.0%} confidence from {lo} to {hi}.")
+    else:
+        print(f"Nowhere in this range is the step feasible at {u.confidence:.0%} confidence.")
+    if u.crossing_range is not None:
+        c = u.crossover()
+        if "median_K" in c:
+            print(
+                f"ΔrG crosses the criterion at {c['median_K']:.0f} K (95 %: {c['lo_K']:.0f}–"
+                f"{c['hi_K']:.0f} K); {c['fraction_none']:.0%} of trials do not cross in range."
+            )
+    t_mid = float(u.T[len(u.T) // 2])
+    shares = u.sensitivity_by_species((t_mid, "K"))[:3]
+    if shares:
+        joined = "; ".join(f"{sid} {share:.0%}" for sid, share in shares)
+        print(f"Doubt at {t_mid:.0f} K comes from: {joined} (shares of the variance of ΔrG).")
+
+
+def _print_conversion(c: dict[str, Any]) -> None:
+    print()
+    req = c["required_conversion"]
+    print(
+        f"Equilibrium conversion of {c['key']} at {c['P_Pa'] / 1e5:g} bar "
+        f"(required: {req:.0%}; {c['model']})"
+    )
+    sampled = c["trials"] > 0
+    header = ["T / K", "conversion"] + (["95 % interval", "P(meets)"] if sampled else ["meets?"])
+    rows = []
+    for r in c["rows"]:
+        row = [_fmt(r["T_K"]), f"{r['conversion']:.1%}"]
+        if sampled:
+            row += [
+                f"[{r['conversion_lo']:.1%}, {r['conversion_hi']:.1%}]",
+                f"{r['P_meets_required']:.1%} ± {r['P_meets_required_se']:.1%}",
+            ]
+        else:
+            row.append("yes" if r["meets_required"] else "no")
+        rows.append(row)
+    widths = [max(len(h), *(len(x[j]) for x in rows)) for j, h in enumerate(header)]
+    print("  ".join(h.rjust(w) for h, w in zip(header, widths, strict=True)))
+    for x in rows:
+        print("  ".join(v.rjust(w) for v, w in zip(x, widths, strict=True)))
+    if c["window"]:
+        spans = window_phrase(c["window"])
+        where = f"at {c['confidence']:.0%} confidence" if sampled else "at the nominal data"
+        print(f"The required conversion is met {where} {spans}.")
+    else:
+        print("The required conversion is not met anywhere in this range.")

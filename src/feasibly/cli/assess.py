@@ -1,0 +1,326 @@
+"""``feasibly assess``: screen one reaction over temperature at the user's conditions, with the
+call, its uncertainty, the required conversion and a decision record when asked."""
+
+from __future__ import annotations
+
+import argparse
+import json
+import secrets
+import sys
+from collections.abc import Sequence
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from ..equilibrium import conversion_assessment, parse_feed
+from ..errors import UnitError
+from ..records import record_from, write_record
+from ..thermo import assess
+from ..uncertainty import assess_uncertainty, parse_override
+from ..units import to_pascal
+from ._terminal import (
+    EXIT_OK,
+    _library,
+    _print_assessment,
+    _print_conversion,
+    _print_uncertainty,
+)
+
+
+def _quantity_text(tokens: Sequence[str], what: str) -> str | tuple[list[float], str]:
+    """Turn ['800', 'degC'] or ['800degC'] or ['700', '900', 'K'] into something units.py reads."""
+    if len(tokens) == 1:
+        return tokens[0]
+    *numbers, unit = tokens
+    try:
+        values = [float(x) for x in numbers]
+    except ValueError:
+        raise UnitError(" ".join(tokens), what, "write numbers followed by one unit") from None
+    return values, unit
+
+
+def _pressure_pairs(items: list[list[str]] | None, what: str) -> dict[str, str]:
+    out: dict[str, str] = {}
+    for tokens in items or []:
+        text = " ".join(tokens)
+        if "=" not in text:
+            raise UnitError(text, what, "write SPECIES=VALUE UNIT, e.g. CO2=0.3 bar")
+        name, value = text.split("=", 1)
+        out[name.strip()] = value.strip()
+    return out
+
+
+def _cmd_assess(args: argparse.Namespace) -> int:
+    lib = _library(args.species_file)
+    pressures = _pressure_pairs(args.p, "partial pressure")
+    if args.y:
+        if args.P is None:
+            raise UnitError(
+                " ".join(args.y[0]), "mole fraction", "give the total pressure with --P"
+            )
+        total = float(np.squeeze(to_pascal(_quantity_text(args.P, "pressure"))))
+        for name, value in _pressure_pairs(args.y, "mole fraction").items():
+            try:
+                y = float(value)
+            except ValueError:
+                raise UnitError(value, "mole fraction", "write a number between 0 and 1") from None
+            if not 0 < y <= 1:
+                raise UnitError(value, "mole fraction", "must be in (0, 1]")
+            pressures[name] = f"{y * total} Pa"
+    elif args.P is not None and not args.feed:
+        raise UnitError(
+            " ".join(args.P),
+            "total pressure",
+            "say how it is shared: --y SPECIES=FRACTION for each gas, or give "
+            "partial pressures with --p",
+        )
+    T = _quantity_text(args.T, "temperature") if args.T else None
+    T_range = None
+    if args.T_range:
+        tokens = args.T_range
+        if len(tokens) == 3:
+            T_range = ((float(tokens[0]), tokens[2]), (float(tokens[1]), tokens[2]))
+        elif len(tokens) == 2:
+            T_range = (tokens[0], tokens[1])
+        else:
+            raise UnitError(" ".join(tokens), "temperature range", "write LOW HIGH UNIT")
+    if T is None and T_range is None:
+        raise UnitError(None, "temperature", "give --T VALUE UNIT or --T-range LOW HIGH UNIT")
+    result = assess(
+        args.equation,
+        T=T,
+        T_range=T_range,
+        points=args.points,
+        partial_pressures=pressures,
+        standard_pressure=args.standard_pressure,
+        library=lib,
+        balance=args.balance,
+    )
+    if args.record and args.seed is None and (args.samples is not None or args.adaptive):
+        # A record must be reproducible: draw the seed here and write it into the record.
+        args.seed = secrets.randbits(32)
+    uncertain = None
+    if args.samples is not None or args.adaptive:
+        threshold = " ".join(args.threshold) if args.threshold else "0 J/mol"
+        uncertain = assess_uncertainty(
+            result.reaction,
+            T=T,
+            T_range=T_range,
+            points=args.points,
+            samples=args.samples if args.samples is not None else 100_000,
+            seed=args.seed,
+            method=args.method,
+            adaptive=args.adaptive,
+            confidence=args.confidence,
+            threshold=threshold,
+            required_K=args.require_K,
+            overrides=[parse_override(o) for o in args.override or []],
+            correlations={
+                (a, b): float(r) for a, b, r in (_correlation(c) for c in args.correlate or [])
+            },
+            partial_pressures=pressures,
+            standard_pressure=args.standard_pressure,
+            library=lib,
+        )
+    elif args.threshold or args.require_K or args.override or args.correlate:
+        raise UnitError(
+            None,
+            "uncertainty run",
+            "--threshold, --require-K, --override and --correlate need --samples N (or --adaptive)",
+        )
+    conversion = None
+    if args.feed or args.require_conversion or args.key:
+        if not (args.feed and args.require_conversion and args.key):
+            raise UnitError(
+                None,
+                "required conversion",
+                "give --feed, --require-conversion and "
+                '--key together (e.g. --feed "CH4:1, H2O:2" '
+                "--require-conversion 90% --key CH4)",
+            )
+        conversion = conversion_assessment(
+            result.reaction,
+            (result.standard.T, "K"),
+            args.feed,
+            args.key,
+            args.require_conversion,
+            _quantity_text(args.P, "pressure") if args.P else "1 bar",
+            samples=args.samples,
+            seed=args.seed,
+            confidence=args.confidence,
+            library=lib,
+        )
+    if args.record:
+        conv_kwargs: dict[str, Any] = {}
+        if conversion is not None:
+            conv_kwargs = {
+                "conversion": conversion,
+                "conversion_inputs": {
+                    "feed": parse_feed(args.feed),
+                    "key": args.key,
+                    "required": conversion["required_conversion"],
+                    "P_Pa": conversion["P_Pa"],
+                    "samples": args.samples,
+                    "seed": args.seed,
+                    "confidence": args.confidence,
+                },
+            }
+        record = record_from(
+            result,
+            uncertain,
+            author=args.author or "",
+            reviewer=args.reviewer or "",
+            rationale=args.rationale or "",
+            balance=args.balance,
+            required_K=args.require_K,
+            **conv_kwargs,
+        )
+        written = write_record(
+            record, args.record, Path(args.record).with_suffix(".html"), overwrite=args.overwrite
+        )
+        print("record written: " + ", ".join(str(p) for p in written), file=sys.stderr)
+    if args.json:
+        doc = result.to_dict()
+        if uncertain is not None:
+            extra = uncertain.to_dict()
+            for row, urow in zip(doc["rows"], extra.pop("rows"), strict=True):
+                row.update({k: v for k, v in urow.items() if k != "T_K"})
+            doc["uncertainty"] = extra
+        if conversion is not None:
+            doc["conversion"] = conversion
+        print(json.dumps(doc, indent=2, ensure_ascii=False))
+    else:
+        _print_assessment(result)
+        if uncertain is not None:
+            _print_uncertainty(uncertain)
+        if conversion is not None:
+            _print_conversion(conversion)
+    return EXIT_OK
+
+
+def _correlation(tokens: list[str]) -> tuple[tuple[str, str], tuple[str, str], str]:
+    if len(tokens) != 3:
+        raise UnitError(" ".join(tokens), "correlation", "write ID:QUANTITY ID:QUANTITY RHO")
+    keys = []
+    for t in tokens[:2]:
+        if ":" not in t:
+            raise UnitError(t, "input name", "write ID:QUANTITY, e.g. MgO(cr):dHf")
+        sid, q = t.rsplit(":", 1)
+        keys.append((sid, q))
+    return keys[0], keys[1], tokens[2]
+
+
+def register(sub: Any) -> None:
+    """Add the ``assess`` subcommand to the ``feasibly`` parser's subparsers."""
+    a = sub.add_parser("assess", help="screen one reaction over temperature")
+    a.add_argument("equation", help='e.g. "MgCO3 -> MgO + CO2" (phases optional: (g), (l), (s))')
+    a.add_argument("--T", nargs="+", metavar="T", help="temperature(s) and unit, e.g. 800 degC")
+    a.add_argument(
+        "--T-range",
+        nargs="+",
+        metavar="T",
+        dest="T_range",
+        help="LOW HIGH UNIT, e.g. 300 1500 K; also searches for ΔrG° = 0",
+    )
+    a.add_argument("--points", type=int, default=12, help="temperatures in --T-range (default 12)")
+    a.add_argument(
+        "--p",
+        action="append",
+        nargs="+",
+        metavar="SPECIES=P",
+        help="partial pressure of a gas, e.g. --p CO2=0.3 bar (repeat per gas)",
+    )
+    a.add_argument("--P", nargs="+", metavar="P", help="total pressure for --y, e.g. 5 bar")
+    a.add_argument(
+        "--y",
+        action="append",
+        nargs="+",
+        metavar="SPECIES=Y",
+        help="mole fraction of a gas at total pressure --P (repeat per gas)",
+    )
+    a.add_argument(
+        "--standard-pressure",
+        default="1 bar",
+        choices=["1 bar", "1 atm"],
+        help="standard-state pressure of the gases (default 1 bar)",
+    )
+    a.add_argument(
+        "--balance",
+        action="store_true",
+        help="find the coefficients from the species (sides as written)",
+    )
+    a.add_argument(
+        "--species-file",
+        action="append",
+        metavar="PATH",
+        help="add your own species (JSON or TOML, schema in data/SCHEMA.md)",
+    )
+    a.add_argument("--json", action="store_true", help="print JSON instead of a table")
+    e = a.add_argument_group("required conversion (equilibrium of this reaction)")
+    e.add_argument("--feed", help='feed amounts, e.g. "CH4:1, H2O:2, N2:0.5" (inerts allowed)')
+    e.add_argument(
+        "--require-conversion",
+        dest="require_conversion",
+        metavar="X",
+        help="conversion of --key that you need, e.g. 90%% or 0.9",
+    )
+    e.add_argument("--key", help="the reactant whose conversion counts, e.g. CH4")
+    r = a.add_argument_group("decision record")
+    r.add_argument(
+        "--record",
+        metavar="PATH",
+        help="write a reproducible record (JSON) and its report (PATH with .html)",
+    )
+    r.add_argument("--author", help="who made the call (goes into the record)")
+    r.add_argument("--reviewer", help="who reviews it (goes into the record)")
+    r.add_argument("--rationale", help="why this step, in your words (goes into the record)")
+    r.add_argument("--overwrite", action="store_true", help="replace existing record files")
+    g = a.add_argument_group("how sure (Monte Carlo over the data's uncertainty)")
+    g.add_argument("--samples", type=int, metavar="N", help="Monte Carlo trials, e.g. 100000")
+    g.add_argument("--seed", type=int, metavar="S", help="seed of the random generator")
+    g.add_argument(
+        "--method",
+        choices=["mc", "sobol"],
+        default="mc",
+        help="plain Monte Carlo or scrambled Sobol (N a power of two)",
+    )
+    g.add_argument(
+        "--adaptive",
+        action="store_true",
+        help="add trials until the JCGM 101 §7.9 tolerance is met",
+    )
+    g.add_argument(
+        "--confidence",
+        type=float,
+        default=0.95,
+        help="confidence level for the call (default 0.95)",
+    )
+    g.add_argument(
+        "--threshold",
+        nargs="+",
+        metavar="G",
+        help="feasible when ΔrG is below this, e.g. -10 kJ/mol (default 0)",
+    )
+    g.add_argument(
+        "--require-K",
+        type=float,
+        dest="require_K",
+        metavar="K",
+        help="feasible when K° is at least this (instead of --threshold)",
+    )
+    g.add_argument(
+        "--override",
+        action="append",
+        metavar="TEXT",
+        help='your own value or uncertainty: "ID:dHf = V ± U UNIT [95%%|k=2] '
+        '[uniform|triangular]; reason" (quantity dHf, S298 or cp)',
+    )
+    g.add_argument(
+        "--correlate",
+        action="append",
+        nargs=3,
+        metavar=("A", "B", "RHO"),
+        help="correlation between two inputs, e.g. MgO(cr):dHf MgCO3(cr):dHf 0.5",
+    )
+    a.set_defaults(run=_cmd_assess)
