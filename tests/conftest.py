@@ -27,6 +27,13 @@ CHROMIUM_ARGS = (
 )
 
 
+def pytest_collection_modifyitems(items: list[pytest.Item]) -> None:
+    """Everything under tests/reference/ is a check against an outside reference."""
+    for item in items:
+        if "reference" in Path(str(item.path)).parent.parts[-1:]:
+            item.add_marker(pytest.mark.reference)
+
+
 @pytest.fixture(scope="session")
 def lib() -> feasibly.Library:
     return feasibly.default_library()

@@ -20,7 +20,7 @@ from pathlib import Path
 
 import pytest
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = Path(__file__).resolve().parents[2]
 SHEET = ROOT / "worksheets" / "01-screening-a-temperature-window.ipynb"
 ARTIFACTS = ROOT / "test-artifacts"
 
@@ -36,6 +36,7 @@ except ImportError:  # pragma: no cover
     HAVE_LAB = False
 
 pytestmark = [
+    pytest.mark.browser,
     pytest.mark.skipif(pw is None, reason="Python Playwright is not installed"),
     pytest.mark.skipif(not HAVE_LAB, reason="JupyterLab is not installed"),
 ]

@@ -33,7 +33,7 @@ from feasibly.records import (
 )
 from feasibly.uncertainty.inputs import parse_override
 
-EXAMPLE_SPECIES = Path(__file__).resolve().parents[1] / "data" / "examples" / "my-species.toml"
+EXAMPLE_SPECIES = Path(__file__).resolve().parents[2] / "data" / "examples" / "my-species.toml"
 SCHEMA = json.loads(data_text("record-schema.json"))
 
 

@@ -103,6 +103,7 @@ def test_species_search(capsys: pytest.CaptureFixture[str]) -> None:
     assert code == 2
 
 
+@pytest.mark.slow  # starts the installed command in a subprocess (about 2 s)
 def test_installed_console_script() -> None:
     # The entry point declared in pyproject.toml works from the installed wheel.
     exe = [sys.executable, "-m", "feasibly.cli"]

@@ -13,7 +13,7 @@ import feasibly
 from feasibly import DataFileError, Library, UnknownSpecies
 from feasibly.library.catalogue import canonical_hash, standard_uncertainty
 
-EXAMPLE = Path(__file__).resolve().parents[1] / "data" / "examples" / "my-species.toml"
+EXAMPLE = Path(__file__).resolve().parents[2] / "data" / "examples" / "my-species.toml"
 
 
 def test_runs_against_the_installed_package() -> None:

@@ -16,9 +16,10 @@ from feasibly.records import make_record, write_record
 from feasibly.uncertainty.inputs import parse_override
 
 HAVE_PLAYWRIGHT = importlib.util.find_spec("playwright") is not None
-ARTIFACTS = Path(__file__).resolve().parents[1] / "test-artifacts"
+ARTIFACTS = Path(__file__).resolve().parents[2] / "test-artifacts"
 
 pytestmark = [
+    pytest.mark.browser,
     pytest.mark.skipif(not HAVE_PLAYWRIGHT, reason="playwright (Python) is not installed"),
 ]
 
