@@ -3,17 +3,24 @@
 Every error a user can cause is a :class:`FeasiblyError`; each concrete error also inherits the
 nearest built-in exception, so ``except KeyError`` and ``except ValueError`` keep working. Errors
 carry the offending value and what was expected as attributes, and their message says what to do.
+
+A bad argument to a function (a confidence level of 1.5, a missing temperature, a bare number
+where a unit is needed) is an :class:`InvalidInput`, whose message always names the parameter,
+what it must be and the value given. Every error survives ``pickle`` on every protocol, so it
+crosses process pools and cluster workers intact.
 """
 
 from __future__ import annotations
 
 from collections.abc import Sequence
+from typing import Any
 
 __all__ = [
     "AmbiguousBalance",
     "DataFileError",
     "EquilibriumNotConverged",
     "FeasiblyError",
+    "InvalidInput",
     "InvalidTemperature",
     "InvalidUncertainty",
     "OutsideDataRange",
@@ -25,8 +32,53 @@ __all__ = [
 ]
 
 
+def _rebuild(cls: type[BaseException], args: tuple[Any, ...], state: dict[str, Any]) -> Any:
+    """Re-create a pickled error without calling its ``__init__`` (whose signature is its own)."""
+    error = cls.__new__(cls)
+    error.args = args
+    error.__dict__.update(state)
+    return error
+
+
 class FeasiblyError(Exception):
     """Base class of every error feasibly raises on bad input or bad data."""
+
+    def __reduce__(self) -> tuple[Any, ...]:
+        # Exception's own __reduce__ calls cls(*args) with the message alone, which fails for the
+        # errors whose __init__ takes structured fields; rebuild from the message and the fields.
+        return (_rebuild, (type(self), self.args, dict(self.__dict__)))
+
+
+#: Longest excerpt of a user's value quoted in a message, so a huge input never makes a huge one.
+_EXCERPT = 80
+
+
+def excerpt(value: object, limit: int = _EXCERPT) -> str:
+    """``repr`` of a value, cut to ``limit`` characters with the length of what was left out."""
+    text = repr(value)
+    if len(text) <= limit:
+        return text
+    return f"{text[: limit - 1]}… ({len(text)} characters)"
+
+
+class InvalidInput(FeasiblyError, ValueError):
+    """A function argument (or command-line option) that cannot be used.
+
+    ``parameter`` names it, ``function`` the call it was given to, ``expected`` says what it must
+    be and ``value`` is what was given. The message has one form everywhere::
+
+        The 'confidence' parameter of assess_uncertainty must be a probability above 0.5 and
+        below 1 (e.g. 0.95). Got 1.5 instead.
+    """
+
+    def __init__(self, parameter: str, function: str, expected: str, value: object) -> None:
+        self.parameter = parameter
+        self.function = function
+        self.expected = expected
+        self.value = value
+        where = f"The {parameter!r} parameter of {function}" if function else f"{parameter!r}"
+        got = "nothing" if value is None else excerpt(value)
+        super().__init__(f"{where} must be {expected}. Got {got} instead.")
 
 
 class UnknownSpecies(FeasiblyError, KeyError):
@@ -101,28 +153,48 @@ class OutsideDataRange(FeasiblyError, ValueError):
         super().__init__(msg)
 
 
-class InvalidTemperature(FeasiblyError, ValueError):
+class InvalidTemperature(InvalidInput):
     """Zero, negative, non-finite or unit-less temperatures."""
 
     def __init__(self, value: object, problem: str) -> None:
+        self.parameter, self.function, self.expected = "T", "", "a temperature above 0 K"
         self.value = value
         self.problem = problem
-        super().__init__(f"Temperature {value!r}: {problem}")
+        ValueError.__init__(self, f"Temperature {excerpt(value)}: {problem}")
 
 
-class UnitError(FeasiblyError, ValueError):
+class UnitError(InvalidInput):
     """A quantity given without a unit where one is needed, or in a unit of the wrong kind."""
 
     def __init__(self, value: object, expected: str, problem: str = "") -> None:
+        self.parameter, self.function = expected, ""
         self.value = value
         self.expected = expected
-        msg = f"{value!r} is not a {expected}"
+        self.problem = problem
+        msg = f"{excerpt(value)} is not a {expected}"
         msg += f": {problem}" if problem else "."
-        super().__init__(msg)
+        ValueError.__init__(self, msg)
 
 
-class InvalidUncertainty(FeasiblyError, ValueError):
-    """Negative, NaN or missing uncertainties and unusable coverage statements."""
+class InvalidUncertainty(InvalidInput):
+    """Negative, NaN or missing uncertainties and unusable coverage statements.
+
+    Raised either in the common form (``parameter``, ``function``, ``expected``, ``value``) or
+    with a finished message alone.
+    """
+
+    def __init__(
+        self,
+        message_or_parameter: str,
+        function: str | None = None,
+        expected: str = "",
+        value: object = None,
+    ) -> None:
+        if function is None:
+            self.parameter, self.function, self.expected, self.value = "", "", "", None
+            ValueError.__init__(self, message_or_parameter)
+        else:
+            super().__init__(message_or_parameter, function, expected, value)
 
 
 class DataFileError(FeasiblyError, ValueError):

@@ -216,7 +216,10 @@ def test_sobol_and_adaptive_from_the_command_line(capsys: pytest.CaptureFixture[
     [
         (["--samples", "1000", "--method", "sobol"], "power of two"),
         (["--samples", "0"], "at least 2"),
-        (["--samples", "100", "--confidence", "1.5"], "confidence level"),
+        (
+            ["--samples", "100", "--confidence", "1.5"],
+            "--confidence must be a probability above 0.5",
+        ),
         (["--samples", "100", "--override", "MgO(cr):dHf ± 3 kJ/mol"], "cannot read the override"),
         (["--samples", "100", "--override", "MgO(cr):dHf ± -3 kJ/mol; x"], "negative"),
         (["--override", "MgO(cr):dHf ± 3 kJ/mol; x"], "need --samples"),

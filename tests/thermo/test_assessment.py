@@ -14,6 +14,7 @@ import pytest
 
 from feasibly import (
     Q_,
+    InvalidInput,
     InvalidTemperature,
     OutsideDataRange,
     Reaction,
@@ -96,8 +97,10 @@ def test_bad_conditions() -> None:
         assess(CRACK, T=900)
     with pytest.raises(InvalidTemperature):
         assess(CRACK, T="0 K")
-    with pytest.raises(UnitError, match="either T or T_range"):
+    with pytest.raises(InvalidInput, match="The 'T' parameter of assess must be a temperature"):
         assess(CRACK)
+    with pytest.raises(InvalidInput, match="'T_range' parameter of assess must be left out"):
+        assess(CRACK, T="900 K", T_range=("600 K", "900 K"))
     with pytest.raises(UnitError, match="standard pressure"):
         assess(CRACK, T="900 K", standard_pressure="2 bar")
     with pytest.raises(OutsideDataRange):

@@ -412,7 +412,7 @@ def test_overrides_convert_coverage_and_shift_the_value() -> None:
         ),
         (
             lambda: assess_uncertainty("MgCO3 -> MgO + CO2", T="700 K", confidence=1.2),
-            "confidence level",
+            "The 'confidence' parameter of assess_uncertainty must be a probability above 0.5",
         ),
         (lambda: Override("MgO(cr)", "dHf", ""), "say why"),
         (lambda: Override("MgO(cr)", "Cp", "x", value=1.0), "not one of"),

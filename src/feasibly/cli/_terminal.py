@@ -6,6 +6,7 @@ from __future__ import annotations
 import math
 from typing import Any
 
+from ..conditions import STANDARD_PRESSURE_PA
 from ..library import Library, default_library
 from ..thermo import Assessment
 from ..uncertainty import UncertainAssessment, window_phrase
@@ -38,7 +39,7 @@ def _print_assessment(a: Assessment) -> None:
     if a.reaction.equation() != " ".join(a.reaction.text.split()):
         print(f"           (entered as: {a.reaction.text})")
     lo, hi = a.reaction.valid_range()
-    p_label = "1 bar" if s.standard_pressure == 1e5 else "1 atm"
+    p_label = "1 bar" if s.standard_pressure == STANDARD_PRESSURE_PA else "1 atm"
     print(
         f"Data       feasibly library {a.library_version} (sha256 {a.library_hash[:12]}…); "
         f"valid {lo:g}–{hi:g} K; standard pressure {p_label}"

@@ -14,7 +14,7 @@ from typing import Any
 import numpy as np
 
 from ..equilibrium import conversion_assessment, parse_feed
-from ..errors import UnitError
+from ..errors import InvalidInput, UnitError
 from ..records import record_from, write_record
 from ..thermo import assess
 from ..uncertainty import assess_uncertainty, parse_override
@@ -86,7 +86,12 @@ def _cmd_assess(args: argparse.Namespace) -> int:
         else:
             raise UnitError(" ".join(tokens), "temperature range", "write LOW HIGH UNIT")
     if T is None and T_range is None:
-        raise UnitError(None, "temperature", "give --T VALUE UNIT or --T-range LOW HIGH UNIT")
+        raise InvalidInput(
+            "--T",
+            "",
+            "given: one temperature such as --T 800 degC, or a range such as --T-range 600 1000 K",
+            None,
+        )
     result = assess(
         args.equation,
         T=T,

@@ -10,7 +10,7 @@ import sys
 from collections.abc import Sequence
 
 from ..__about__ import __version__
-from ..errors import FeasiblyError
+from ..errors import FeasiblyError, InvalidInput, excerpt
 from ._terminal import (
     EXIT_INPUT,
     EXIT_INTERNAL,
@@ -21,6 +21,26 @@ from .species import register as register_species
 from .verify import register as register_verify
 
 __all__ = ["main"]
+
+#: Keyword arguments of the kernel and the command-line options that carry them.
+_OPTIONS = {
+    "T": "--T",
+    "T_range": "--T-range",
+    "points": "--points",
+    "confidence": "--confidence",
+    "samples": "--samples",
+    "threshold": "--threshold",
+    "required_K": "--require-K",
+    "seed": "--seed",
+}
+
+
+def _message(exc: FeasiblyError) -> str:
+    """The error in the command line's own terms: an argument is named by its option."""
+    if type(exc) is InvalidInput and exc.parameter in _OPTIONS:
+        got = "nothing" if exc.value is None else excerpt(exc.value)
+        return f"{_OPTIONS[exc.parameter]} must be {exc.expected}. Got {got} instead."
+    return str(exc)
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -45,7 +65,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     try:
         return int(args.run(args))
     except FeasiblyError as exc:
-        print(f"feasibly: {exc}", file=sys.stderr)
+        print(f"feasibly: {_message(exc)}", file=sys.stderr)
         return EXIT_INPUT
     except Exception as exc:
         print(

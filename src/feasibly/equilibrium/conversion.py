@@ -24,6 +24,7 @@ from typing import Any
 
 import numpy as np
 
+from ..conditions import read_confidence, read_probability
 from ..errors import EquilibriumNotConverged, UnitError, UnknownSpecies
 from ..library.catalogue import Library, default_library
 from ..library.cp_models import R
@@ -310,9 +311,7 @@ def conversion_window(
     >>> conversion_window(np.array([500., 600., 700.]), np.array([0.0, 0.5, 1.0]), 0.75)
     [{'T_lo_K': 650.0, 'lo_open': False, 'T_hi_K': 700.0, 'hi_open': True}]
     """
-    if not 0.0 < confidence < 1.0:
-        raise UnitError(confidence, "confidence level", "it lies strictly between 0 and 1")
-    return level_window(T, p_meets, confidence)
+    return level_window(T, p_meets, read_probability(confidence, "confidence", "conversion_window"))
 
 
 def conversion_assessment(
@@ -333,8 +332,7 @@ def conversion_assessment(
     (the probability fields are None) and the window is where the nominal value meets it.
     """
     req = _read_conversion(required)
-    if not 0.0 < confidence < 1.0:
-        raise UnitError(confidence, "confidence level", "it lies strictly between 0 and 1")
+    confidence = read_confidence(confidence, "conversion_assessment")
     if samples is None:
         x = equilibrium_extent(reaction, temps, P, feed, key=key, library=library)
         assert x.conversion is not None

@@ -72,6 +72,8 @@ _CP_COMMON = {"model", "u_rel", "source", "entry", "uncertainty"}
 
 
 # H(298.15) of an element's reference state is 0 by definition; 1e-6 J/mol allows float noise only.
+#: The data's standard state (1 bar); feasibly.conditions.STANDARD_PRESSURE_PA is the same number.
+_STANDARD_PRESSURE_PA = 100000.0
 _REF_STATE_TOL = 1e-6
 
 
@@ -508,8 +510,8 @@ def _read_species(doc: Any, name: str, origin: str, shipped: bool) -> tuple[list
                 f"{doc['content_sha256']} does not match the "
                 f"content ({actual}); the species data was changed after it was hashed",
             )
-    pressure = doc.get("standard_pressure_Pa", 100000.0)
-    if pressure != 100000.0:
+    pressure = doc.get("standard_pressure_Pa", _STANDARD_PRESSURE_PA)
+    if pressure != _STANDARD_PRESSURE_PA:
         problems.add(
             "file",
             "standard_pressure_Pa",

@@ -12,6 +12,7 @@ from collections.abc import Mapping, Sequence
 from html import escape
 from typing import Any
 
+from ..conditions import STANDARD_PRESSURE_PA
 from ..thermo.safety import DEFERRAL
 from ..uncertainty.linear import window_phrase
 from ._svg import OKABE_ITO, Band, HLine, Line, chart
@@ -249,7 +250,7 @@ def _settings(doc: Mapping[str, Any]) -> str:
         )
     else:
         items.append("Temperature(s): " + ", ".join(f"{x:g} K" for x in t["T_K"]))
-    p_std = "1 bar" if cond["standard_pressure_Pa"] == 100000.0 else "1 atm"
+    p_std = "1 bar" if cond["standard_pressure_Pa"] == STANDARD_PRESSURE_PA else "1 atm"
     items.append(f"Standard pressure: {p_std}")
     pp = cond["partial_pressures_Pa"]
     if pp:

@@ -14,10 +14,11 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+from ..conditions import STANDARD_PRESSURE_PA
 from ..equilibrium.conversion import conversion_assessment
 from ..errors import FeasiblyError, RecordError
 from ..library.catalogue import Library, default_library
-from ..thermo.assessment import ONE_BAR_PA, assess
+from ..thermo import assess
 from ..uncertainty import ADAPTIVE_MAX_TRIALS, assess_uncertainty
 from ..uncertainty.inputs import InputKey, Override
 from .build import environment, record_from
@@ -88,7 +89,7 @@ def _rerun(doc: Mapping[str, Any]) -> dict[str, Any]:
         T_range, points = ((temp["T_lo_K"], "K"), (temp["T_hi_K"], "K")), temp["points"]
     else:
         T = (temp["T_K"], "K")
-    p_std = "1 bar" if cond["standard_pressure_Pa"] == ONE_BAR_PA else "1 atm"
+    p_std = "1 bar" if cond["standard_pressure_Pa"] == STANDARD_PRESSURE_PA else "1 atm"
     pressures = {k: (float(v), "Pa") for k, v in cond["partial_pressures_Pa"].items()}
     rxn = doc["reaction"]
     a = assess(

@@ -10,8 +10,6 @@ Layer rule: imports :mod:`feasibly.library`, :mod:`feasibly.units` and
 """
 
 from .assessment import (
-    ONE_ATM_PA,
-    ONE_BAR_PA,
     Assessment,
     StandardProperties,
     assess,
@@ -24,8 +22,6 @@ from .safety import DEFERRAL, EXOTHERM_J_PER_G, Caution, cautions_for
 __all__ = [
     "DEFERRAL",
     "EXOTHERM_J_PER_G",
-    "ONE_ATM_PA",
-    "ONE_BAR_PA",
     "Assessment",
     "Caution",
     "Reaction",

@@ -15,16 +15,20 @@ import numpy as np
 from scipy.optimize import brentq
 
 from .. import __about__
+from ..conditions import (
+    ONE_ATM_PA,
+    STANDARD_PRESSURE_PA,
+    read_partial_pressures,
+    read_standard_pressure,
+    read_temperatures,
+)
 from ..errors import FeasiblyError, UnitError
 from ..library.catalogue import Library, default_library
 from ..library.cp_models import T_REF, R
-from ..units import to_kelvin, to_pascal
 from .reaction import Reaction
 from .safety import DEFERRAL, Caution, cautions_for
 
 __all__ = [
-    "ONE_ATM_PA",
-    "ONE_BAR_PA",
     "Assessment",
     "StandardProperties",
     "assess",
@@ -32,8 +36,6 @@ __all__ = [
     "standard_properties",
 ]
 
-ONE_BAR_PA = 100000.0
-ONE_ATM_PA = 101325.0
 _LN10 = math.log(10.0)
 
 
@@ -77,14 +79,14 @@ class StandardProperties:
 
 
 def standard_properties(
-    rxn: Reaction, T: Any, standard_pressure: float = ONE_BAR_PA
+    rxn: Reaction, T: Any, standard_pressure: float = STANDARD_PRESSURE_PA
 ) -> StandardProperties:
     """ΔrH°, ΔrS°, ΔrG°, ΔrCp° of ``rxn`` at temperatures ``T`` (K, float or array).
 
     Gas standard states are at ``standard_pressure`` (1 bar or 1 atm): the data are on 1 bar, and
     a 1 atm standard state shifts each gas's S° by −R ln(p°/1 bar).
     """
-    if standard_pressure not in (ONE_BAR_PA, ONE_ATM_PA):
+    if standard_pressure not in (STANDARD_PRESSURE_PA, ONE_ATM_PA):
         raise UnitError(standard_pressure, "standard pressure", "use 1 bar (100000 Pa) or 1 atm")
     T = np.atleast_1d(np.asarray(T, dtype=float))
     if np.any(~np.isfinite(T)) or np.any(T <= 0):
@@ -106,8 +108,8 @@ def standard_properties(
             for i in np.nonzero(mask)[0]:
                 phases[i].append(sp.id)
     dn = rxn.gas_change(T)
-    if standard_pressure != ONE_BAR_PA:
-        dS = dS - dn * R * math.log(standard_pressure / ONE_BAR_PA)
+    if standard_pressure != STANDARD_PRESSURE_PA:
+        dS = dS - dn * R * math.log(standard_pressure / STANDARD_PRESSURE_PA)
     dG = dH - T * dS
     return StandardProperties(
         T, dH, dS, dG, dCp, dn, standard_pressure, tuple(tuple(p) for p in phases)
@@ -115,7 +117,7 @@ def standard_properties(
 
 
 def crossover_temperatures(
-    rxn: Reaction, T_min: float, T_max: float, standard_pressure: float = ONE_BAR_PA
+    rxn: Reaction, T_min: float, T_max: float, standard_pressure: float = STANDARD_PRESSURE_PA
 ) -> list[float]:
     """Temperatures in [T_min, T_max] where ΔrG°(T) = 0, by root-finding on the real function.
 
@@ -212,35 +214,6 @@ class Assessment:
         return out
 
 
-def read_temperatures(
-    T: Any, T_range: Any, points: int
-) -> tuple[np.ndarray, tuple[float, float] | None]:
-    """User temperatures in K: either ``T`` (one or several) or ``T_range`` over ``points``.
-
-    Returns the temperatures and the (low, high) range when one was given.
-    """
-    if (T is None) == (T_range is None):
-        raise UnitError(T, "temperature choice", "give either T or T_range, not both or neither")
-    if T is not None:
-        return np.atleast_1d(to_kelvin(T)).astype(float).ravel(), None
-    lo, hi = (float(np.squeeze(to_kelvin(x))) for x in T_range)
-    if not hi > lo:
-        raise UnitError(T_range, "temperature range", "the upper end must be above the lower")
-    if not isinstance(points, int) or isinstance(points, bool) or points < 2:
-        raise UnitError(points, "number of points", "need at least 2 temperatures")
-    return np.linspace(lo, hi, points), (lo, hi)
-
-
-def read_standard_pressure(standard_pressure: Any) -> float:
-    """The standard-state pressure in Pa: exactly 1 bar or 1 atm, nothing else."""
-    p = float(np.squeeze(to_pascal(standard_pressure)))
-    if math.isclose(p, ONE_BAR_PA):
-        return ONE_BAR_PA
-    if math.isclose(p, ONE_ATM_PA):
-        return ONE_ATM_PA
-    raise UnitError(standard_pressure, "standard pressure", "use 1 bar or 1 atm")
-
-
 def _reaction_quotient(
     rxn: Reaction, pressures: Mapping[str, float], standard_pressure: float, T: np.ndarray
 ) -> tuple[np.ndarray, list[str]]:
@@ -302,7 +275,7 @@ def assess(
     library = library or default_library()
     rxn = equation if isinstance(equation, Reaction) else Reaction.parse(equation, library, balance)
     p_std = read_standard_pressure(standard_pressure)
-    temps, _ = read_temperatures(T, T_range, points)
+    temps, _ = read_temperatures(T, T_range, points, "assess")
     crossover = estimate = None
     std = standard_properties(rxn, temps, p_std)
     notes: list[str] = []
@@ -318,9 +291,7 @@ def assess(
                 "The 298.15 K estimate ΔrH°/ΔrS° is not shown: 298.15 K is outside the "
                 "data range of at least one species."
             )
-    pressures: dict[str, float] = {}
-    for name, value in (partial_pressures or {}).items():
-        pressures[name] = float(np.squeeze(to_pascal(value)))
+    pressures = read_partial_pressures(partial_pressures)
     dG_actual = log10_Q = None
     assumed: list[str] = []
     if pressures:

@@ -19,12 +19,18 @@ from typing import Any
 import numpy as np
 from scipy import special
 
+from ..conditions import (
+    read_confidence,
+    read_partial_pressures,
+    read_standard_pressure,
+    read_temperatures,
+)
 from ..errors import InvalidUncertainty, UnitError
 from ..library.catalogue import Library, default_library
 from ..library.cp_models import R
-from ..thermo.assessment import _reaction_quotient, read_standard_pressure, read_temperatures
+from ..thermo.assessment import _reaction_quotient
 from ..thermo.reaction import Reaction
-from ..units import to_energy_per_mol, to_kelvin, to_pascal
+from ..units import to_energy_per_mol, to_kelvin
 from ._quantiles import row_statistics
 from .adaptive import (
     _ADAPTIVE_DIGITS,
@@ -77,14 +83,6 @@ def verdict(p: float, confidence: float) -> str:
     if p <= 1.0 - confidence:
         return VERDICTS[1]
     return VERDICTS[2]
-
-
-def _check_confidence(confidence: float) -> float:
-    if not isinstance(confidence, (int, float)) or not 0.5 < confidence < 1.0:
-        raise InvalidUncertainty(
-            f"confidence level {confidence!r} must lie between 0.5 and 1 (e.g. 0.95 for 95 %)"
-        )
-    return float(confidence)
 
 
 def _input_covariance(samples: SampleSet) -> np.ndarray:
@@ -496,15 +494,13 @@ def assess_uncertainty(
     >>> a.verdicts
     ['feasible']
     """
-    confidence = _check_confidence(confidence)
+    confidence = read_confidence(confidence, "assess_uncertainty")
     library = library or default_library()
     rxn = equation if isinstance(equation, Reaction) else Reaction.parse(equation, library, balance)
-    temps, crossing_range = read_temperatures(T, T_range, points)
+    temps, crossing_range = read_temperatures(T, T_range, points, "assess_uncertainty")
     p_std = read_standard_pressure(standard_pressure)
     thr_fn, thr_text = _threshold_fn(threshold, required_K)
-    pressures = {
-        name: float(np.squeeze(to_pascal(v))) for name, v in (partial_pressures or {}).items()
-    }
+    pressures = read_partial_pressures(partial_pressures)
     if pressures and required_K is not None:
         raise UnitError(
             required_K,

@@ -22,6 +22,7 @@ from typing import Any
 import numpy as np
 from scipy import special
 
+from ..conditions import STANDARD_PRESSURE_PA
 from ..errors import FeasiblyError, InvalidUncertainty
 from ..library.cp_models import T_REF, R
 from ..library.species import Species
@@ -148,7 +149,7 @@ def linear_model(
     rxn: Reaction,
     T: np.ndarray,
     samples: SampleSet,
-    standard_pressure: float = 1e5,
+    standard_pressure: float = STANDARD_PRESSURE_PA,
     lnQ: np.ndarray | None = None,
 ) -> LinearModel:
     """Coefficients of ΔrH°, ΔrS°, ΔrG° in the inputs of ``samples`` at temperatures ``T``.

@@ -1,0 +1,177 @@
+"""The one reader of the conditions a call is made at: temperatures, the standard-state pressure,
+partial pressures, total pressure with mole fractions, feeds, and the settings of a call
+(confidence level, number of points, trials).
+
+Every entry point (the kernel's functions, the command line, the widgets and the records) reads
+user conditions here, so "800 degC", ``(800, "degC")`` and ``Q_(800, "degC")`` mean the same
+everywhere and a bad value gets the same :class:`~feasibly.errors.InvalidInput` message
+everywhere. What comes out is plain SI floats (K, Pa, mol).
+
+>>> read_temperatures("25 degC", None, 12, "assess")[0].tolist()
+[298.15]
+>>> read_confidence(1.5, "assess_uncertainty")
+Traceback (most recent call last):
+...
+feasibly.errors.InvalidInput: The 'confidence' parameter of assess_uncertainty must be a \
+probability above 0.5 and below 1 (e.g. 0.95 for 95 %). Got 1.5 instead.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from collections.abc import Mapping
+from typing import Any
+
+import numpy as np
+
+from .errors import InvalidInput, UnitError
+from .units import to_kelvin, to_pascal
+
+__all__ = [
+    "ONE_ATM_PA",
+    "STANDARD_PRESSURE_PA",
+    "read_confidence",
+    "read_count",
+    "read_feed",
+    "read_partial_pressures",
+    "read_probability",
+    "read_standard_pressure",
+    "read_temperatures",
+]
+
+#: The standard-state pressure of feasibly's data (IUPAC: p° = 1 bar = 100 000 Pa).
+STANDARD_PRESSURE_PA = 100000.0
+#: The older standard-state pressure some tables use (1 atm = 101 325 Pa, exact by definition).
+ONE_ATM_PA = 101325.0
+
+
+def read_temperatures(
+    T: Any, T_range: Any, points: Any, function: str
+) -> tuple[np.ndarray, tuple[float, float] | None]:
+    """User temperatures in K: either ``T`` (one or several) or ``T_range`` over ``points``.
+
+    Returns the temperatures and the (low, high) range when one was given.
+    """
+    if T is None and T_range is None:
+        raise InvalidInput(
+            "T",
+            function,
+            "a temperature with a unit (e.g. '800 degC'), or give T_range = (low, high) instead",
+            None,
+        )
+    if T is not None and T_range is not None:
+        raise InvalidInput(
+            "T_range", function, "left out when T is given (give one of them)", T_range
+        )
+    if T is not None:
+        return np.atleast_1d(to_kelvin(T)).astype(float).ravel(), None
+    if not isinstance(T_range, (tuple, list)) or len(T_range) != 2:
+        raise InvalidInput(
+            "T_range", function, "two temperatures with units, e.g. ('600 K', '1000 K')", T_range
+        )
+    lo, hi = (float(np.squeeze(to_kelvin(x))) for x in T_range)
+    if not hi > lo:
+        raise InvalidInput("T_range", function, "(low, high) with high above low", T_range)
+    n = read_count(points, "points", function, minimum=2)
+    return np.linspace(lo, hi, n), (lo, hi)
+
+
+def read_standard_pressure(standard_pressure: Any) -> float:
+    """The standard-state pressure in Pa: exactly 1 bar or 1 atm, nothing else."""
+    if isinstance(standard_pressure, (int, float)) and standard_pressure in (
+        STANDARD_PRESSURE_PA,
+        ONE_ATM_PA,
+    ):
+        return float(standard_pressure)  # already in Pa, from inside the kernel
+    p = float(np.squeeze(to_pascal(standard_pressure)))
+    if math.isclose(p, STANDARD_PRESSURE_PA):
+        return STANDARD_PRESSURE_PA
+    if math.isclose(p, ONE_ATM_PA):
+        return ONE_ATM_PA
+    raise UnitError(standard_pressure, "standard pressure", "use 1 bar or 1 atm")
+
+
+def read_partial_pressures(pressures: Mapping[str, Any] | None) -> dict[str, float]:
+    """Partial pressures by species name, in Pa (each must carry a unit)."""
+    if pressures is None:
+        return {}
+    if not isinstance(pressures, Mapping):
+        raise InvalidInput(
+            "partial_pressures",
+            "",
+            "a mapping of species to pressures, e.g. {'CO2': '0.15 bar'}",
+            pressures,
+        )
+    return {str(name): float(np.squeeze(to_pascal(p))) for name, p in pressures.items()}
+
+
+def read_confidence(confidence: Any, function: str) -> float:
+    """A confidence level for a verdict: above 0.5 (so 'feasible' and 'not feasible' cannot both
+    hold) and below 1 (a Monte Carlo probability never proves certainty)."""
+    if (
+        isinstance(confidence, bool)
+        or not isinstance(confidence, (int, float, np.floating))
+        or not 0.5 < float(confidence) < 1.0
+    ):
+        raise InvalidInput(
+            "confidence",
+            function,
+            "a probability above 0.5 and below 1 (e.g. 0.95 for 95 %)",
+            confidence,
+        )
+    return float(confidence)
+
+
+def read_probability(value: Any, parameter: str, function: str) -> float:
+    """A probability level strictly between 0 and 1 (e.g. the level of a probability window)."""
+    if (
+        isinstance(value, bool)
+        or not isinstance(value, (int, float, np.floating))
+        or not 0.0 < float(value) < 1.0
+    ):
+        raise InvalidInput(parameter, function, "a probability above 0 and below 1", value)
+    return float(value)
+
+
+def read_count(value: Any, parameter: str, function: str, minimum: int = 1) -> int:
+    """A whole number of things (points, trials) of at least ``minimum``; text is refused."""
+    if isinstance(value, bool) or not isinstance(value, (int, np.integer)) or value < minimum:
+        raise InvalidInput(parameter, function, f"a whole number of at least {minimum}", value)
+    return int(value)
+
+
+def read_feed(feed: str | Mapping[str, Any]) -> dict[str, Any]:
+    """Feed amounts (mol, or any consistent amount) by species name.
+
+    Accepts ``"CH4:1, H2O:2, N2:0.5"`` or a mapping; amounts must be finite and ≥ 0 and at least
+    one must be positive.
+
+    >>> read_feed("CH4:1, H2O:3")
+    {'CH4': 1.0, 'H2O': 3.0}
+    """
+    if isinstance(feed, Mapping):
+        items = list(feed.items())
+    elif isinstance(feed, str):
+        items = []
+        for part in filter(None, (p.strip() for p in re.split(r"[,;]", feed))):
+            if ":" not in part:
+                raise UnitError(part, "feed amount", "write SPECIES:AMOUNT, e.g. 'CH4:1, H2O:2'")
+            name, value = part.rsplit(":", 1)
+            try:
+                items.append((name.strip(), float(value)))
+            except ValueError:
+                raise UnitError(part, "feed amount", "the amount must be a number") from None
+    else:
+        raise UnitError(feed, "feed", "give 'SPECIES:AMOUNT, …' or a mapping of amounts")
+    out: dict[str, Any] = {}
+    for name, value in items:
+        arr = np.asarray(value, dtype=float)
+        if not np.all(np.isfinite(arr)) or np.any(arr < 0):
+            raise UnitError(value, f"feed amount of {name}", "amounts must be finite and ≥ 0")
+        if name in out:
+            raise UnitError(name, "feed", "a species is named twice; give it once")
+        out[name] = float(arr) if arr.ndim == 0 else arr
+    if not out or all(np.all(np.asarray(v) == 0) for v in out.values()):
+        raise UnitError(feed, "feed", "the feed is empty; give at least one positive amount")
+    return out
