@@ -31,7 +31,7 @@ import feasibly
 import feasibly.equilibrium
 from feasibly.equilibrium import composition as se
 from feasibly.library.cp_models import R
-from feasibly.uncertainty.inputs import build_inputs, draw_samples
+from feasibly.uncertainty import build_inputs, draw_samples
 
 SPECIES = ["CH4(g)", "H2O(g)", "CO(g)", "CO2(g)", "H2(g)"]
 FEED = {"CH4(g)": 1.0, "H2O(g)": 2.0}

@@ -22,8 +22,7 @@ import timeit
 import numpy as np
 
 import feasibly
-from feasibly.uncertainty import _scan, assess_uncertainty
-from feasibly.uncertainty.inputs import build_inputs, draw_samples
+from feasibly.uncertainty import _scan, assess_uncertainty, build_inputs, draw_samples
 from feasibly.uncertainty.linear import linear_model, summarise
 
 EQUATION = "2 CH4(g) + O2(g) + CO2(g) -> 3 CO(g) + 3 H2(g) + H2O(g)"

@@ -60,13 +60,8 @@ from .records import (
     verify_record,
     write_record,
 )
-from .thermo.assessment import (
-    Assessment,
-    StandardProperties,
-    assess,
-    crossover_temperatures,
-    standard_properties,
-)
+from .thermo.assessment import Assessment, assess
+from .thermo.properties import StandardProperties, crossover_temperatures, standard_properties
 from .thermo.reaction import Reaction
 from .thermo.safety import Caution
 from .uncertainty import Route, UncertainAssessment, assess_route, assess_uncertainty

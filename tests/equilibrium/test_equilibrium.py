@@ -26,7 +26,7 @@ from feasibly.equilibrium.conversion import (
     equilibrium_extent,
 )
 from feasibly.errors import EquilibriumNotConverged
-from feasibly.uncertainty.inputs import build_inputs, draw_samples
+from feasibly.uncertainty import build_inputs, draw_samples
 from feasibly.uncertainty.linear import gum_uncertainty, linear_model, uncertain_species
 
 R = 8.314462618  # CODATA 2018 exact molar gas constant (from memory of the SI definition)

@@ -12,8 +12,7 @@ import pytest
 
 import feasibly
 from feasibly.uncertainty import _quantiles as _selection
-from feasibly.uncertainty import _scan
-from feasibly.uncertainty.inputs import build_inputs, draw_samples
+from feasibly.uncertainty import _scan, build_inputs, draw_samples
 from feasibly.uncertainty.linear import linear_model, summarise
 
 PROBS = (0.025, 0.5, 0.975)

@@ -24,7 +24,6 @@ from feasibly.uncertainty.inputs import (
     UncertainInput,
     build_inputs,
     correlation_matrix,
-    draw_samples,
     parse_override,
 )
 from feasibly.uncertainty.linear import (
@@ -35,6 +34,7 @@ from feasibly.uncertainty.linear import (
     shortest_interval,
     summarise,
 )
+from feasibly.uncertainty.sampling import draw_samples
 
 
 def additive_model(n_inputs: int) -> LinearModel:

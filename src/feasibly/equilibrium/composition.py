@@ -19,14 +19,9 @@ from ..library.catalogue import Library, default_library
 from ..library.cp_models import R
 from ..library.species import Species
 from ..thermo.reaction import Reaction, ReactionTerm, _resolve
-from ..uncertainty.inputs import (
-    Correlations,
-    Override,
-    build_inputs,
-    correlation_matrix,
-    draw_samples,
-)
+from ..uncertainty.inputs import Correlations, Override, build_inputs, correlation_matrix
 from ..uncertainty.linear import _deviation_rows, block_rows, uncertain_species
+from ..uncertainty.sampling import draw_samples
 from ._common import (
     _P_STD,
     BAND_PROBS,

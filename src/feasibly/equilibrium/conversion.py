@@ -28,16 +28,11 @@ from ..conditions import read_confidence, read_probability
 from ..errors import EquilibriumNotConverged, UnitError, UnknownSpecies
 from ..library.catalogue import Library, default_library
 from ..library.cp_models import R
-from ..thermo.assessment import standard_properties
+from ..thermo import standard_properties
 from ..thermo.reaction import Reaction, _resolve
-from ..uncertainty.inputs import (
-    Correlations,
-    Override,
-    build_inputs,
-    correlation_matrix,
-    draw_samples,
-)
+from ..uncertainty.inputs import Correlations, Override, build_inputs, correlation_matrix
 from ..uncertainty.linear import block_rows, level_window, linear_model, uncertain_species
+from ..uncertainty.sampling import draw_samples
 from ._common import (
     _P_STD,
     BAND_PROBS,

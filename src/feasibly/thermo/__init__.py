@@ -1,19 +1,20 @@
 """Reactions and their standard thermodynamics: equations, Δr quantities, K, crossovers, cautions.
 
 - :mod:`~feasibly.thermo.reaction` — equations: parse, check and find the balance, choose phases;
-- :mod:`~feasibly.thermo.assessment` — Δr quantities, K, crossover temperatures, ΔrG at the
-  conditions given;
+- :mod:`~feasibly.thermo.properties` — ΔrX°(T), K, crossover temperatures, the reaction quotient;
+- :mod:`~feasibly.thermo.assessment` — the unit-aware screen of one reaction at the conditions
+  given;
 - :mod:`~feasibly.thermo.safety` — plain-language cautions.
 
 Layer rule: imports :mod:`feasibly.library`, :mod:`feasibly.units` and
 :mod:`feasibly.conditions` below it; never uncertainty, equilibrium, records or widgets.
 """
 
-from .assessment import (
-    Assessment,
+from .assessment import Assessment, assess
+from .properties import (
     StandardProperties,
-    assess,
     crossover_temperatures,
+    reaction_quotient,
     standard_properties,
 )
 from .reaction import Reaction, ReactionTerm, parse_equation, split_phase_label
@@ -31,6 +32,7 @@ __all__ = [
     "cautions_for",
     "crossover_temperatures",
     "parse_equation",
+    "reaction_quotient",
     "split_phase_label",
     "standard_properties",
 ]

@@ -1,7 +1,7 @@
 """How sure is the call: uncertain inputs, draws, linear propagation, summaries and the verdict.
 
-- :mod:`~feasibly.uncertainty.inputs` — uncertain inputs, overrides, correlations, reproducible
-  draws;
+- :mod:`~feasibly.uncertainty.inputs` — uncertain inputs, overrides, correlations;
+- :mod:`~feasibly.uncertainty.sampling` — the call's reproducible, read-only draws;
 - :mod:`~feasibly.uncertainty.linear` — linear rows, Monte Carlo summaries, GUM result,
   sensitivity, windows;
 - :mod:`~feasibly.uncertainty.assessment` — the call: probability, verdict, window, sensitivity;
@@ -21,12 +21,9 @@ from .inputs import (
     Correlations,
     InputKey,
     Override,
-    SampleSet,
     UncertainInput,
     build_inputs,
     correlation_matrix,
-    draw_samples,
-    extend_samples,
     parse_override,
 )
 from .linear import (
@@ -39,6 +36,7 @@ from .linear import (
     window_phrase,
 )
 from .route import Route, assess_route
+from .sampling import SampleSet, draw_samples, extend_samples
 
 __all__ = [
     "ADAPTIVE_MAX_TRIALS",

@@ -11,8 +11,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .inputs import SampleSet, extend_samples
 from .linear import Summary, numerical_tolerance
+from .sampling import SampleSet, extend_samples
 
 __all__ = ["ADAPTIVE_MAX_TRIALS", "AdaptiveReport"]
 

@@ -28,7 +28,7 @@ from ..conditions import (
 from ..errors import InvalidUncertainty, UnitError
 from ..library.catalogue import Library, default_library
 from ..library.cp_models import R
-from ..thermo.assessment import _reaction_quotient
+from ..thermo import reaction_quotient
 from ..thermo.reaction import Reaction
 from ..units import to_energy_per_mol, to_kelvin
 from ._quantiles import row_statistics
@@ -40,16 +40,7 @@ from .adaptive import (
     _adaptive,
     _Progress,
 )
-from .inputs import (
-    Correlations,
-    InputKey,
-    Method,
-    Override,
-    SampleSet,
-    build_inputs,
-    correlation_matrix,
-    draw_samples,
-)
+from .inputs import Correlations, InputKey, Method, Override, build_inputs, correlation_matrix
 from .linear import (
     LinearModel,
     Summary,
@@ -64,6 +55,7 @@ from .linear import (
     uncertain_species,
     variance_shares,
 )
+from .sampling import SampleSet, draw_samples
 
 __all__ = [
     "VERDICTS",
@@ -147,7 +139,7 @@ class UncertainAssessment:
     def _model(self, T: np.ndarray) -> LinearModel:
         lnQ = None
         if self.partial_pressures_Pa:
-            lnQ, _ = _reaction_quotient(
+            lnQ, _ = reaction_quotient(
                 self.reaction, self.partial_pressures_Pa, self.standard_pressure, T
             )
         return linear_model(self.reaction, T, self.samples, self.standard_pressure, lnQ)
@@ -175,7 +167,7 @@ class UncertainAssessment:
         scale = -1.0 / (R * self.T * _LN10)
         shift = 0.0
         if self.partial_pressures_Pa:
-            lnQ, _ = _reaction_quotient(
+            lnQ, _ = reaction_quotient(
                 self.reaction, self.partial_pressures_Pa, self.standard_pressure, self.T
             )
             shift = R * self.T * lnQ
@@ -528,7 +520,7 @@ def assess_uncertainty(
         def one(s: SampleSet) -> Summary:
             lnQ = None
             if pressures:
-                lnQ, _ = _reaction_quotient(rxn, pressures, p_std, temps)
+                lnQ, _ = reaction_quotient(rxn, pressures, p_std, temps)
             return summarise(linear_model(rxn, temps, s, p_std, lnQ), s, "G", thr_fn(temps))
 
         drawn, report = _adaptive(drawn, one, block, max_trials, bar)

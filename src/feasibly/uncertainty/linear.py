@@ -28,7 +28,7 @@ from ..library.cp_models import T_REF, R
 from ..library.species import Species
 from ..thermo.reaction import Reaction
 from ._quantiles import block_rows, streamed_statistics
-from .inputs import SampleSet
+from .sampling import SampleSet
 
 __all__ = [
     "LinearModel",
@@ -156,7 +156,7 @@ def linear_model(
 
     Raises when the reaction uses a species-phase whose inputs the sample set does not hold.
     """
-    from ..thermo.assessment import standard_properties
+    from ..thermo import standard_properties
 
     T = np.atleast_1d(np.asarray(T, dtype=float))
     std = standard_properties(rxn, T, standard_pressure)

@@ -14,16 +14,9 @@ from ..library.catalogue import Library, default_library
 from ..thermo.reaction import Reaction
 from ..units import to_kelvin
 from .assessment import _threshold_fn
-from .inputs import (
-    Correlations,
-    Method,
-    Override,
-    SampleSet,
-    build_inputs,
-    correlation_matrix,
-    draw_samples,
-)
+from .inputs import Correlations, Method, Override, build_inputs, correlation_matrix
 from .linear import linear_model, route_probability, uncertain_species
+from .sampling import SampleSet, draw_samples
 
 __all__ = ["Route", "assess_route"]
 
