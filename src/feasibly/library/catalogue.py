@@ -20,6 +20,7 @@ from types import MappingProxyType
 from typing import Any
 
 from .._files import data_text
+from .._pickling import ProxyPickling
 from ..errors import DataFileError, FeasiblyError, UnknownSpecies
 from ._reader import (
     COVERAGE_DIVISORS,
@@ -45,7 +46,7 @@ def _norm(text: str) -> str:
     return re.sub(r"[\s_]+", " ", text.strip().lower())
 
 
-class Library:
+class Library(ProxyPickling):
     """An immutable set of species entries with look-up by id, formula, name and CAS."""
 
     def __init__(
@@ -69,6 +70,13 @@ class Library:
             self._by_cas.setdefault(sp.cas, []).append(sp) if sp.cas else None
             for name in sp.names:
                 self._by_name.setdefault(_norm(name), []).append(sp)
+
+    def __reduce__(self) -> Any:
+        # The shipped library travels as a reference checked by its content hash (a process pool
+        # or a cluster worker has it already); any other library travels whole.
+        if self is default_library():
+            return (_shipped_library, (self.content_hash,))
+        return super().__reduce__()
 
     # --- construction -------------------------------------------------------------------------
     @classmethod
@@ -228,3 +236,17 @@ def default_library() -> Library:
     species, meta = _read_species(_parse_document(data_text(name), name), name, "library", True)
     hazards = _read_hazards(data_text("hazard-flags.csv"))
     return Library(species, meta, hazards)
+
+
+def _shipped_library(content_hash: str) -> Library:
+    """The shipped library on the receiving side of a pickle, refused if its data differ."""
+    lib = default_library()
+    if lib.content_hash != content_hash:
+        raise DataFileError(
+            "species-library.json",
+            [
+                f"the sending process used species data {content_hash[:12]}…, this installation "
+                f"has {lib.content_hash[:12]}…; install the same feasibly version on every worker"
+            ],
+        )
+    return lib

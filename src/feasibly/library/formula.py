@@ -19,13 +19,14 @@ from types import MappingProxyType
 from typing import Any
 
 from .._files import data_text
+from .._pickling import ProxyPickling
 from ..errors import ReactionSyntaxError
 
 __all__ = ["ParsedFormula", "element_table", "parse_formula", "pretty_formula"]
 
 
 @dataclass(frozen=True)
-class ParsedFormula:
+class ParsedFormula(ProxyPickling):
     """Element counts and net charge of one formula."""
 
     text: str

@@ -13,6 +13,7 @@ from typing import Any
 
 import numpy as np
 
+from .._pickling import ProxyPickling
 from ..errors import OutsideDataRange
 from .cp_models import CpModel
 
@@ -29,7 +30,7 @@ _RANGE_SLACK = 1e-9
 
 
 @dataclass(frozen=True)
-class SourcedValue:
+class SourcedValue(ProxyPickling):
     """A number with its standard uncertainty and where both came from."""
 
     value: float
@@ -46,7 +47,7 @@ class SourcedValue:
 
 
 @dataclass(frozen=True, eq=False)
-class Species:
+class Species(ProxyPickling):
     """A species-phase entry of the data library (shipped or user-supplied)."""
 
     id: str

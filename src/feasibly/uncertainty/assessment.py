@@ -14,6 +14,7 @@ from __future__ import annotations
 import functools
 import math
 from collections.abc import Callable, Mapping, Sequence
+from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
@@ -429,6 +430,23 @@ def _ranked(keys: Sequence[InputKey], idx: np.ndarray) -> list[tuple[str, str, f
     return sorted(rows, key=lambda r: -r[2])
 
 
+@dataclass(frozen=True)
+class _Threshold:
+    """The criterion on ΔrG as a function of T: ``value − R·T·ln_K`` (J/mol).
+
+    A fixed threshold is ``value`` at every T; a required equilibrium constant K gives
+    ``−R·T·ln K``. A plain object rather than a closure, so results that hold it pickle.
+    """
+
+    value: float
+    ln_K: float | None = None
+
+    def __call__(self, T: np.ndarray) -> np.ndarray:
+        if self.ln_K is None:
+            return np.full(np.shape(T), self.value)
+        return -R * np.asarray(T, dtype=float) * self.ln_K
+
+
 def _threshold_fn(
     threshold: Any, required_K: Any
 ) -> tuple[Callable[[np.ndarray], np.ndarray], str]:
@@ -443,12 +461,11 @@ def _threshold_fn(
             ) from None
         if not k_req > 0 or not math.isfinite(k_req):
             raise UnitError(required_K, "required equilibrium constant", "must be positive")
-        ln_k = math.log(k_req)
-        return (lambda T: -R * np.asarray(T, dtype=float) * ln_k), f"K ≥ {k_req:g}"
+        return _Threshold(0.0, math.log(k_req)), f"K ≥ {k_req:g}"
     if threshold is None:
         threshold = "0 J/mol"
     value = float(np.squeeze(to_energy_per_mol(threshold)))
-    return (lambda T: np.full(np.shape(T), value)), f"ΔrG < {value / 1000:g} kJ/mol"
+    return _Threshold(value), f"ΔrG < {value / 1000:g} kJ/mol"
 
 
 def assess_uncertainty(
