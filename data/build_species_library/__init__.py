@@ -39,7 +39,7 @@ Modules, in dependency order (each imports only modules listed above it; :data:`
 - ``one_bar`` — the check that the gas entropies are on a 1 bar basis;
 - ``gaps`` — ``source-gaps.json``: ΔfH° from every source;
 - ``hazards`` — ``hazard-flags.csv``;
-- ``write`` — writing the four files (after the kernel has read the library) and the summary;
+- ``write`` — writing the four files (elements first; the library after the kernel has read it);
 - ``pipeline`` — the steps in run order: elements, NASA, Burcat, CRC, identifiers, reference
   states, ATcT, transitions, JANAF (1 bar check, matches), gaps, hazards, write.
 

@@ -15,7 +15,7 @@ from .nasa import build_nasa
 from .one_bar import check_one_bar
 from .reference_states import set_reference_states
 from .transitions import apply_transition_policy
-from .write import finish, summary, write_outputs
+from .write import finish, summary, write_elements, write_outputs
 
 # Fewer transition-chained entries than this means the neighbour rule stopped matching (today
 # the NASA condensed phases give well over a hundred).
@@ -25,6 +25,7 @@ MIN_CHAINED = 50
 def main() -> None:
     """Rebuild the four data files next to the build folder."""
     els = build_elements()
+    write_elements(els)  # now: the kernel's formula reader (transitions, write) reads it
     unmapped: list[str] = []
     entries = build_nasa(els, unmapped)
     keys = {(e["formula"], e["phase"], e["form"]) for e in entries}
@@ -57,5 +58,5 @@ def main() -> None:
 
     species = finish(entries)
     hazards_csv, n_hazards = build_hazards(species)
-    write_outputs(species, els, hazards_csv, one_bar, jmatch, gaps, unmapped)
+    write_outputs(species, hazards_csv, one_bar, jmatch, gaps, unmapped)
     summary(species, gaps, n_hazards, jmatch, one_bar, unmapped)

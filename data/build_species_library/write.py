@@ -1,8 +1,9 @@
 """Writing the four files, and the summary printed after a build.
 
-The library text is read back by the kernel (as a shipped library: schema, every entry, sources,
-policies, content hash) before anything is written, so a build that the kernel would refuse
-writes nothing.
+``elements.json`` is written first, as soon as it is built: the kernel's formula reader takes its
+element table from it. The library text is read by the kernel (as a shipped library: schema, every
+entry, sources, policies, content hash) before it is written, so a library the kernel would refuse
+is not written.
 """
 
 from __future__ import annotations
@@ -31,9 +32,21 @@ def finish(entries: list[Entry]) -> list[Entry]:
     return entries
 
 
+def write_elements(els: dict[str, dict[str, Any]], out: Path = OUT) -> None:
+    """Write elements.json. First of the four: the kernel's formula reader, which reads the
+    library before it is written, takes its element table from this file."""
+    ele = {
+        "source": f"chemicals {VERS['chemicals']} chemicals.elements.periodic_table (standard "
+        "atomic weights as carried by the package)",
+        "elements": {s: els[s] for s in sorted(els)},
+    }
+    (out / "elements.json").write_text(
+        json.dumps(ele, indent=1, ensure_ascii=True) + "\n", encoding="utf-8"
+    )
+
+
 def write_outputs(
     species: list[Entry],
-    els: dict[str, dict[str, Any]],
     hazards_csv: str,
     one_bar: dict[str, Any],
     jmatch: dict[str, str],
@@ -41,14 +54,9 @@ def write_outputs(
     unmapped: list[str],
     out: Path = OUT,
 ) -> None:
-    """Write species-library.json, elements.json, hazard-flags.csv and source-gaps.json."""
+    """Write species-library.json, hazard-flags.csv and source-gaps.json."""
     text = document_text(library_document(species))
     kernel_read(text, "species-library.json", shipped=True)
-    ele = {
-        "source": f"chemicals {VERS['chemicals']} chemicals.elements.periodic_table (standard "
-        "atomic weights as carried by the package)",
-        "elements": {s: els[s] for s in sorted(els)},
-    }
     sg = {
         "note": GAPS_NOTE,
         "one_bar_check": one_bar,
@@ -57,9 +65,6 @@ def write_outputs(
         "unmapped": sorted(unmapped),
     }
     (out / "species-library.json").write_text(text, encoding="utf-8")
-    (out / "elements.json").write_text(
-        json.dumps(ele, indent=1, ensure_ascii=True) + "\n", encoding="utf-8"
-    )
     (out / "hazard-flags.csv").write_text(hazards_csv, encoding="utf-8")
     (out / "source-gaps.json").write_text(
         json.dumps(sg, indent=1, ensure_ascii=True) + "\n", encoding="utf-8"
