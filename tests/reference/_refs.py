@@ -80,7 +80,7 @@ def janaf_dfG_interp(index: str, T: float) -> float:
 
 @cache
 def source_gaps() -> dict:
-    """``data/source-gaps.json`` (written by data/build_species_library.py)."""
+    """``data/source-gaps.json`` (written by the data build, ``data/build_species_library/``)."""
     return json.loads(SOURCE_GAPS.read_text("utf-8"))
 
 

@@ -1,6 +1,6 @@
 """The species data library: the shipped one and users' files, and look-up by id, formula, name.
 
-The shipped library (``species-library.json``, built by ``data/build_species_library.py``) and
+The shipped library (``species-library.json``, built by ``data/build_species_library/``) and
 user species files share one schema (``data/SCHEMA.md``). Loading checks every entry and reports
 every problem with its entry and field in one :class:`~feasibly.errors.DataFileError`. Files are
 read as plain JSON or TOML data; nothing in them is ever executed.

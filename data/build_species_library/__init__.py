@@ -1,0 +1,76 @@
+"""Rebuild feasibly's shipped species data library (schema ``feasibly-species``, version 1).
+
+Run from the repository root::
+
+    python data/build_species_library
+
+It rewrites ``data/species-library.json``, ``elements.json``, ``hazard-flags.csv`` and
+``source-gaps.json`` (see ``data/README.md`` and ``data/SCHEMA.md``). Build-time dependencies
+only, never run-time ones: cantera, chemicals, thermochem, janaf, pyyaml, numpy, plus feasibly's
+own run-time dependencies (the build uses the kernel's rules from the checkout's ``src``). Every
+source file is located through its installed package and each package's version is recorded in
+the ``sources`` block. The build stops with :class:`~.errors.SourceError` when a source file or
+a curation table is missing or has changed shape. Output is deterministic: same inputs, identical
+bytes.
+
+The curation tables (which species, which names, which uncertainty policies) are data, in
+``tables/*.toml``, each starting with a comment saying what it is and which module reads it.
+
+Modules, in dependency order (each imports only modules listed above it; :data:`MODULES`):
+
+- ``errors`` — :class:`SourceError`, the build's one failure;
+- ``tables`` — readers of ``tables/*.toml`` (tomllib only; no source package needed);
+- ``_kernel`` — the one place feasibly is imported: the kernel rules the build reuses;
+- ``sources`` — locating package files, versions, licences; the ``sources`` block;
+- ``policies`` — value blocks and the written uncertainty policies;
+- ``polynomials`` — NASA-7 H(298.15), S(298.15) as the build evaluates them;
+- ``formulas`` — spellings, compositions, Hill order, molar mass;
+- ``elements`` — ``elements.json`` from chemicals' periodic table;
+- ``entries`` — ids, common fields, the value blocks a polynomial gives;
+- ``document`` — the library document and its reading by the kernel;
+- ``nasa`` — NASA Glenn entries (Cantera's files);
+- ``burcat`` — Burcat entries (thermochem's file) for what NASA lacks;
+- ``crc`` — constant-Cp entries from the CRC 298.15 K table;
+- ``atct`` — ATcT tables: reading, and ΔfH° from them;
+- ``identifiers`` — CAS numbers and names;
+- ``reference_states`` — each element's reference state, ΔfH° = 0;
+- ``transitions`` — phases carried from a neighbour at a transition;
+- ``janaf_tables`` — NIST-JANAF tables and matching entries to them;
+- ``one_bar`` — the check that the gas entropies are on a 1 bar basis;
+- ``gaps`` — ``source-gaps.json``: ΔfH° from every source;
+- ``hazards`` — ``hazard-flags.csv``;
+- ``write`` — writing the four files (elements first; the library after the kernel has read it);
+- ``pipeline`` — the steps in run order: elements, NASA, Burcat, CRC, identifiers, reference
+  states, ATcT, transitions, JANAF (1 bar check, matches), gaps, hazards, write.
+
+``__main__`` sets ``sys.path`` (this package, the checkout's ``src``) and runs ``pipeline.main``.
+This package's ``__init__`` imports nothing, so the table readers can be imported (and tested)
+without the source packages.
+"""
+
+#: The build's modules in dependency order (a test checks every import points up this list).
+MODULES = (
+    "errors",
+    "tables",
+    "_kernel",
+    "sources",
+    "policies",
+    "polynomials",
+    "formulas",
+    "elements",
+    "entries",
+    "document",
+    "nasa",
+    "burcat",
+    "crc",
+    "atct",
+    "identifiers",
+    "reference_states",
+    "transitions",
+    "janaf_tables",
+    "one_bar",
+    "gaps",
+    "hazards",
+    "write",
+    "pipeline",
+)

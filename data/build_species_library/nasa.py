@@ -1,0 +1,133 @@
+"""NASA Glenn entries from Cantera's ``nasa_gas.yaml`` and ``nasa_condensed.yaml``.
+
+Names come from the curated tables ``nasa_gas.toml``, ``nasa_condensed.toml`` and
+``nasa_phase_labels.toml``; ``nasa_exceptions.toml`` lists species left out and charge fixes.
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Mapping
+from typing import Any
+
+import yaml
+
+from . import tables
+from .entries import Entry, base_entry, poly_entry
+from .errors import SourceError, need
+from .formulas import clean_elements, mech_formula
+from .polynomials import extend_300
+from .sources import cantera_file
+
+ION_NOTE = (
+    "ion: NASA/JANAF thermal-electron convention (the electron gas e-(g) is a "
+    "species with its own H and S; not the ion convention of ATcT/NBS)"
+)
+
+
+class _NoBoolSafeLoader(yaml.SafeLoader):
+    """Safe loader without YAML 1.1 booleans: species names such as NO, ON must stay strings."""
+
+
+_NoBoolSafeLoader.yaml_implicit_resolvers = {
+    k: [(tag, rx) for tag, rx in v if tag != "tag:yaml.org,2002:bool"]
+    for k, v in yaml.SafeLoader.yaml_implicit_resolvers.items()
+}
+
+
+def load_nasa(fname: str) -> list[dict[str, Any]]:
+    """The species of a Cantera NASA file, every one as NASA-7 (checked shape)."""
+    path = cantera_file(fname)
+    with open(path, encoding="utf-8") as f:
+        # A yaml.SafeLoader subclass (only the bool resolver removed): no object construction.
+        doc = yaml.load(f, Loader=_NoBoolSafeLoader)  # noqa: S506
+    sp = doc.get("species")
+    need(isinstance(sp, list) and len(sp) > 300, f"{fname}: species list changed")
+    for s in sp:
+        th = s.get("thermo", {})
+        if th.get("model") == "NASA9":
+            # A NASA-9 entry with a1 = a2 = 0 (the T^-2 and T^-1 Cp terms) is exactly a NASA-7
+            # entry with coefficients a3..a7, b1, b2: Cp, H and S expressions coincide term by term.
+            need(
+                all(len(c) == 9 and c[0] == 0.0 and c[1] == 0.0 for c in th["data"]),
+                f"{fname}: {s['name']}: NASA9 with non-zero a1/a2 cannot be written as NASA7",
+            )
+            th["data"] = [c[2:] for c in th["data"]]
+            th["model"] = "NASA7"
+            th["note"] = (
+                f"{th.get('note', '')} [NASA-9 with a1=a2=0 in the file, rewritten as NASA-7]"
+            ).strip()
+        need(th.get("model") == "NASA7", f"{fname}: {s.get('name')}: not NASA7")
+        tr, data = th.get("temperature-ranges"), th.get("data")
+        need(
+            len(tr) == len(data) + 1 and all(len(c) == 7 for c in data),
+            f"{fname}: {s['name']}: shape",
+        )
+    return sp
+
+
+def condensed_split(name: str) -> tuple[str, str]:
+    """``"CaCO3(caL)"`` -> ``("CaCO3", "caL")``: base name and phase label."""
+    m = re.match(r"^(.*)\(([^()]*)\)(,.*)?$", name)
+    if m is None:
+        raise SourceError(f"NASA condensed name {name} not understood")
+    return m.group(1), m.group(2)
+
+
+def build_nasa(els: Mapping[str, Any], notes_unmapped: list[str]) -> list[Entry]:
+    """Every usable NASA entry, gases first, in file order; left-out species go to
+    ``notes_unmapped``."""
+    gas_names = tables.nasa_gas()
+    cond_names = tables.nasa_condensed()
+    labels = tables.nasa_phase_labels()
+    exceptions = tables.nasa_exceptions()
+    entries = []
+    for fname, gas in (("nasa_gas.yaml", True), ("nasa_condensed.yaml", False)):
+        for s in load_nasa(fname):
+            name = s["name"]
+            if name in exceptions.skip:
+                notes_unmapped.append(f"NASA {name}: {exceptions.skip[name]}")
+                continue
+            elements, charge = clean_elements(s["composition"])
+            if name in exceptions.charge:
+                need(charge == 0, f"NASA {name}: composition now carries a charge; drop the fix")
+                charge = exceptions.charge[name]
+            if any(k not in els for k in elements):
+                notes_unmapped.append(
+                    f"NASA {name}: element symbol(s) {sorted(k for k in elements if k not in els)} "
+                    "not in the periodic table (deuterium)"
+                )
+                continue
+            th = s["thermo"]
+            breaks, coeffs = extend_300(th["temperature-ranges"]), th["data"]
+            note = str(th.get("note", "")).strip()
+            table_note = None
+            if gas:
+                if name in gas_names:
+                    formula, names, table_note = gas_names[name]
+                else:
+                    formula, names = mech_formula(name), ()
+                    need("," not in name, f"NASA gas {name}: isomer label without curated formula")
+                phase, form = "g", None
+            else:
+                base, label = condensed_split(name)
+                need(label in labels, f"NASA condensed {name}: unknown phase label {label}")
+                phase, form = labels[label]
+                if base in cond_names:
+                    formula, names, by_phase = cond_names[base]
+                    names = by_phase.get(phase, names)
+                else:
+                    formula, names = mech_formula(base), ()
+            e = base_entry(
+                formula, elements, charge, phase, form, names, (breaks[0], breaks[-1]), els
+            )
+            src_range = [float(t) for t in th["temperature-ranges"]]
+            poly_entry(e, "nasa-glenn", f"{fname} {name}", breaks, coeffs, src_range)
+            if note:
+                e["notes"].append(f"NASA data note: {note}")
+            if charge:
+                e["notes"].append(ION_NOTE)
+            if table_note:
+                e["notes"].append(table_note)
+            entries.append(e)
+    return entries
