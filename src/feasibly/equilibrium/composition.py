@@ -18,9 +18,9 @@ from ..errors import EquilibriumNotConverged, OutsideDataRange, UnitError, Unkno
 from ..library.catalogue import Library, default_library
 from ..library.cp_models import R
 from ..library.species import Species
-from ..thermo.reaction import Reaction, ReactionTerm, _resolve
+from ..thermo.reaction import Reaction, ReactionTerm, resolve_species
 from ..uncertainty.inputs import Correlations, Override, build_inputs, correlation_matrix
-from ..uncertainty.linear import _deviation_rows, block_rows, uncertain_species
+from ..uncertainty.linear import block_rows, deviation_rows, uncertain_species
 from ..uncertainty.sampling import draw_samples
 from ._common import (
     _P_STD,
@@ -66,7 +66,7 @@ def _species_set(species: str | Sequence[str | Species], library: Library) -> _S
             tokens.append(item.id)
         else:
             formula, phase, form = _split_label(item)
-            _, found = _resolve(library, formula, phase, form, item)
+            _, found = resolve_species(library, formula, phase, form, item)
             found = tuple(sp for sp in found if sp.phase in ("g", "l", "cr"))
             if not found:
                 raise UnknownSpecies(item, detail="Only gases and pure condensed phases are used.")
@@ -98,7 +98,7 @@ def _feed_elements(
         if match:
             sp = match[0]
         else:
-            sp = _resolve(library, formula, phase, form, name)[1][0]
+            sp = resolve_species(library, formula, phase, form, name)[1][0]
         for el, count in sp.elements.items():
             if el not in sset.elements:
                 raise UnknownSpecies(
@@ -328,7 +328,7 @@ def _species_rows(
             continue
         h = np.zeros((T.size, len(keys)))
         s = np.zeros((T.size, len(keys)))
-        _deviation_rows(sp, T[mask], pseudo, index, h, s, 1.0, mask)
+        deviation_rows(sp, T[mask], pseudo, index, h, s, 1.0, mask)
         out[:, j, :] = h - T[:, None] * s
     return out
 

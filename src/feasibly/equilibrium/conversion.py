@@ -29,7 +29,7 @@ from ..errors import EquilibriumNotConverged, UnitError, UnknownSpecies
 from ..library.catalogue import Library, default_library
 from ..library.cp_models import R
 from ..thermo import standard_properties
-from ..thermo.reaction import Reaction, _resolve
+from ..thermo.reaction import Reaction, resolve_species
 from ..uncertainty.inputs import Correlations, Override, build_inputs, correlation_matrix
 from ..uncertainty.linear import block_rows, level_window, linear_model, uncertain_species
 from ..uncertainty.sampling import draw_samples
@@ -115,7 +115,7 @@ def _reaction_inputs(
             n0[j] += float(amount)
             continue
         formula, phase, form = _split_label(name)
-        _, found = _resolve(rxn.library, formula, phase, form, name)
+        _, found = resolve_species(rxn.library, formula, phase, form, name)
         if any(sp.phase == "g" for sp in found):
             inert += float(amount)  # a condensed inert does not change any activity
     k = None

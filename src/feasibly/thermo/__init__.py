@@ -17,7 +17,7 @@ from .properties import (
     reaction_quotient,
     standard_properties,
 )
-from .reaction import Reaction, ReactionTerm, parse_equation, split_phase_label
+from .reaction import Reaction, ReactionTerm, parse_equation, resolve_species, split_phase_label
 from .safety import DEFERRAL, EXOTHERM_J_PER_G, Caution, cautions_for
 
 __all__ = [
@@ -33,6 +33,7 @@ __all__ = [
     "crossover_temperatures",
     "parse_equation",
     "reaction_quotient",
+    "resolve_species",
     "split_phase_label",
     "standard_properties",
 ]

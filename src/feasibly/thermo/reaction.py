@@ -30,7 +30,7 @@ from ..library.catalogue import Library, default_library
 from ..library.formula import parse_formula, pretty_formula
 from ..library.species import Species
 
-__all__ = ["Reaction", "ReactionTerm", "parse_equation", "split_phase_label"]
+__all__ = ["Reaction", "ReactionTerm", "parse_equation", "resolve_species", "split_phase_label"]
 
 _ARROW = re.compile(r"\s*(<=>|<->|⇌|->|→|=>|=)\s*")
 _PHASE_WORDS = {
@@ -153,7 +153,7 @@ def parse_equation(text: str) -> list[tuple[Fraction, str, str | None, str | Non
     return out
 
 
-def _resolve(
+def resolve_species(
     library: Library, formula: str, phase: str | None, form: str | None, text: str
 ) -> tuple[str, tuple[Species, ...]]:
     """Library entries a term may use, and the library's own formula text for it."""
@@ -252,7 +252,7 @@ class Reaction:
         raw = parse_equation(text)
         terms = []
         for coef, formula, phase, form, sign in raw:
-            lib_formula, candidates = _resolve(library, formula, phase, form, text)
+            lib_formula, candidates = resolve_species(library, formula, phase, form, text)
             terms.append(ReactionTerm(coef * sign, formula, lib_formula, phase, form, candidates))
         merged: dict[tuple[str, str | None, str | None], ReactionTerm] = {}
         for t in terms:

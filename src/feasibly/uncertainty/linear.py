@@ -32,11 +32,17 @@ from .sampling import SampleSet
 
 __all__ = [
     "LinearModel",
+    "Summary",
     "anchor_temperature",
+    "block_rows",
+    "deviation_rows",
+    "gum_uncertainty",
     "level_window",
     "linear_model",
     "numerical_tolerance",
     "summarise",
+    "uncertain_species",
+    "variance_shares",
     "window_phrase",
 ]
 
@@ -112,7 +118,7 @@ def uncertain_species(rxn: Reaction) -> list[Species]:
     return [seen[k] for k in sorted(seen)]
 
 
-def _deviation_rows(
+def deviation_rows(
     sp: Species,
     T: np.ndarray,
     rxn: Reaction,
@@ -142,7 +148,7 @@ def _deviation_rows(
     # Carried from its neighbour at the transition T_a: the own input is the transition
     # enthalpy's deviation, with ΔS_tr = ΔH_tr / T_a, plus the neighbour's deviation at T_a.
     out_s[mask, jH] += nu / t_a
-    _deviation_rows(parent, np.full(T.shape, t_a), rxn, keys, out_h, out_s, nu, mask)
+    deviation_rows(parent, np.full(T.shape, t_a), rxn, keys, out_h, out_s, nu, mask)
 
 
 def linear_model(
@@ -169,7 +175,7 @@ def linear_model(
         for k, sp in enumerate(term.candidates):
             mask = idx == k
             if np.any(mask):
-                _deviation_rows(sp, T[mask], rxn, keys, aH, aS, term.nu, mask)
+                deviation_rows(sp, T[mask], rxn, keys, aH, aS, term.nu, mask)
     aG = aH - T[:, None] * aS
     G0 = std.dG + (R * T * lnQ if lnQ is not None else 0.0)
     return LinearModel(T, std.dH, std.dS, G0, aH, aS, aG)

@@ -16,7 +16,7 @@ composable; each has one private observer, called once at construction and regis
 - :class:`RecordExport` — write the call on screen as a decision record and its HTML report;
 - :class:`FeasibilityWorksheet` — all of them wired together: ``FeasibilityWorksheet("A -> B")``.
 
-Architecture rule: widgets call the kernel (``feasibly.assess``, ``feasibly.confidence``,
+Layer rule: widgets call the kernel (``feasibly.assess``, ``feasibly.uncertainty``,
 ``Library.search``, ``Reaction.parse``) and :mod:`feasibly.figures`; they hold no thermodynamics,
 and the kernel never imports this package. Sampled arrays stay in the kernel: only summaries and
 binned counts reach the browser. Bad input shows the kernel's message inline and keeps the last
