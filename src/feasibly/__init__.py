@@ -1,27 +1,28 @@
 """feasibly: is this reaction thermodynamically feasible where we will run it, and how sure are we?
 
-The kernel (this package's top level) holds one job per module:
+The package is a house of wings. Each wing has a face (its ``__init__`` with ``__all__``) over
+public step modules and private solvers, and imports only the wings below it:
 
-- :mod:`feasibly.formula` — formula text → elements and charge, and display forms;
-- :mod:`feasibly.thermo_functions` — heat-capacity models (NASA 7-coefficient and friends);
-- :mod:`feasibly.species` and :mod:`feasibly.library` — species entries, the shipped data library,
-  user species files and look-up;
-- :mod:`feasibly.reaction` — equations: parse, check and find the balance, choose phases;
-- :mod:`feasibly.assessment` — Δr quantities, K, crossover temperatures, non-standard ΔrG;
-- :mod:`feasibly.uncertainty` — uncertain inputs, overrides, correlations, reproducible draws;
-- :mod:`feasibly.uncertainty.linear` — linear rows, Monte Carlo summaries, GUM result, sensitivity;
-- :mod:`feasibly.confidence` — the call: probability, verdict, window, routes;
-- :mod:`feasibly.equilibrium` — equilibrium extent and conversion, Gibbs minimisation, bands;
-- :mod:`feasibly.records` — reproducible decision records (JSON, HTML, Markdown) and verification;
-- :mod:`feasibly.safety` — plain-language cautions;
-- :mod:`feasibly.units` — pint at the edges, SI floats inside;
-- :mod:`feasibly.cli` — the ``feasibly`` command.
+====  ==========================================================================================
+1     :mod:`feasibly.errors` (every exception), ``_files`` (the shipped data files), ``_palette``
+2     :mod:`feasibly.units` (pint at the edges) · :mod:`feasibly.library` (formulas, heat-capacity
+      models, species entries, the shipped library and users' species files)
+3     :mod:`feasibly.conditions` — the one reader of temperatures, pressures, feeds and settings
+4     :mod:`feasibly.thermo` — equations, ΔrX°(T), K, crossovers, the screen of one reaction,
+      cautions
+5     :mod:`feasibly.uncertainty` — uncertain inputs, draws, linear propagation, summaries, the
+      call with its probability, routes
+6     :mod:`feasibly.equilibrium` (extent, conversion, Gibbs minimisation) ·
+      :mod:`feasibly.figures` (pure functions from results to plotly figures)
+7     :mod:`feasibly.records` — decision records: build, write, read, verify, report
+8     :mod:`feasibly.cli` (the ``feasibly`` command) · :mod:`feasibly.widgets` (the notebook
+      worksheet; install the ``widgets`` extra)
+9     this face: the names a user needs, importable as ``feasibly.X``
+====  ==========================================================================================
 
-Beside the kernel: :mod:`feasibly.figures` (pure functions from results to plotly figures) and
-:mod:`feasibly.widgets` (notebook views and their state; install the ``widgets`` extra).
-
-Architecture rule: the kernel never imports ``feasibly.widgets`` or ``feasibly.figures``; widgets
-call the kernel and the figure builders.
+Layer rule: a wing imports its own modules and the wings on lower levels only, and never a
+``_private`` name of another wing; the kernel (levels 1–7 without figures) never loads widget or
+plotting code. ``tests/test_layers.py`` checks both.
 """
 
 from .__about__ import __version__
