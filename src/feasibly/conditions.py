@@ -35,9 +35,14 @@ __all__ = [
     "read_count",
     "read_feed",
     "read_partial_pressures",
+    "read_pressure",
     "read_probability",
     "read_standard_pressure",
+    "read_states",
+    "read_temperature",
+    "read_temperature_list",
     "read_temperatures",
+    "read_temperatures_as_given",
 ]
 
 #: The standard-state pressure of feasibly's data (IUPAC: p° = 1 bar = 100 000 Pa).
@@ -65,7 +70,7 @@ def read_temperatures(
             "T_range", function, "left out when T is given (give one of them)", T_range
         )
     if T is not None:
-        return np.atleast_1d(to_kelvin(T)).astype(float).ravel(), None
+        return read_temperature_list(T), None
     if not isinstance(T_range, (tuple, list)) or len(T_range) != 2:
         raise InvalidInput(
             "T_range", function, "two temperatures with units, e.g. ('600 K', '1000 K')", T_range
@@ -75,6 +80,48 @@ def read_temperatures(
         raise InvalidInput("T_range", function, "(low, high) with high above low", T_range)
     n = read_count(points, "points", function, minimum=2)
     return np.linspace(lo, hi, n), (lo, hi)
+
+
+def read_temperature(value: Any) -> float:
+    """Exactly one temperature, in K (``"800 degC"``, ``(800, "degC")``, a pint quantity)."""
+    kelvin = np.atleast_1d(to_kelvin(value)).astype(float).ravel()
+    if kelvin.size != 1:
+        raise UnitError(value, "temperature", f"give one temperature here, not {kelvin.size}")
+    return float(kelvin[0])
+
+
+def read_temperature_list(value: Any) -> np.ndarray:
+    """One or several temperatures, in K, as a flat float array."""
+    return read_temperatures_as_given(value)[0]
+
+
+def read_temperatures_as_given(value: Any) -> tuple[np.ndarray, bool]:
+    """Temperatures in K as a flat float array, and whether a single temperature was given (so
+    a caller can answer one value with one row and a list with a list)."""
+    kelvin = np.asarray(to_kelvin(value), dtype=float)
+    return np.atleast_1d(kelvin).ravel(), kelvin.ndim == 0
+
+
+def read_pressure(value: Any) -> float:
+    """Exactly one pressure, in Pa."""
+    pascal = np.atleast_1d(to_pascal(value)).astype(float).ravel()
+    if pascal.size != 1:
+        raise UnitError(value, "pressure", f"give one pressure here, not {pascal.size}")
+    return float(pascal[0])
+
+
+def read_states(T: Any, P: Any) -> tuple[np.ndarray, np.ndarray]:
+    """Temperatures and pressures of a set of states, broadcast to one length (K, Pa).
+
+    One pressure for all temperatures, one temperature for all pressures, or one of each per
+    state.
+    """
+    T_K = read_temperature_list(T)
+    P_Pa = np.atleast_1d(to_pascal(P)).astype(float).ravel()
+    if P_Pa.size not in (1, T_K.size) and T_K.size != 1:
+        raise UnitError(P, "pressure", f"give one pressure or one per temperature ({T_K.size})")
+    size = max(T_K.size, P_Pa.size)
+    return np.broadcast_to(T_K, size).copy(), np.broadcast_to(P_Pa, size).copy()
 
 
 def read_standard_pressure(standard_pressure: Any) -> float:
@@ -103,7 +150,7 @@ def read_partial_pressures(pressures: Mapping[str, Any] | None) -> dict[str, flo
             "a mapping of species to pressures, e.g. {'CO2': '0.15 bar'}",
             pressures,
         )
-    return {str(name): float(np.squeeze(to_pascal(p))) for name, p in pressures.items()}
+    return {str(name): read_pressure(p) for name, p in pressures.items()}
 
 
 def read_confidence(confidence: Any, function: str) -> float:

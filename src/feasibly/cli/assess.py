@@ -11,14 +11,12 @@ from collections.abc import Sequence
 from pathlib import Path
 from typing import Any
 
-import numpy as np
-
+from ..conditions import read_pressure
 from ..equilibrium import conversion_assessment, parse_feed
 from ..errors import InvalidInput, UnitError
 from ..records import record_from, write_record
 from ..thermo import assess
 from ..uncertainty import assess_uncertainty, parse_override
-from ..units import to_pascal
 from ._terminal import (
     EXIT_OK,
     _library,
@@ -59,7 +57,7 @@ def _cmd_assess(args: argparse.Namespace) -> int:
             raise UnitError(
                 " ".join(args.y[0]), "mole fraction", "give the total pressure with --P"
             )
-        total = float(np.squeeze(to_pascal(_quantity_text(args.P, "pressure"))))
+        total = read_pressure(_quantity_text(args.P, "pressure"))
         for name, value in _pressure_pairs(args.y, "mole fraction").items():
             try:
                 y = float(value)

@@ -2,14 +2,8 @@
 
 from __future__ import annotations
 
-from typing import Any
-
-import numpy as np
-
 from ..conditions import STANDARD_PRESSURE_PA, read_feed
-from ..errors import UnitError
 from ..thermo.reaction import split_phase_label
-from ..units import to_kelvin, to_pascal
 
 __all__ = ["BAND_PROBS", "parse_feed"]
 
@@ -25,15 +19,6 @@ _P_STD = STANDARD_PRESSURE_PA
 def _split_label(text: str) -> tuple[str, str | None, str | None]:
     """Formula, phase and form of a species written with an optional label (the parser's rule)."""
     return split_phase_label(text)
-
-
-def _kelvin_pascal(T: Any, P: Any) -> tuple[np.ndarray, np.ndarray]:
-    T_K = np.atleast_1d(to_kelvin(T)).astype(float).ravel()
-    P_Pa = np.atleast_1d(to_pascal(P)).astype(float).ravel()
-    if P_Pa.size not in (1, T_K.size) and T_K.size != 1:
-        raise UnitError(P, "pressure", f"give one pressure or one per temperature ({T_K.size})")
-    size = max(T_K.size, P_Pa.size)
-    return np.broadcast_to(T_K, size).copy(), np.broadcast_to(P_Pa, size).copy()
 
 
 def _fmt_state(T: float, P: float) -> str:

@@ -14,6 +14,7 @@ from typing import Any
 
 import numpy as np
 
+from ..conditions import read_states
 from ..errors import EquilibriumNotConverged, OutsideDataRange, UnitError, UnknownSpecies
 from ..library.catalogue import Library, default_library
 from ..library.cp_models import R
@@ -26,7 +27,6 @@ from ._common import (
     _P_STD,
     BAND_PROBS,
     _fmt_state,
-    _kelvin_pascal,
     _split_label,
     parse_feed,
 )
@@ -368,7 +368,7 @@ def equilibrate(
     """
     library = library or default_library()
     sset = _species_set(species, library)
-    T_K, P_Pa = _kelvin_pascal(T, P)
+    T_K, P_Pa = read_states(T, P)
     if (feed is None) == (elements is None):
         raise UnitError(feed, "feed", "give either a feed or element totals, not both or neither")
     if feed is not None:

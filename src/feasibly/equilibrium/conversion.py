@@ -24,7 +24,7 @@ from typing import Any
 
 import numpy as np
 
-from ..conditions import read_confidence, read_probability
+from ..conditions import read_confidence, read_probability, read_states
 from ..errors import EquilibriumNotConverged, UnitError, UnknownSpecies
 from ..library.catalogue import Library, default_library
 from ..library.cp_models import R
@@ -37,7 +37,6 @@ from ._common import (
     _P_STD,
     BAND_PROBS,
     _fmt_state,
-    _kelvin_pascal,
     _split_label,
     parse_feed,
 )
@@ -198,7 +197,7 @@ def equilibrium_extent(
     """
     library = library or default_library()
     rxn = reaction if isinstance(reaction, Reaction) else Reaction.parse(reaction, library, balance)
-    T_K, P_Pa = _kelvin_pascal(T, P)
+    T_K, P_Pa = read_states(T, P)
     amounts = {k: float(np.squeeze(v)) for k, v in parse_feed(feed).items()}
     nu, gas, n0, inert, k = _reaction_inputs(rxn, amounts, key, T_K)
     ln_k = -standard_properties(rxn, T_K).dG / (R * T_K)

@@ -18,6 +18,7 @@ from typing import Any
 import numpy as np
 
 from .. import __about__
+from ..conditions import read_temperature
 from ..errors import RecordError, UnbalancedReaction
 from ..library.catalogue import Library
 from ..library.cp_models import R
@@ -307,9 +308,7 @@ def record_from(
         raise RecordError("record_from", problems)
     t_sens = float(a.standard.T[len(a.standard.T) // 2])
     if sensitivity_at is not None:
-        from ..units import to_kelvin
-
-        t_sens = float(np.squeeze(to_kelvin(sensitivity_at)))
+        t_sens = read_temperature(sensitivity_at)
     rxn = a.reaction
     record: dict[str, Any] = {
         "schema": SCHEMA_MARK,

@@ -24,14 +24,16 @@ from ..conditions import (
     read_confidence,
     read_partial_pressures,
     read_standard_pressure,
+    read_temperature,
     read_temperatures,
+    read_temperatures_as_given,
 )
 from ..errors import InvalidUncertainty, UnitError
 from ..library.catalogue import Library, default_library
 from ..library.cp_models import R
 from ..thermo import reaction_quotient
 from ..thermo.reaction import Reaction
-from ..units import to_energy_per_mol, to_kelvin
+from ..units import to_energy_per_mol
 from ._quantiles import row_statistics
 from .adaptive import (
     _ADAPTIVE_DIGITS,
@@ -183,12 +185,12 @@ class UncertainAssessment:
 
     def at(self, T: Any) -> dict[str, Any]:
         """The summary at other temperature(s) (with units), from the kept draws, no re-sampling."""
-        temps = np.atleast_1d(to_kelvin(T)).astype(float).ravel()
+        temps, single = read_temperatures_as_given(T)
         model = self._model(temps)
         thr = self._threshold(temps)
         g = summarise(model, self.samples, "G", thr)
         rows = [_dg_row(g, i, float(t), self.confidence) for i, t in enumerate(temps)]
-        return rows[0] if np.ndim(to_kelvin(T)) == 0 else {"rows": rows}
+        return rows[0] if single else {"rows": rows}
 
     def samples_at(self, T: float) -> np.ndarray:
         """The N sampled ΔrG values (J/mol) at one temperature in K."""
@@ -262,7 +264,7 @@ class UncertainAssessment:
         Each row: species id, quantity (dHf, S298, cp), share (fractions summing to 1), and the
         input's standard uncertainty and source. Inputs with no share are left out.
         """
-        temps = np.atleast_1d(to_kelvin(T)).astype(float)[:1]
+        temps = np.array([read_temperature(T)])
         shares = variance_shares(self._model(temps), _input_covariance(self.samples))[0]
         rows: list[dict[str, Any]] = []
         for inp, share in zip(self.samples.inputs, shares, strict=True):
@@ -293,7 +295,7 @@ class UncertainAssessment:
         Estimated from the kept draws (correlation ratio, no extra model runs); ranked, largest
         first, inputs with index 0 left out.
         """
-        t = float(np.atleast_1d(to_kelvin(T))[0])
+        t = read_temperature(T)
         keys = self.samples.keys
         out: dict[str, list[tuple[str, str, float]]] = {}
         y = (self.samples_at(t) < float(self._threshold(np.array([t]))[0])).astype(float)
@@ -342,7 +344,7 @@ class UncertainAssessment:
 
     def shortest_interval(self, T: Any) -> tuple[float, float]:
         """Shortest 95 % coverage interval of ΔrG at one temperature (JCGM 101 §7.7.2), J/mol."""
-        return shortest_interval(self.samples_at(float(np.atleast_1d(to_kelvin(T))[0])))
+        return shortest_interval(self.samples_at(read_temperature(T)))
 
     # --- output ---------------------------------------------------------------------------------
     def rows(self) -> list[dict[str, Any]]:

@@ -9,10 +9,10 @@ from typing import Any
 
 import numpy as np
 
+from ..conditions import read_temperature
 from ..errors import FeasiblyError
 from ..library.catalogue import Library, default_library
 from ..thermo.reaction import Reaction
-from ..units import to_kelvin
 from .assessment import _threshold_fn
 from .inputs import Correlations, Method, Override, build_inputs, correlation_matrix
 from .linear import linear_model, route_probability, uncertain_species
@@ -68,7 +68,7 @@ def assess_route(
     thr_fn, _ = _threshold_fn(threshold, None)
     models, thrs, temps = [], [], []
     for rxn, t in rxns:
-        tk = float(np.squeeze(to_kelvin(t)))
+        tk = read_temperature(t)
         models.append(linear_model(rxn, np.array([tk]), drawn))
         thrs.append(float(thr_fn(np.array([tk]))[0]))
         temps.append(tk)

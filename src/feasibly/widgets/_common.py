@@ -5,8 +5,8 @@ from __future__ import annotations
 import html
 from typing import Any
 
+from ..conditions import read_temperature
 from ..figures import TEMPERATURE_UNITS, from_kelvin
-from ..units import to_kelvin
 
 __all__ = ["TEMPERATURE_UNITS", "error_html", "fmt_T", "kelvin", "note_html", "shown"]
 
@@ -44,7 +44,7 @@ def shown(T_K: float, unit: str) -> float:
 
 def kelvin(value: Any, unit: str) -> float:
     """A number typed in a display unit, in K, through the kernel's unit handling (may raise)."""
-    return float(to_kelvin((float(value), TEMPERATURE_UNITS[unit])))
+    return read_temperature((float(value), TEMPERATURE_UNITS[unit]))
 
 
 def fmt_T(T_K: float, unit: str = "K") -> str:

@@ -7,8 +7,8 @@ from typing import Any
 import ipywidgets as w
 from traitlets import Dict, List, Unicode
 
+from ..conditions import read_pressure
 from ..errors import FeasiblyError, UnitError
-from ..units import to_pascal
 from ._common import error_html, note_html
 
 __all__ = ["Conditions"]
@@ -75,7 +75,7 @@ class Conditions(w.VBox):
         for gas, box in self._boxes.items():
             box.value = self.entries.get(gas, "")
         try:
-            total = float(to_pascal(self.total_pressure))
+            total = read_pressure(self.total_pressure)
             out: dict[str, float] = {}
             for gas, text in self.entries.items():
                 text = str(text).strip()
@@ -84,7 +84,7 @@ class Conditions(w.VBox):
                 try:
                     y = float(text)
                 except ValueError:
-                    out[gas] = float(to_pascal(text))
+                    out[gas] = read_pressure(text)
                     continue
                 if not 0 < y <= 1:
                     raise UnitError(text, f"mole fraction of {gas}", "must lie in (0, 1]")

@@ -8,11 +8,11 @@ import ipywidgets as w
 import numpy as np
 from traitlets import Float, Instance, Int, List, Tuple, Unicode
 
+from ..conditions import read_temperature
 from ..errors import FeasiblyError
 from ..library.catalogue import Library, default_library
 from ..thermo.reaction import Reaction
 from ..uncertainty import assess_uncertainty
-from ..units import to_kelvin
 from ._common import error_html, note_html
 from .conditions import Conditions
 from .conversion import ConversionTarget
@@ -34,7 +34,7 @@ _POINTS = 41
 
 
 def _kelvin(x: Any) -> float:
-    return float(to_kelvin(x))
+    return read_temperature(x)
 
 
 class FeasibilityWorksheet(w.VBox):
