@@ -26,7 +26,7 @@ from ._palette import OKABE_ITO
 from .thermo.safety import DEFERRAL, cautions_for
 from .uncertainty import UncertainAssessment
 from .uncertainty.linear import summarise
-from .units import Q_
+from .units import TEMPERATURE_UNITS, from_kelvin
 
 __all__ = [
     "PALETTE",
@@ -47,7 +47,6 @@ __all__ = [
 #: Okabe & Ito (2008), "Color Universal Design": safe for deuteranopia, protanopia, tritanopia.
 PALETTE = OKABE_ITO
 #: Display units of temperature and their pint spelling.
-TEMPERATURE_UNITS = {"K": "K", "°C": "degC", "°F": "degF"}
 # 68 % is the one-standard-deviation band of a normal output (68.27 %, rounded as usually quoted).
 _INNER_COVERAGE = 0.68
 # Histogram bins: ~√N would be 140 at N = 20 000; 40 keep each bar readable at panel width.
@@ -55,14 +54,6 @@ _BINS = 40
 # Variance shares shown: the largest eight; the rest are summed into one bar.
 _TOP_SHARES = 8
 _QUANTITY_LABEL = {"dHf": "ΔfH°", "S298": "S°", "cp": "Cp"}
-
-
-def from_kelvin(T_K: Any, unit: str) -> np.ndarray:
-    """Temperatures in K shown in a display unit ("K", "°C" or "°F")."""
-    if unit not in TEMPERATURE_UNITS:
-        raise ValueError(f"temperature unit {unit!r}: use one of {', '.join(TEMPERATURE_UNITS)}")
-    q = Q_(np.asarray(T_K, dtype=float), "K")
-    return np.asarray(q.to(TEMPERATURE_UNITS[unit]).magnitude, dtype=float)
 
 
 @dataclass(frozen=True)

@@ -1,7 +1,8 @@
 """Units at the edges: user quantities in, plain SI floats out (and back for display).
 
 Inside the kernel every number is a float or float array in SI (K, Pa, J/mol, J/(mol·K)). This
-module is the only place that turns text or pint Quantities into those floats. A bare number is
+module is the only place that turns text or pint Quantities into those floats, and back into
+the display units people read (K, °C, °F). A bare number is
 refused wherever its unit would be a guess (temperatures, pressures, energies).
 """
 
@@ -16,7 +17,15 @@ import pint
 
 from .errors import InvalidTemperature, UnitError
 
-__all__ = ["Q_", "to_energy_per_mol", "to_kelvin", "to_pascal", "ureg"]
+__all__ = [
+    "Q_",
+    "TEMPERATURE_UNITS",
+    "from_kelvin",
+    "to_energy_per_mol",
+    "to_kelvin",
+    "to_pascal",
+    "ureg",
+]
 
 
 @cache
@@ -110,3 +119,21 @@ def to_energy_per_mol(value: Any) -> np.ndarray:
         return np.asarray(q.to("J/mol").magnitude, dtype=float)
     except pint.errors.DimensionalityError:
         raise UnitError(value, "molar energy", f"{q.units} is not an energy per amount") from None
+
+
+#: Display units of temperature offered in figures, widgets and reports, with their pint names.
+TEMPERATURE_UNITS = {"K": "K", "°C": "degC", "°F": "degF"}
+
+
+def from_kelvin(T_K: Any, unit: str) -> np.ndarray:
+    """Temperatures in K shown in a display unit ("K", "°C" or "°F").
+
+    >>> from_kelvin([273.15, 373.15], "°C").tolist()
+    [0.0, 100.0]
+    """
+    if unit not in TEMPERATURE_UNITS:
+        raise UnitError(
+            unit, "display unit of temperature", f"use one of {', '.join(TEMPERATURE_UNITS)}"
+        )
+    q = Q_(np.asarray(T_K, dtype=float), "K")
+    return np.asarray(q.to(TEMPERATURE_UNITS[unit]).magnitude, dtype=float)

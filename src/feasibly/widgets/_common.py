@@ -6,7 +6,7 @@ import html
 from typing import Any
 
 from ..conditions import read_temperature
-from ..figures import TEMPERATURE_UNITS, from_kelvin
+from ..units import TEMPERATURE_UNITS, from_kelvin
 
 __all__ = ["TEMPERATURE_UNITS", "error_html", "fmt_T", "kelvin", "note_html", "shown"]
 
