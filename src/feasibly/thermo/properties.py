@@ -17,7 +17,7 @@ from ..conditions import (
     ONE_ATM_PA,
     STANDARD_PRESSURE_PA,
 )
-from ..errors import FeasiblyError, UnitError
+from ..errors import InvalidTemperature, UnitError
 from ..library.cp_models import R
 from .reaction import Reaction
 
@@ -83,7 +83,7 @@ def standard_properties(
         raise UnitError(standard_pressure, "standard pressure", "use 1 bar (100000 Pa) or 1 atm")
     T = np.atleast_1d(np.asarray(T, dtype=float))
     if np.any(~np.isfinite(T)) or np.any(T <= 0):
-        raise FeasiblyError("temperatures must be finite and above 0 K")
+        raise InvalidTemperature(T, "temperatures must be finite and above 0 K")
     plan = rxn.phase_plan(T)
     dH = np.zeros(T.shape)
     dS = np.zeros(T.shape)

@@ -23,7 +23,7 @@ import numpy as np
 from scipy import special
 
 from ..conditions import STANDARD_PRESSURE_PA
-from ..errors import FeasiblyError, InvalidUncertainty
+from ..errors import InvalidInput, InvalidUncertainty
 from ..library.cp_models import T_REF, R
 from ..library.species import Species
 from ..thermo.reaction import Reaction
@@ -132,9 +132,12 @@ def deviation_rows(
     try:
         jH, jS, jc = keys[(sp.id, "dHf")], keys[(sp.id, "S298")], keys[(sp.id, "cp")]
     except KeyError:
-        raise FeasiblyError(
-            f"the sample set has no draws for {sp.id}; draw samples for every "
-            "species of the reactions you compare"
+        raise InvalidInput(
+            "samples",
+            "linear_model",
+            f"a sample set with draws for {sp.id} (draw samples for every species of the "
+            "reactions you compare)",
+            f"a sample set of {len(keys) // 3} species without it",
         ) from None
     t_a = anchor_temperature(sp)
     ta = np.array([t_a])
@@ -455,7 +458,12 @@ def route_probability(
     ok = np.ones(samples.n, dtype=bool)
     for m, thr in zip(models, thresholds, strict=True):
         if m.T.size != 1:
-            raise FeasiblyError("each step of a route is evaluated at one temperature")
+            raise InvalidInput(
+                "models",
+                "route_probability",
+                "one temperature per step",
+                f"{m.T.size} temperatures",
+            )
         ok &= m.values("G", samples)[0] < thr
     p = float(ok.mean())
     return p, math.sqrt(p * (1 - p) / samples.n)

@@ -10,7 +10,7 @@ from typing import Any
 import numpy as np
 
 from ..conditions import read_temperature
-from ..errors import FeasiblyError
+from ..errors import InvalidInput
 from ..library.catalogue import Library, default_library
 from ..thermo.reaction import Reaction
 from .assessment import _threshold_fn
@@ -60,7 +60,9 @@ def assess_route(
     library = library or default_library()
     rxns = [(s if isinstance(s, Reaction) else Reaction.parse(s, library), t) for s, t in steps]
     if not rxns:
-        raise FeasiblyError("a route needs at least one step")
+        raise InvalidInput(
+            "steps", "assess_route", "at least one (equation, temperature) step", steps
+        )
     species = {sp.id: sp for rxn, _ in rxns for sp in uncertain_species(rxn)}
     inputs = build_inputs(species.values(), overrides)
     corr = correlation_matrix(inputs, correlations)

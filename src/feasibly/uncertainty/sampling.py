@@ -10,7 +10,7 @@ import numpy as np
 from scipy import special
 from scipy.stats import qmc
 
-from ..errors import FeasiblyError, InvalidUncertainty
+from ..errors import InvalidInput, InvalidUncertainty
 from .inputs import InputKey, Method, UncertainInput
 
 __all__ = ["SampleSet", "draw_samples", "extend_samples"]
@@ -111,7 +111,13 @@ def draw_samples(
     if seed is not None and (not isinstance(seed, (int, np.integer)) or seed < 0):
         raise InvalidUncertainty(f"seed {seed!r}: use a non-negative integer")
     if not inputs:
-        raise FeasiblyError("nothing to sample: the calculation has no uncertain inputs")
+        raise InvalidUncertainty(
+            "inputs",
+            "draw_samples",
+            "at least one uncertain input (every species here has exact values, so there is "
+            "nothing to sample; the call needs no Monte Carlo)",
+            [],
+        )
     rng = np.random.default_rng(seed)
     z = _normal_draws(rng, int(n), len(inputs), method)
     x = _transform(inputs, z, correlation)
@@ -124,7 +130,12 @@ def extend_samples(samples: SampleSet, n: int) -> SampleSet:
     Sobol blocks are independent scrambles, so blocks stay independent as §7.9 requires.
     """
     if samples.rng is None:
-        raise FeasiblyError("these samples carry no generator to draw further blocks from")
+        raise InvalidInput(
+            "samples",
+            "extend_samples",
+            "a sample set drawn by draw_samples, which carries its generator",
+            f"a sample set of {samples.n} trials without one",
+        )
     z = _normal_draws(samples.rng, n, len(samples.inputs), samples.method)
     x = _transform(samples.inputs, z, samples.correlation)
     return SampleSet(
