@@ -28,6 +28,9 @@ WITH_EXAMPLES = {
     "feasibly.equilibrium.conversion",
     "feasibly.equilibrium.composition",
     "feasibly.records.build",
+    "feasibly.thermo.energy",
+    "feasibly.heat.duty",
+    "feasibly.heat.adiabatic",
 }
 README = Path(__file__).resolve().parents[1] / "README.md"
 

@@ -14,14 +14,15 @@ public step modules and private solvers, and imports only the wings below it:
       call with its probability, routes
 6     :mod:`feasibly.equilibrium` (extent, conversion, Gibbs minimisation) ·
       :mod:`feasibly.figures` (pure functions from results to plotly figures)
-7     :mod:`feasibly.records` — decision records: build, write, read, verify, report
-8     :mod:`feasibly.cli` (the ``feasibly`` command) · :mod:`feasibly.widgets` (the notebook
+7     :mod:`feasibly.heat` — heat duty and adiabatic temperature with their intervals
+8     :mod:`feasibly.records` — decision records: build, write, read, verify, report
+9     :mod:`feasibly.cli` (the ``feasibly`` command) · :mod:`feasibly.widgets` (the notebook
       worksheet; install the ``widgets`` extra)
-9     this face: the names a user needs, importable as ``feasibly.X``
+10    this face: the names a user needs, importable as ``feasibly.X``
 ====  ==========================================================================================
 
 Layer rule: a wing imports its own modules and the wings on lower levels only, and never a
-``_private`` name of another wing; the kernel (levels 1–7 without figures) never loads widget or
+``_private`` name of another wing; the kernel (levels 1–8 without figures) never loads widget or
 plotting code. ``tests/test_layers.py`` checks both.
 """
 

@@ -12,6 +12,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..errors import OutsideDataRange
 from ..library.catalogue import Library
 from .reaction import Reaction
 
@@ -57,9 +58,10 @@ def cautions_for(rxn: Reaction, T: np.ndarray, dH: np.ndarray, library: Library)
                 Caution(
                     "strongly exothermic",
                     f"Strongly exothermic: about {per_gram:,.0f} J released per gram of reactants "
-                    f"(ΔrH° = {worst / 1000:,.1f} kJ/mol at {T[k]:.0f} K). Undiluted, this heat "
-                    "can raise the temperature by hundreds of kelvin and drive runaway or "
-                    "decomposition.",
+                    f"(ΔrH° = {worst / 1000:,.1f} kJ/mol at {T[k]:.0f} K). "
+                    + _adiabatic_phrase(rxn, float(T[k]))
+                    + " Runaway or decomposition can follow; refer the step to process-safety "
+                    "review.",
                     f"-ΔrH°/m(reactants) = {per_gram:.0f} J/g ≥ {EXOTHERM_J_PER_G:.0f} J/g",
                 )
             )
@@ -90,3 +92,36 @@ def cautions_for(rxn: Reaction, T: np.ndarray, dH: np.ndarray, library: Library)
                 )
             )
     return out
+
+
+#: Above this the products of combustion-like steps dissociate appreciably, so a complete-
+#: conversion temperature overstates what is reached (common practice, no source).
+_DISSOCIATION_K = 2500.0
+
+
+def _adiabatic_phrase(rxn: Reaction, T: float) -> str:
+    """The adiabatic temperature of the undiluted stoichiometric mixture fed at ``T`` and fully
+    converted, in words (the number a runaway approaches with no cooling and no dilution)."""
+    from .energy import adiabatic_temperature, reaction_streams, stream_enthalpy
+
+    feed = {t.label(): -t.nu for t in rxn.terms if t.nu < 0}
+    try:
+        inlet, outlet = reaction_streams(rxn, feed, 1.0)
+        T_ad = adiabatic_temperature(outlet, float(stream_enthalpy(inlet, T)[0]))
+    except OutsideDataRange as exc:
+        return (
+            f"Fed undiluted at {T:.0f} K and fully converted with no heat removed, the products "
+            f"would pass {exc.T_max:.0f} K, the upper end of their data."
+        )
+    if T_ad > _DISSOCIATION_K:
+        return (
+            f"Fed undiluted at {T:.0f} K and fully converted with no heat removed, the products "
+            f"would pass {_DISSOCIATION_K:.0f} K (complete conversion gives {T_ad:.0f} K, an "
+            "overestimate: that hot, products dissociate or boil and the reaction stops short)."
+        )
+    return (
+        f"Fed undiluted at {T:.0f} K and fully converted with no heat removed, the products "
+        f"would reach about {T_ad:.0f} K (a rise of {T_ad - T:.0f} K; dilution, partial "
+        "conversion and heat loss lower it; feasibly.heat.adiabatic_temperature gives it with "
+        "its interval)."
+    )

@@ -29,10 +29,12 @@ from .inputs import (
 from .linear import (
     LinearModel,
     anchor_temperature,
+    deviation_rows,
     level_window,
     linear_model,
     numerical_tolerance,
     summarise,
+    uncertain_species,
     window_phrase,
 )
 from .route import Route, assess_route
@@ -56,6 +58,7 @@ __all__ = [
     "assess_uncertainty",
     "build_inputs",
     "correlation_matrix",
+    "deviation_rows",
     "draw_samples",
     "extend_samples",
     "level_window",
@@ -63,6 +66,7 @@ __all__ = [
     "numerical_tolerance",
     "parse_override",
     "summarise",
+    "uncertain_species",
     "verdict",
     "window_phrase",
 ]

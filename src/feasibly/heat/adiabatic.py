@@ -1,0 +1,150 @@
+"""Adiabatic temperature of a step with its uncertainty: how hot the products get when the heat
+of reaction stays in the stream (no heat removed), at full or a given conversion, with the feed's
+inerts and excess reactants taking their share.
+
+For each draw of the data the energy balance Σ n_out·H°(T_ad) = Σ n_in·H°(T_in) is solved for
+T_ad by bisection (H°(T) of a stream rises monotonically, with upward jumps at phase changes),
+all draws at once. This is the upper bound a runaway approaches when the step is fast and
+cooling fails; it says nothing of rate, and no decision about safety rests on it alone.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from ..conditions import read_feed, read_temperature
+from ..errors import InvalidInput, OutsideDataRange
+from ..library import Library, default_library
+from ..thermo import Reaction
+from ..thermo.energy import adiabatic_temperature as _nominal_adiabatic
+from ..thermo.energy import reaction_streams, stream_enthalpy, term_index
+from ..uncertainty import UncertainAssessment
+from .duty import (
+    _limiting_extent,
+    amounts_of,
+    enthalpy_rows,
+    read_conversion_choice,
+    stream_samples,
+)
+
+__all__ = ["AdiabaticTemperature", "adiabatic_temperature"]
+
+#: Coverage of the reported interval (JCGM 101:2008 §7.7).
+_COVERAGE = 0.95
+#: Bisection halvings for the draws: 2⁻⁶⁰ of a bracket of a few thousand K is far below 1e-9 K.
+_HALVINGS = 60
+
+
+@dataclass
+class AdiabaticTemperature:
+    """The outlet temperature with no heat exchanged (K), its 95 % interval and draws."""
+
+    equation: str
+    T_feed_K: float
+    conversion: float
+    extent: float
+    T_K: float
+    interval: tuple[float, float] | None = None
+    draws: np.ndarray | None = field(default=None, repr=False)
+    rise_K: float = 0.0
+    notes: list[str] = field(default_factory=list)
+
+    def to_dict(self) -> dict[str, Any]:
+        """Plain JSON-ready data."""
+        out: dict[str, Any] = {
+            "equation": self.equation,
+            "T_feed_K": self.T_feed_K,
+            "conversion": self.conversion,
+            "extent_mol": self.extent,
+            "adiabatic_T_K": self.T_K,
+            "temperature_rise_K": self.rise_K,
+            "notes": list(self.notes),
+        }
+        if self.interval is not None:
+            out["adiabatic_T_K_interval_95"] = list(self.interval)
+        return out
+
+
+def adiabatic_temperature(
+    equation: str | Reaction,
+    feed: str | Mapping[str, Any],
+    T_feed: Any,
+    *,
+    conversion: Any = 1.0,
+    key: str | None = None,
+    samples: int | None = None,
+    seed: int | None = None,
+    call: UncertainAssessment | None = None,
+    library: Library | None = None,
+) -> AdiabaticTemperature:
+    """Adiabatic outlet temperature of a step whose feed enters at ``T_feed``.
+
+    ``conversion`` is the fraction of ``key`` (default: of the limiting reactant) converted.
+
+    >>> a = adiabatic_temperature("CH4 + 2 O2 -> CO2 + 2 H2O", "CH4:1, O2:2, N2:7.52", "298.15 K")
+    >>> round(a.T_K)  # methane in air, complete combustion, no dissociation
+    2326
+    """
+    if call is not None:
+        library, rxn = call.library, call.reaction
+    else:
+        library = library or default_library()
+        rxn = equation if isinstance(equation, Reaction) else Reaction.parse(equation, library)
+    t_in = read_temperature(T_feed)
+    amounts = {k: float(np.squeeze(v)) for k, v in read_feed(feed).items()}
+    choice = read_conversion_choice(conversion)
+    if choice == "equilibrium":
+        raise InvalidInput(
+            "conversion",
+            "adiabatic_temperature",
+            "a fraction above 0 and at most 1 (the equilibrium case couples T and extent and is "
+            "not solved here)",
+            conversion,
+        )
+    x = float(choice)
+    if key is None:
+        extent = x * _limiting_extent(rxn, amounts)
+    else:
+        j = term_index(rxn, key)
+        if j is None or rxn.terms[j].nu >= 0:
+            raise InvalidInput("key", "adiabatic_temperature", "a reactant of the equation", key)
+        extent = x * amounts_of(rxn, amounts)[j] / -rxn.terms[j].nu
+    inlet, outlet = reaction_streams(rxn, amounts, extent)
+    h_in = float(stream_enthalpy(inlet, t_in)[0])
+    T_ad = _nominal_adiabatic(outlet, h_in)
+    result = AdiabaticTemperature(rxn.equation(), t_in, x, extent, T_ad, rise_K=T_ad - t_in)
+    result.notes.append(
+        "No heat lost, no dissociation beyond the stated conversion: an upper bound for a fast "
+        "step whose cooling fails, not a prediction of what a reactor does."
+    )
+    entries = [sp for it in inlet + outlet if it.amount for sp in it.candidates]
+    drawn = stream_samples(rxn, entries, samples=samples, seed=seed, call=call)
+    if drawn is None:
+        return result
+    x_draws = drawn.values  # (inputs, N)
+    target = h_in + enthalpy_rows(rxn, inlet, t_in, drawn)[0] @ x_draws
+    lo_T = max(min(sp.T_range[0] for sp in it.candidates) for it in outlet if it.amount)
+    hi_T = min(max(sp.T_range[1] for sp in it.candidates) for it in outlet if it.amount)
+    a = np.full(drawn.n, lo_T)
+    b = np.full(drawn.n, hi_T)
+
+    def h_out(T: np.ndarray) -> np.ndarray:
+        rows = enthalpy_rows(rxn, outlet, T, drawn)
+        return stream_enthalpy(outlet, T) + np.einsum("ij,ji->i", rows, x_draws)
+
+    if np.any(h_out(a) > target) or np.any(h_out(b) < target):
+        raise OutsideDataRange("the outlet stream in some draws of the data", T_ad, lo_T, hi_T)
+    for _ in range(_HALVINGS):
+        mid = 0.5 * (a + b)
+        below = h_out(mid) < target
+        a = np.where(below, mid, a)
+        b = np.where(below, b, mid)
+    values = 0.5 * (a + b)
+    q = np.quantile(values, [(1 - _COVERAGE) / 2, (1 + _COVERAGE) / 2])
+    result.interval = (float(q[0]), float(q[1]))
+    result.draws = values
+    return result

@@ -1,0 +1,168 @@
+"""Heat duty and adiabatic temperature: balances, units of the per-kg figures, phase changes on
+the way, intervals from the draws, and refusals. Outside references are in
+tests/reference/test_heat_vs_references.py."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+
+import feasibly
+from feasibly.errors import InvalidInput, OutsideDataRange
+from feasibly.heat import adiabatic_temperature, heat_duty
+from feasibly.thermo import Reaction
+from feasibly.thermo.energy import reaction_streams, stream_enthalpy
+
+CALCINE = "CaCO3 -> CaO + CO2"
+BURN = "CH4 + 2 O2 -> CO2 + 2 H2O"
+
+
+def test_duty_is_out_minus_in_and_per_kg_figures_follow() -> None:
+    d = heat_duty(CALCINE, "1173 K", "CaCO3:2", T_feed="298.15 K")
+    lib = feasibly.default_library()
+    calcite = Reaction.parse(CALCINE).terms[0].candidates[0]
+    h_in = 2 * calcite.enthalpy(298.15)
+    h_out = 2 * (lib["CaO(cr)"].enthalpy(1173.0) + lib["CO2(g)"].enthalpy(1173.0))
+    assert d.J == pytest.approx(float(h_out - h_in), rel=1e-12)
+    assert d.extent == 2.0
+    assert d.J_per_mol_reaction == pytest.approx(d.J / 2)
+    # per kg of CaO formed (56.077 g/mol) and per kg of CaCO3 fed (100.087 g/mol)
+    assert d.product == "CaO"
+    assert d.J_per_kg_product == pytest.approx(d.J / (2 * lib["CaO(cr)"].molar_mass / 1000))
+    assert d.J_per_kg_feed == pytest.approx(d.J / (2 * calcite.molar_mass / 1000))
+
+
+def test_feed_at_reaction_temperature_gives_the_reaction_enthalpy() -> None:
+    d = heat_duty(CALCINE, "1000 K", "CaCO3:1")
+    a = feasibly.assess(CALCINE, T="1000 K")
+    assert d.J_per_mol_reaction == pytest.approx(float(a.standard.dH[0]), rel=1e-12)
+
+
+def test_inerts_and_excess_take_sensible_heat_only() -> None:
+    lean = heat_duty(BURN, "600 K", "CH4:1, O2:3, N2:10", T_feed="298.15 K")
+    rich = heat_duty(BURN, "600 K", "CH4:1, O2:2", T_feed="298.15 K")
+    lib = feasibly.default_library()
+    extra = lib["O2(g)"].enthalpy(600.0) - lib["O2(g)"].enthalpy(298.15)
+    extra += 10 * (lib["N2(g)"].enthalpy(600.0) - lib["N2(g)"].enthalpy(298.15))
+    assert lean.J - rich.J == pytest.approx(float(extra), rel=1e-9)
+
+
+def test_water_condensing_on_the_way_is_in_the_duty() -> None:
+    """Products leaving at 350 K hold liquid water (stable below 373 K at 1 bar): the duty is
+    lower than with water forced to stay gas by about 2 × ΔvapH (≈ 41–44 kJ/mol each)."""
+    liquid = heat_duty(BURN, "350 K", "CH4:1, O2:2", T_feed="350 K")
+    gas = heat_duty("CH4 + 2 O2 -> CO2 + 2 H2O(g)", "350 K", "CH4:1, O2:2", T_feed="350 K")
+    gap = (gas.J - liquid.J) / 2
+    assert 40e3 < gap < 45e3  # ΔvapH of water between 298 and 373 K (common knowledge range)
+
+
+def test_given_conversion_and_key() -> None:
+    full = heat_duty(BURN, "600 K", "CH4:1, O2:4", T_feed="298.15 K")
+    half = heat_duty(BURN, "600 K", "CH4:1, O2:4", T_feed="298.15 K", conversion="50%", key="CH4")
+    assert half.extent == pytest.approx(0.5)
+    assert full.extent == pytest.approx(1.0)  # CH4 limits: O2 is in excess
+
+
+def test_equilibrium_conversion_nominal() -> None:
+    d = heat_duty("CO + H2O -> CO2 + H2", "1000 K", "CO:1, H2O:1", conversion="equilibrium")
+    x = feasibly.equilibrium_extent("CO + H2O -> CO2 + H2", "1000 K", "1 bar", "CO:1, H2O:1")
+    assert d.extent == pytest.approx(float(x.extent[0]), rel=1e-12)
+
+
+def test_interval_from_draws_matches_the_linear_law() -> None:
+    """The duty is linear in the inputs: the Monte Carlo mean is the nominal value within
+    4 standard errors, and the 95 % interval is ±1.96 u of a normal (normal inputs)."""
+    n = 40_000
+    d = heat_duty(CALCINE, "1173 K", "CaCO3:1", T_feed="298.15 K", samples=n, seed=11)
+    assert d.draws is not None and d.interval is not None
+    u = d.draws.std(ddof=1)
+    assert abs(d.draws.mean() - d.J_per_mol_reaction) < 4 * u / math.sqrt(n)
+    lo, hi = d.interval
+    # the 2.5 % and 97.5 % quantiles of N(μ, u²), within 4 standard errors of a quantile
+    se_q = math.sqrt(0.025 * 0.975 / n) / 0.0584 * u  # 0.0584 = normal density at 1.96
+    assert lo == pytest.approx(d.J_per_mol_reaction - 1.959964 * u, abs=4 * se_q)
+    assert hi == pytest.approx(d.J_per_mol_reaction + 1.959964 * u, abs=4 * se_q)
+
+
+def test_duty_uses_the_call_draws() -> None:
+    call = feasibly.assess_uncertainty(CALCINE, T="1173 K", samples=4096, seed=3)
+    a = heat_duty(CALCINE, "1173 K", "CaCO3:1", T_feed="298.15 K", call=call)
+    b = heat_duty(CALCINE, "1173 K", "CaCO3:1", T_feed="298.15 K", call=call)
+    assert a.draws is not None and b.draws is not None
+    np.testing.assert_array_equal(a.draws, b.draws)
+    # Feed and products at the reaction T: the duty is ΔrH of the same draws as the call.
+    same_t = heat_duty(CALCINE, "1173 K", "CaCO3:1", call=call)
+    assert same_t.draws is not None
+    np.testing.assert_allclose(
+        same_t.draws, call.model.values("H", call.samples)[0], rtol=1e-12, atol=1e-6
+    )
+
+
+def test_inerts_outside_the_call_are_drawn_reproducibly() -> None:
+    call = feasibly.assess_uncertainty(BURN, T="600 K", samples=2048, seed=8)
+    a = heat_duty(BURN, "600 K", "CH4:1, O2:2, N2:7.52", T_feed="298.15 K", call=call)
+    b = heat_duty(BURN, "600 K", "CH4:1, O2:2, N2:7.52", T_feed="298.15 K", call=call)
+    np.testing.assert_array_equal(a.draws, b.draws)
+
+
+def test_adiabatic_balance_closes() -> None:
+    a = adiabatic_temperature(BURN, "CH4:1, O2:2, N2:7.52", "298.15 K")
+    rxn = Reaction.parse(BURN)
+    inlet, outlet = reaction_streams(rxn, {"CH4": 1, "O2": 2, "N2": 7.52}, 1.0)
+    h_in = stream_enthalpy(inlet, 298.15)[0]
+    # 1 J: the bisection stops within ~1e-4 K, times the outlet's heat capacity (~0.5 kJ/K)
+    assert stream_enthalpy(outlet, a.T_K)[0] == pytest.approx(h_in, abs=1.0)
+    assert a.rise_K == pytest.approx(a.T_K - 298.15)
+
+
+def test_adiabatic_draws_bracket_the_nominal() -> None:
+    a = adiabatic_temperature(BURN, "CH4:1, O2:2, N2:7.52", "298.15 K", samples=8192, seed=2)
+    assert a.interval is not None and a.draws is not None
+    assert a.interval[0] < a.T_K < a.interval[1]
+    assert abs(np.median(a.draws) - a.T_K) < 10.0  # near-linear: median within a few K
+
+
+def test_more_inert_means_cooler() -> None:
+    air = adiabatic_temperature(BURN, "CH4:1, O2:2, N2:7.52", "298.15 K")
+    diluted = adiabatic_temperature(BURN, "CH4:1, O2:2, N2:20", "298.15 K")
+    assert diluted.T_K < air.T_K
+
+
+@pytest.mark.parametrize(
+    ("call", "fragment"),
+    [
+        (lambda: heat_duty(CALCINE, "1173 K", "CaCO3:1", conversion=1.5), "'conversion'"),
+        (lambda: heat_duty(CALCINE, "1173 K", "CaCO3:1", conversion="most"), "'conversion'"),
+        (
+            lambda: heat_duty(CALCINE, "1173 K", "CaCO3:1", conversion="equilibrium", samples=99),
+            "equilibrium solve per draw",
+        ),
+        (lambda: heat_duty(CALCINE, "1173 K", "CaCO3:1", key="CO2"), "'key'"),
+        (lambda: heat_duty(CALCINE, "1173 K", "CaCO3:1", product="CaCO3"), "'product'"),
+        (lambda: heat_duty(CALCINE, "1173 K", "CaO:1"), "'feed'"),
+        (lambda: heat_duty(CALCINE, "1173 K", "CaCO3:1", T_feed={"CO2": "300 K"}), "T_feed"),
+        (lambda: heat_duty(CALCINE, 1173, "CaCO3:1"), "bare number"),
+        (
+            lambda: adiabatic_temperature(
+                BURN, "CH4:1, O2:2", "298.15 K", conversion="equilibrium"
+            ),
+            "'conversion'",
+        ),
+    ],
+)
+def test_refusals_name_the_problem(call, fragment: str) -> None:
+    with pytest.raises(feasibly.FeasiblyError, match=fragment):
+        call()
+
+
+def test_beyond_the_data_range_is_refused() -> None:
+    """Pure oxygen with hydrogen runs past the data's upper limit: refused with the range."""
+    with pytest.raises(OutsideDataRange):
+        adiabatic_temperature("2 H2 + O2 -> 2 H2O", "H2:2, O2:1", "3000 K")
+
+
+def test_invalid_input_is_the_family() -> None:
+    with pytest.raises(InvalidInput):
+        heat_duty(CALCINE, "1173 K", "CaCO3:1", conversion=0)
