@@ -31,6 +31,7 @@ WITH_EXAMPLES = {
     "feasibly.thermo.energy",
     "feasibly.heat.duty",
     "feasibly.heat.adiabatic",
+    "feasibly.comparison.formation",
 }
 README = Path(__file__).resolve().parents[1] / "README.md"
 

@@ -34,6 +34,7 @@ LEVELS: dict[str, int] = {
     "equilibrium": 6,
     "figures": 6,
     "heat": 7,
+    "comparison": 7,
     "records": 8,
     "batch": 8,
     "cli": 9,

@@ -14,7 +14,8 @@ public step modules and private solvers, and imports only the wings below it:
       call with its probability, routes
 6     :mod:`feasibly.equilibrium` (extent, conversion, Gibbs minimisation) ·
       :mod:`feasibly.figures` (pure functions from results to plotly figures)
-7     :mod:`feasibly.heat` — heat duty and adiabatic temperature with their intervals
+7     :mod:`feasibly.heat` (heat duty and adiabatic temperature with their intervals) ·
+      :mod:`feasibly.comparison` (formation lines on one scale: the Ellingham diagram)
 8     :mod:`feasibly.records` — decision records: build, write, read, verify, report
 9     :mod:`feasibly.cli` (the ``feasibly`` command) · :mod:`feasibly.widgets` (the notebook
       worksheet; install the ``widgets`` extra)

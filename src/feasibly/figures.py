@@ -37,6 +37,7 @@ __all__ = [
     "cautions",
     "curves",
     "feasibility_figure",
+    "formation_figure",
     "from_kelvin",
     "route_figure",
     "snapshot",
@@ -557,4 +558,99 @@ def route_figure(routes: Sequence[tuple[str, Sequence[float], float, float]]) ->
             marker={"color": PALETTE["orange"], "pattern": {"shape": "/"}},
         )
     )
+    return fig
+
+
+def formation_figure(lines: Any, temperature_unit: str = "K") -> Any:
+    """Formation lines (the Ellingham diagram) of a :class:`~feasibly.comparison.FormationLines`:
+    top, ΔrG° per mole of reagent with the 95 % band of each line and its phase changes marked;
+    below, for oxides, the CO/CO2 (solid) and H2/H2O (dashed) ratio each reduction needs, on a
+    log scale — where a line sits below the reductant's own, that gas reduces the oxide there.
+    """
+    import plotly.graph_objects as go
+    from plotly.subplots import make_subplots
+
+    colours = [PALETTE[k] for k in ("blue", "vermillion", "green", "orange", "purple", "sky")]
+    x = from_kelvin(lines.T, temperature_unit).tolist()
+    rows = 2 if lines.ratios else 1
+    fig = make_subplots(
+        rows=rows,
+        cols=1,
+        shared_xaxes=True,
+        vertical_spacing=0.08,
+        row_heights=[0.62, 0.38][:rows] if rows == 2 else [1.0],
+    )
+    for i, label in enumerate(lines.labels):
+        colour = colours[i % len(colours)]
+        y = (lines.G[i] / 1000).tolist()
+        if lines.bands is not None:
+            lo = (lines.bands[0, i] / 1000).tolist()
+            hi = (lines.bands[-1, i] / 1000).tolist()
+            fig.add_trace(
+                go.Scatter(
+                    x=x + x[::-1],
+                    y=hi + lo[::-1],
+                    fill="toself",
+                    fillcolor=colour,
+                    opacity=0.18,
+                    line={"width": 0},
+                    hoverinfo="skip",
+                    showlegend=False,
+                    name=f"{label} 95 %",
+                ),
+                row=1,
+                col=1,
+            )
+        fig.add_trace(
+            go.Scatter(x=x, y=y, name=label, mode="lines", line={"color": colour, "width": 2.5}),
+            row=1,
+            col=1,
+        )
+        for species, t, _, after in lines.phase_changes[i]:
+            g = float(np.interp(t, lines.T, lines.G[i])) / 1000
+            fig.add_trace(
+                go.Scatter(
+                    x=from_kelvin([t], temperature_unit).tolist(),
+                    y=[g],
+                    mode="markers",
+                    marker={"symbol": "diamond-open", "size": 10, "color": colour},
+                    name=f"{species} → {after}",
+                    showlegend=False,
+                    hovertext=f"{species} becomes {after} at {t:.0f} K",
+                ),
+                row=1,
+                col=1,
+            )
+        for name, dash in (("CO/CO2", "solid"), ("H2/H2O", "dash")):
+            if name not in lines.ratios:
+                continue
+            fig.add_trace(
+                go.Scatter(
+                    x=x,
+                    y=(10 ** lines.ratios[name]["nominal"][i]).tolist(),
+                    mode="lines",
+                    line={"color": colour, "dash": dash, "width": 1.8},
+                    name=f"{label}: {name} needed",
+                    showlegend=False,
+                ),
+                row=2,
+                col=1,
+            )
+    per = lines.reagent
+    fig.update_layout(
+        template="plotly_white",
+        height=620 if rows == 2 else 420,
+        title={"text": f"Formation lines per mole of {per} (lower = more stable)", "x": 0.5},
+        legend={"orientation": "h", "y": -0.12},
+    )
+    fig.update_yaxes(title_text=f"ΔrG° (kJ per mol {per})", row=1, col=1)
+    if rows == 2:
+        fig.update_yaxes(
+            title_text="ratio needed (CO/CO2 solid, H2/H2O dashed)",
+            type="log",
+            exponentformat="power",
+            row=2,
+            col=1,
+        )
+    fig.update_xaxes(title_text=f"temperature ({temperature_unit})", row=rows, col=1)
     return fig

@@ -96,3 +96,32 @@ def test_calcination_enthalpy_vs_crc() -> None:
     # 2 kJ/mol: the CRC solid values are given to 0.1 kJ/mol and the library's CaCO3/CaO
     # entries differ from them within their own stated u (see data/source-gaps.json)
     assert d.J_per_mol_reaction == pytest.approx(reference, abs=2000.0)
+
+
+#: JANAF tables of oxides and the factor that scales ΔfG° to one mole of O2.
+_JANAF_OXIDES = {
+    "MgO": ("Mg-008", 2.0),
+    "Al2O3": ("Al-096", 2.0 / 3.0),
+    "Cu2O": ("Cu-019", 2.0),
+    "CuO": ("Cu-015", 2.0),
+    "TiO2": ("O-043", 1.0),
+    "Fe2O3": ("Fe-030", 2.0 / 3.0),
+}
+
+
+def test_formation_lines_vs_janaf() -> None:
+    """Ellingham lines per mole of O2 against NIST-JANAF ΔfG° of the oxides (4th ed., via the
+    `janaf` package): within 1 kJ/mol (measured: 0.02–0.34 kJ/mol; the library's NASA entries
+    for these oxides derive from the same JANAF evaluations), and JANAF inside the 95 % band."""
+    from feasibly.comparison import formation_lines
+
+    temps = [600.0, 800.0, 1000.0, 1200.0]
+    lines = formation_lines(
+        list(_JANAF_OXIDES), T_range=("600 K", "1200 K"), points=4, samples=20_000, seed=4
+    )
+    assert lines.bands is not None
+    for i, (index, per_o2) in enumerate(_JANAF_OXIDES.values()):
+        for k, t in enumerate(temps):
+            reference = per_o2 * _refs.janaf_dfG_interp(index, t)
+            assert lines.G[i, k] == pytest.approx(reference, abs=1000.0), (lines.labels[i], t)
+            assert lines.bands[0, i, k] < reference < lines.bands[-1, i, k]

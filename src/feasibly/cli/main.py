@@ -16,6 +16,7 @@ from ._terminal import (
     EXIT_INTERNAL,
 )
 from .assess import register as register_assess
+from .ellingham import register as register_ellingham
 from .equilibrate import register as register_equilibrate
 from .species import register as register_species
 from .verify import register as register_verify
@@ -55,6 +56,7 @@ def build_parser() -> argparse.ArgumentParser:
     register_species(sub)
     register_verify(sub)
     register_equilibrate(sub)
+    register_ellingham(sub)
     return parser
 
 

@@ -1,0 +1,101 @@
+"""Formation lines: equations per mole of reagent, bands and draw-by-draw comparisons from one
+shared set of draws, reductant ratios, refusals. JANAF checks: tests/reference/."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+
+import feasibly
+from feasibly.comparison import formation_lines
+from feasibly.errors import InvalidInput
+
+R = 8.314462618
+
+
+def test_lines_are_per_mole_of_reagent() -> None:
+    lines = formation_lines(["Al2O3", "MgO"], T_range=("800 K", "1000 K"), points=2)
+    assert lines.equations == ["4/3 Al + O2 -> 2/3 Al2O3", "2 Mg + O2 -> 2 MgO"]
+    a = feasibly.assess("Al + 3/4 O2 -> 1/2 Al2O3", T_range=("800 K", "1000 K"), points=2)
+    np.testing.assert_allclose(lines.G[0], a.standard.dG / 0.75, rtol=1e-12)
+
+
+def test_chlorides_per_mole_of_chlorine() -> None:
+    lines = formation_lines(["TiCl4", "FeCl2"], reagent="Cl2", T_range=("600 K", "800 K"), points=2)
+    assert lines.equations[0] == "1/2 Ti + Cl2 -> 1/2 TiCl4"
+    assert lines.ratios == {}  # CO/CO2 and H2/H2O ratios are for oxides
+
+
+def test_equations_are_scaled_to_one_mole_of_reagent() -> None:
+    by_formula = formation_lines(["Cu2O"], T_range=("700 K", "900 K"), points=3)
+    by_equation = formation_lines(["2 Cu + 1/2 O2 -> Cu2O"], T_range=("700 K", "900 K"), points=3)
+    np.testing.assert_allclose(by_formula.G, by_equation.G, rtol=1e-12)
+
+
+def test_bands_bracket_the_line_and_comparisons_are_counted_per_draw() -> None:
+    lines = formation_lines(
+        ["FeO", "Cr2O3", "NiO"], T_range=("700 K", "1300 K"), points=4, samples=8000, seed=3
+    )
+    assert lines.bands is not None
+    lo, mid, hi = lines.bands[0], lines.bands[2], lines.bands[-1]
+    assert np.all(lo < lines.G) and np.all(lines.G < hi)
+    # the median of a linear function of normal inputs is the nominal, within 4 SE of a median
+    u = (hi - lo) / 3.92
+    assert np.all(np.abs(mid - lines.G) < 4 * u * math.sqrt(math.pi / 2 / 8000))
+    p = lines.p_below("Cr2O3", "FeO")
+    assert np.all(p == 1.0)  # hundreds of kJ apart: no draw reverses them
+    assert np.all(lines.p_below("FeO", "Cr2O3") == 0.0)
+
+
+def test_phase_changes_are_marked_on_their_line() -> None:
+    lines = formation_lines(["Al2O3", "FeO"], T_range=("600 K", "1300 K"), points=3)
+    al = {(sp, frm.split("(")[0]) for sp, _, frm, _ in lines.phase_changes[0]}
+    assert ("Al", "Al") in al  # aluminium melts at 933 K on the way
+    melt = next(t for sp, t, *_ in lines.phase_changes[0] if sp == "Al")
+    tm = pytest.importorskip("chemicals.phase_change").Tm("7429-90-5")  # CRC melting point
+    assert melt == pytest.approx(tm, abs=1.0)
+    fe = [t for sp, t, *_ in lines.phase_changes[1] if sp == "Fe"]
+    assert fe and fe[0] == pytest.approx(1184, abs=2)  # α→γ iron at 1184 K (JANAF Fe, from memory)
+
+
+def test_reductant_ratio_is_the_equilibrium_of_the_couple() -> None:
+    """log10(CO/CO2) needed = (ΔG°(2CO+O2→2CO2) − ΔG°(line)) / (2 RT ln 10)."""
+    lines = formation_lines(["FeO"], T_range=("900 K", "1100 K"), points=3)
+    couple = feasibly.assess("2 CO + O2 -> 2 CO2", T_range=("900 K", "1100 K"), points=3)
+    expected = (couple.standard.dG - lines.G[0]) / (2 * R * lines.T * math.log(10))
+    np.testing.assert_allclose(lines.ratios["CO/CO2"]["nominal"][0], expected, rtol=1e-12)
+    # The same from the overall reduction FeO + CO -> Fe + CO2: K = p(CO2)/p(CO).
+    red = feasibly.assess("FeO + CO -> Fe + CO2", T_range=("900 K", "1100 K"), points=3)
+    np.testing.assert_allclose(
+        lines.ratios["CO/CO2"]["nominal"][0], -red.standard.log10_K, rtol=1e-9
+    )
+
+
+def test_table_rows() -> None:
+    lines = formation_lines(["MgO", "CuO"], T_range=("600 K", "800 K"), points=2, samples=512)
+    rows = lines.table()
+    assert len(rows) == 4 and {"line", "T_K", "dG_J_per_mol_O2", "lo95_J_per_mol"} <= set(rows[0])
+
+
+@pytest.mark.parametrize(
+    ("kwargs", "fragment"),
+    [
+        ({"compounds": ["CaCO3"]}, "'compounds'"),
+        ({"compounds": "NiO"}, "'compounds'"),
+        ({"compounds": ["MgO", "MgO"]}, "each compound once"),
+        ({"compounds": ["MgO"], "reagent": "Xe"}, "'reagent'"),
+        ({"compounds": ["H2 + Cl2 -> 2 HCl"]}, "consume O2"),
+        ({"compounds": ["MgO"], "samples": 1}, "'samples'"),
+    ],
+)
+def test_refusals(kwargs, fragment: str) -> None:
+    with pytest.raises(InvalidInput, match=fragment):
+        formation_lines(T_range=("600 K", "800 K"), points=2, **kwargs)
+
+
+def test_no_draws_no_comparison() -> None:
+    lines = formation_lines(["MgO", "CuO"], T_range=("600 K", "800 K"), points=2)
+    with pytest.raises(InvalidInput, match="samples"):
+        lines.p_below("MgO", "CuO")
