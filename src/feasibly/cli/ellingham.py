@@ -10,7 +10,6 @@ import json
 from pathlib import Path
 from typing import Any
 
-from ..comparison import REDUCTANTS, formation_lines
 from ..errors import InvalidInput
 from ._terminal import EXIT_OK, _library
 
@@ -18,6 +17,9 @@ __all__ = ["register"]
 
 
 def _cmd(args: argparse.Namespace) -> int:
+    # Loaded on use, so `feasibly --version` and the other subcommands start without it.
+    from ..comparison import formation_lines
+
     tokens = args.T_range
     if len(tokens) != 3:
         raise InvalidInput("--T-range", "", "LOW HIGH UNIT, e.g. --T-range 500 1800 K", tokens)
@@ -64,9 +66,7 @@ def _print(lines: Any) -> None:
                 cells.append(f"{g:12.1f}")
         cells.append(f"{lines.labels[order[k]]:>12}")
         print("  ".join(cells))
-    for name in REDUCTANTS:
-        if name not in lines.ratios:
-            continue
+    for name in lines.ratios:
         print(
             f"\n{name} ratio needed to reduce each oxide (equilibrium; above it, {name[:2]} wins)"
         )
