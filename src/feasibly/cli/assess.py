@@ -11,7 +11,8 @@ from collections.abc import Sequence
 from pathlib import Path
 from typing import Any
 
-from ..conditions import read_pressure
+from .._limits import MAX_POINTS
+from ..conditions import read_mole_fractions
 from ..equilibrium import conversion_assessment, parse_feed
 from ..errors import InvalidInput, UnitError
 from ..records import record_from, write_record
@@ -31,6 +32,8 @@ def _quantity_text(tokens: Sequence[str], what: str) -> str | tuple[list[float],
     if len(tokens) == 1:
         return tokens[0]
     *numbers, unit = tokens
+    if len(numbers) > MAX_POINTS:
+        raise UnitError(f"{len(numbers)} values", what, f"give at most {MAX_POINTS:,} values")
     try:
         values = [float(x) for x in numbers]
     except ValueError:
@@ -50,22 +53,20 @@ def _pressure_pairs(items: list[list[str]] | None, what: str) -> dict[str, str]:
 
 
 def _cmd_assess(args: argparse.Namespace) -> int:
-    lib = _library(args.species_file)
-    pressures = _pressure_pairs(args.p, "partial pressure")
+    if args.record is not None and not args.record.strip():
+        raise InvalidInput("--record", "", "a file path such as call.json", args.record)
+    lib = _library(args.species_file, args.replace_shipped)
+    pressures: dict[str, Any] = dict(_pressure_pairs(args.p, "partial pressure"))
     if args.y:
         if args.P is None:
             raise UnitError(
                 " ".join(args.y[0]), "mole fraction", "give the total pressure with --P"
             )
-        total = read_pressure(_quantity_text(args.P, "pressure"))
-        for name, value in _pressure_pairs(args.y, "mole fraction").items():
-            try:
-                y = float(value)
-            except ValueError:
-                raise UnitError(value, "mole fraction", "write a number between 0 and 1") from None
-            if not 0 < y <= 1:
-                raise UnitError(value, "mole fraction", "must be in (0, 1]")
-            pressures[name] = f"{y * total} Pa"
+        fractions = read_mole_fractions(
+            _quantity_text(args.P, "pressure"), _pressure_pairs(args.y, "mole fraction")
+        )
+        for name, p_pa in fractions.items():
+            pressures[name] = (p_pa, "Pa")
     elif args.P is not None and not args.feed:
         raise UnitError(
             " ".join(args.P),
@@ -78,7 +79,7 @@ def _cmd_assess(args: argparse.Namespace) -> int:
     if args.T_range:
         tokens = args.T_range
         if len(tokens) == 3:
-            T_range = ((float(tokens[0]), tokens[2]), (float(tokens[1]), tokens[2]))
+            T_range = ((tokens[0], tokens[2]), (tokens[1], tokens[2]))
         elif len(tokens) == 2:
             T_range = (tokens[0], tokens[1])
         else:
@@ -205,6 +206,12 @@ def _cmd_assess(args: argparse.Namespace) -> int:
 def _correlation(tokens: list[str]) -> tuple[tuple[str, str], tuple[str, str], str]:
     if len(tokens) != 3:
         raise UnitError(" ".join(tokens), "correlation", "write ID:QUANTITY ID:QUANTITY RHO")
+    try:
+        rho = float(tokens[2])
+    except ValueError:
+        raise UnitError(tokens[2], "correlation", "RHO must be a number from -1 to 1") from None
+    if not -1.0 <= rho <= 1.0:
+        raise UnitError(tokens[2], "correlation", "RHO must be a number from -1 to 1")
     keys = []
     for t in tokens[:2]:
         if ":" not in t:
@@ -258,6 +265,12 @@ def register(sub: Any) -> None:
         action="append",
         metavar="PATH",
         help="add your own species (JSON or TOML, schema in data/SCHEMA.md)",
+    )
+    a.add_argument(
+        "--replace-shipped",
+        action="store_true",
+        help="let --species-file entries replace shipped entries of the same id "
+        "(refused otherwise; the output says which were replaced)",
     )
     a.add_argument("--json", action="store_true", help="print JSON instead of a table")
     e = a.add_argument_group("required conversion (equilibrium of this reaction)")
