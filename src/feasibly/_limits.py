@@ -7,6 +7,8 @@ bound is far above what a real calculation needs; the reason is beside it.
 
 from __future__ import annotations
 
+from typing import Any
+
 __all__ = [
     "MAX_DATA_FILE_BYTES",
     "MAX_EQUATION_CHARS",
@@ -20,6 +22,7 @@ __all__ = [
     "MAX_SAMPLES",
     "MAX_TRIAL_TEMPERATURES",
     "gib",
+    "nesting_depth",
 ]
 
 #: Equation text: a 20-species equation with phase labels and forms is under 500 characters.
@@ -54,3 +57,22 @@ def gib(n_bytes: float) -> str:
     if n_bytes >= 2**30:
         return f"{n_bytes / 2**30:,.0f} GiB"
     return f"{n_bytes / 2**20:,.0f} MiB"
+
+
+def nesting_depth(doc: Any) -> int:
+    """Deepest nesting of tables and lists in parsed data (iterative: no recursion limit)."""
+    deepest = 0
+    stack: list[tuple[Any, int]] = [(doc, 1)]
+    while stack:
+        node, depth = stack.pop()
+        if isinstance(node, dict):
+            children: Any = node.values()
+        elif isinstance(node, list):
+            children = node
+        else:
+            continue
+        deepest = max(deepest, depth)
+        if deepest > MAX_NESTING:
+            return deepest
+        stack.extend((child, depth + 1) for child in children)
+    return deepest

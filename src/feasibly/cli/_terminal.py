@@ -33,12 +33,12 @@ _UNSAFE = re.compile(r"[\x00-\x08\x0b-\x1f\x7f-\x9f\u200b-\u200f\u202a-\u202e\u2
 
 
 def terminal_safe(text: str) -> str:
-    """``text`` with every control character shown as a visible escape (``\\x1b``), so that
+    r"""``text`` with every control character shown as a visible escape (``\\x1b``), so that
     nothing a user file or record carries can move the cursor, retitle the window or write the
     clipboard when printed.
 
-    >>> terminal_safe("CO2\x1b]52;c;ZXZpbA==\x07(g)")
-    'CO2\\x1b]52;c;ZXZpbA==\\x07(g)'
+    >>> print(terminal_safe("CO2\x1b]52;c;ZXZpbA==\x07(g)"))
+    CO2\x1b]52;c;ZXZpbA==\x07(g)
     """
     return _UNSAFE.sub(
         lambda m: (

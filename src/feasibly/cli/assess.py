@@ -4,6 +4,7 @@ call, its uncertainty, the required conversion and a decision record when asked.
 from __future__ import annotations
 
 import argparse
+import getpass
 import json
 import secrets
 import sys
@@ -15,7 +16,7 @@ from .._limits import MAX_POINTS
 from ..conditions import read_mole_fractions
 from ..equilibrium import conversion_assessment, parse_feed
 from ..errors import InvalidInput, UnitError
-from ..records import record_from, write_record
+from ..records import record_from, sign_record, write_record
 from ..thermo import assess
 from ..uncertainty import assess_uncertainty, parse_override
 from ._terminal import (
@@ -53,6 +54,8 @@ def _pressure_pairs(items: list[list[str]] | None, what: str) -> dict[str, str]:
 
 
 def _cmd_assess(args: argparse.Namespace) -> int:
+    if args.sign_with and not args.record:
+        raise InvalidInput("--sign-with", "", "used together with --record PATH", args.sign_with)
     if args.record is not None and not args.record.strip():
         raise InvalidInput("--record", "", "a file path such as call.json", args.record)
     lib = _library(args.species_file, args.replace_shipped)
@@ -180,10 +183,14 @@ def _cmd_assess(args: argparse.Namespace) -> int:
             required_K=args.require_K,
             **conv_kwargs,
         )
+        if args.sign_with:
+            record = sign_record(record, args.sign_with, password=_passphrase(args.sign_with))
         written = write_record(
             record, args.record, Path(args.record).with_suffix(".html"), overwrite=args.overwrite
         )
         print("record written: " + ", ".join(str(p) for p in written), file=sys.stderr)
+        if "signature" in record:
+            print(f"signed with key {record['signature']['key_fingerprint']}", file=sys.stderr)
     if args.json:
         doc = result.to_dict()
         if uncertain is not None:
@@ -203,15 +210,33 @@ def _cmd_assess(args: argparse.Namespace) -> int:
     return EXIT_OK
 
 
+def _passphrase(key_path: str) -> bytes | None:
+    """The passphrase of an encrypted PEM key, asked on the terminal (never an option, so it
+    stays out of the shell history); None for an unencrypted key."""
+    try:
+        with open(key_path, "rb") as fh:
+            head = fh.read(4096)
+    except OSError:
+        return None  # sign_record reports the unreadable file
+    if b"ENCRYPTED" not in head:
+        return None
+    if not sys.stdin.isatty():
+        raise InvalidInput(
+            "--sign-with",
+            "",
+            "an unencrypted key, or run on a terminal to type the key's passphrase",
+            key_path,
+        )
+    return getpass.getpass(f"passphrase of {key_path}: ").encode("utf-8")
+
+
 def _correlation(tokens: list[str]) -> tuple[tuple[str, str], tuple[str, str], str]:
     if len(tokens) != 3:
         raise UnitError(" ".join(tokens), "correlation", "write ID:QUANTITY ID:QUANTITY RHO")
     try:
-        rho = float(tokens[2])
+        float(tokens[2])  # the kernel checks the range; here only that it is a number
     except ValueError:
-        raise UnitError(tokens[2], "correlation", "RHO must be a number from -1 to 1") from None
-    if not -1.0 <= rho <= 1.0:
-        raise UnitError(tokens[2], "correlation", "RHO must be a number from -1 to 1")
+        raise UnitError(tokens[2], "correlation", "RHO must be a number between −1 and 1") from None
     keys = []
     for t in tokens[:2]:
         if ":" not in t:
@@ -292,6 +317,12 @@ def register(sub: Any) -> None:
     r.add_argument("--reviewer", help="who reviews it (goes into the record)")
     r.add_argument("--rationale", help="why this step, in your words (goes into the record)")
     r.add_argument("--overwrite", action="store_true", help="replace existing record files")
+    r.add_argument(
+        "--sign-with",
+        metavar="KEY.pem",
+        help="sign the record with your Ed25519 private key (PEM file; only the public key "
+        "goes into the record)",
+    )
     g = a.add_argument_group("how sure (Monte Carlo over the data's uncertainty)")
     g.add_argument("--samples", type=int, metavar="N", help="Monte Carlo trials, e.g. 100000")
     g.add_argument("--seed", type=int, metavar="S", help="seed of the random generator")

@@ -16,7 +16,7 @@ from typing import Any, TypeGuard
 
 import numpy as np
 
-from .._limits import MAX_DATA_FILE_BYTES, MAX_NESTING
+from .._limits import MAX_DATA_FILE_BYTES, MAX_NESTING, nesting_depth
 from ..errors import DataFileError, FeasiblyError, excerpt
 from .cp_models import T_REF, ConstantCp, CpModel, MaierKelleyCp, Nasa7
 from .formula import element_table, parse_formula
@@ -542,25 +542,6 @@ class _EntryReader:
             origin=self.origin,
             raw=MappingProxyType(raw),
         )
-
-
-def nesting_depth(doc: Any) -> int:
-    """Deepest nesting of tables and lists in parsed data (iterative: no recursion limit)."""
-    deepest = 0
-    stack: list[tuple[Any, int]] = [(doc, 1)]
-    while stack:
-        node, depth = stack.pop()
-        if isinstance(node, dict):
-            children: Any = node.values()
-        elif isinstance(node, list):
-            children = node
-        else:
-            continue
-        deepest = max(deepest, depth)
-        if deepest > MAX_NESTING:
-            return deepest
-        stack.extend((child, depth + 1) for child in children)
-    return deepest
 
 
 def _parse_document(text: str, name: str) -> Any:
