@@ -365,13 +365,19 @@ def _conversion(doc: Mapping[str, Any]) -> str:
 
 
 def _species(doc: Mapping[str, Any]) -> str:
+    from ..library import default_library
+
+    shipped = default_library()
     rows = []
     for s in doc["species"]:
         p = s["provenance"]
+        origin = s["origin"]
+        if origin != "library" and s["id"] in shipped:
+            origin += " (REPLACES the shipped entry of this id)"
         h, sv, cp = p["dHf_298_J_per_mol"], p["S_298_J_per_mol_K"], p["cp"]
         rows.append(
             [
-                f"<b>{_e(s['id'])}</b><br><span class='muted'>{_e(s['origin'])}</span>",
+                f"<b>{_e(s['id'])}</b><br><span class='muted'>{_e(origin)}</span>",
                 f"{p['T_range_K'][0]:g}–{p['T_range_K'][1]:g}",
                 f"{h['value'] / 1000:,.3f} ± {h['u'] / 1000:.3f}<br>"
                 f"<span class='muted'>{_e(h['source'])}; {_e(_conv(h))}</span>",

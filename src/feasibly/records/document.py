@@ -263,12 +263,14 @@ def _commit(pairs: list[tuple[Path, str]], overwrite: bool) -> None:
     hard-linked backup name, so that if a later step fails every target is put back as it was.
     """
     done: list[tuple[Path, str | None]] = []  # (target, backup of its old content or None)
+    backups: list[str] = []
     try:
         for path, tmp in pairs:
             backup = None
             if overwrite and path.exists():
                 backup = f"{tmp}.old"
                 os.link(path, backup)
+                backups.append(backup)
             if overwrite:
                 os.replace(tmp, path)
             else:
@@ -299,9 +301,8 @@ def _commit(pairs: list[tuple[Path, str]], overwrite: bool) -> None:
     finally:
         for _, tmp in pairs:
             _unlink(tmp)
-        for _, backup in done:
-            if backup is not None:
-                _unlink(backup)
+        for backup in backups:
+            _unlink(backup)
 
 
 def write_record(

@@ -49,7 +49,7 @@ def guarded(method: _F) -> _F:
             )
         try:
             if isinstance(self, HasTraits) and self.has_trait("error"):
-                self.error = message
+                self.set_trait("error", message)
             box = getattr(self, "_feedback", None)
             if box is not None:
                 box.value = error_html(message)
@@ -84,9 +84,8 @@ def sync(child: HasTraits, owner: HasTraits, name: str, child_name: str = "value
             setattr(target, attr, value)
         except TraitError as exc:
             if owner.has_trait("error"):
-                owner.error = (
-                    f"{excerpt(value)} cannot be used for {name}: {excerpt(str(exc), 120)}"
-                )
+                problem = f"{excerpt(value)} cannot be used for {name}: {excerpt(str(exc), 120)}"
+                owner.set_trait("error", problem)
 
     child.observe(lambda change: _set(owner, name, change["new"]), names=child_name)
     owner.observe(lambda change: _set(child, child_name, change["new"]), names=name)
