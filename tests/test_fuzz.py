@@ -192,7 +192,24 @@ def _joined(tokens: list[str], max_size: int) -> st.SearchStrategy[str]:
     return st.lists(st.sampled_from(tokens), max_size=max_size).map("".join)
 
 
+_VALID_EQUATIONS = [
+    "MgCO3 -> MgO + CO2",
+    "2 H2 + O2 -> 2 H2O",
+    "CaCO3(cr) -> CaO(cr) + CO2(g)",
+    "CH4 + H2O -> CO + 3 H2",
+    "N2 + 3 H2 -> 2 NH3",
+    "C + O2 = CO2",
+    "1/2 N2 + 3/2 H2 <=> NH3",
+]
+# Well-formed equations with a few hostile tokens spliced in at random places.
+_spliced = st.builds(
+    lambda eq, at, tok: eq[:at] + tok + eq[at:],
+    st.sampled_from(_VALID_EQUATIONS),
+    st.integers(0, 30),
+    st.sampled_from(["", "", "", *_EQ_TOKENS]),
+)
 equations = st.one_of(
+    _spliced,
     _joined(_EQ_TOKENS, 40),
     st.text(max_size=120),
     st.builds(lambda a, b: a + " -> " + b, _joined(_EQ_TOKENS, 12), _joined(_EQ_TOKENS, 12)),
@@ -204,6 +221,12 @@ _numbers = st.one_of(
     st.sampled_from(["1", "-1", "1e999", "nan", "0", "5e-324", "800", "1.5.2", ""]),
 )
 quantities: st.SearchStrategy[Any] = st.one_of(
+    st.builds(
+        lambda x, u, sep: f"{x}{sep}{u}",
+        st.floats(-1e4, 1e5),
+        st.sampled_from(["K", "degC", "°C", "C", "bar", "kPa", "atm", "Pa", "kJ/mol", "J/mol"]),
+        st.sampled_from(["", " ", "  "]),
+    ),
     st.builds(lambda n, u: f"{n} {u}", _numbers, _joined(_UNIT_TOKENS, 6)),
     _joined(_UNIT_TOKENS, 20),
     st.text(max_size=60),
@@ -279,6 +302,29 @@ def _set_path(doc: Any, path: tuple[Any, ...], value: Any) -> None:
 
 
 species_texts = st.one_of(
+    st.builds(
+        lambda h, s, cp, t: json.dumps(
+            {
+                "schema": "feasibly-species",
+                "schema_version": 1,
+                "species": [
+                    _edited(
+                        _good_entry(),
+                        [
+                            (("dHf_298", "value"), h),
+                            (("S_298", "value"), s),
+                            (("cp", "cp_J_per_mol_K"), cp),
+                            (("T_range_K",), t),
+                        ],
+                    )
+                ],
+            }
+        ),
+        st.floats(-2e6, 2e6),
+        st.floats(0, 1000),
+        st.floats(0.1, 2e4),
+        st.lists(st.floats(1, 8000), min_size=2, max_size=2).map(sorted),
+    ),
     st.builds(
         lambda edits: json.dumps(
             {

@@ -49,6 +49,11 @@ def test_phase_given_as_a_list_is_refused() -> None:
     assert "field phase: ['cr'] is not one of" in _problems(_doc(_entry(phase=["cr"])))
 
 
+def test_reference_state_given_as_a_list_is_refused() -> None:
+    # Found by the fuzz campaign: "reference_state_of": [1] raised TypeError (unhashable).
+    assert "field reference_state_of" in _problems(_doc(_entry(reference_state_of=[1])))
+
+
 def test_cp_model_given_as_a_list_is_refused() -> None:
     bad = _entry()
     bad["cp"] = {**bad["cp"], "model": ["constant"]}

@@ -456,8 +456,16 @@ class _EntryReader:
         cp = self.cp_block(rng)
         ref = raw.get("reference_state_of")
         if ref is not None:
-            if parsed is None or ref not in parsed.elements or len(parsed.elements) != 1:
-                self.bad("reference_state_of", f"{ref!r} is not the single element of {formula!r}")
+            if (
+                not isinstance(ref, str)
+                or parsed is None
+                or ref not in parsed.elements
+                or len(parsed.elements) != 1
+            ):
+                self.bad(
+                    "reference_state_of",
+                    f"{excerpt(ref)} is not the single element of {excerpt(formula)}",
+                )
             elif dHf is not None and abs(dHf.value) > _REF_STATE_TOL:
                 self.bad(
                     "dHf_298.value",
