@@ -114,8 +114,10 @@ def test_terminal_output_escapes_control_characters(
     path = _species_file(tmp_path, f"x{osc52}.json", entry)
     code, out, err = run(capsys, "species", "CO2", "--species-file", str(path))
     assert code == 0
-    assert "\x1b" not in out + err and "\x07" not in out + err and "\\x1b]52" in err
-    assert _terminal.terminal_safe("a\x9b2Jb\u202ec") == "a\\x9b2Jb\\u202ec"
+    assert "\x1b" not in out + err and "\x07" not in out + err and "\\u001b]52" in err
+    assert _terminal.terminal_safe("a\x9b2Jb\u202ec") == "a\\u009b2Jb\\u202ec"
+    doc = json.dumps({"author": "x\x9b\x7f\u202e"}, ensure_ascii=False)
+    assert json.loads(_terminal.terminal_safe(doc)) == {"author": "x\x9b\x7f\u202e"}
 
 
 def test_user_file_cannot_silently_replace_shipped_co2(

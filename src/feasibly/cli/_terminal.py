@@ -33,19 +33,14 @@ _UNSAFE = re.compile(r"[\x00-\x08\x0b-\x1f\x7f-\x9f\u200b-\u200f\u202a-\u202e\u2
 
 
 def terminal_safe(text: str) -> str:
-    r"""``text`` with every control character shown as a visible escape (``\\x1b``), so that
+    r"""``text`` with every control character shown as a visible ``\uXXXX`` escape, so that
     nothing a user file or record carries can move the cursor, retitle the window or write the
-    clipboard when printed.
+    clipboard when printed. The escape is JSON's own, so ``--json`` output stays valid JSON.
 
     >>> print(terminal_safe("CO2\x1b]52;c;ZXZpbA==\x07(g)"))
-    CO2\x1b]52;c;ZXZpbA==\x07(g)
+    CO2\u001b]52;c;ZXZpbA==\u0007(g)
     """
-    return _UNSAFE.sub(
-        lambda m: (
-            f"\\x{ord(m.group()):02x}" if ord(m.group()) < 256 else f"\\u{ord(m.group()):04x}"
-        ),
-        text,
-    )
+    return _UNSAFE.sub(lambda m: f"\\u{ord(m.group()):04x}", text)
 
 
 class SafeStream(io.TextIOBase):

@@ -26,6 +26,7 @@ from ..errors import (
     ReactionSyntaxError,
     UnbalancedReaction,
     UnknownSpecies,
+    excerpt,
 )
 from ..library.catalogue import Library, default_library
 from ..library.formula import parse_formula, pretty_formula
@@ -179,7 +180,9 @@ def parse_equation(text: str) -> list[tuple[Fraction, str, str | None, str | Non
                     )
                 term = term[m.end() :].strip()
             if coef <= 0:
-                raise ReactionSyntaxError(text, f"coefficient {coef} of {term!r} must be positive")
+                raise ReactionSyntaxError(
+                    text, f"coefficient {coef} of {excerpt(term)} must be positive"
+                )
             term, phase, form = split_phase_label(term, text)
             if not term:
                 raise ReactionSyntaxError(text, "a coefficient or phase label has no formula")

@@ -68,7 +68,9 @@ def _coverage(text: str) -> str:
     if re.fullmatch(r"k\s*=\s*[0-9.]+", key):
         return key.replace(" ", "")
     known = ", ".join(sorted(set(_COVERAGE_WORDS)))
-    raise InvalidUncertainty(f"coverage {text!r} not understood; use one of {known} or k=<number>")
+    raise InvalidUncertainty(
+        f"coverage {excerpt(text)} not understood; use one of {known} or k=<number>"
+    )
 
 
 @dataclass(frozen=True)
@@ -95,7 +97,7 @@ class Override:
     def __post_init__(self) -> None:
         if self.quantity not in QUANTITIES:
             raise InvalidUncertainty(
-                f"override of {self.target}: quantity {self.quantity!r} is not one of "
+                f"override of {self.target}: quantity {excerpt(self.quantity)} is not one of "
                 f"{', '.join(QUANTITIES)}"
             )
         if not isinstance(self.reason, str) or not self.reason.strip():
@@ -211,7 +213,7 @@ def build_inputs(
         if given.target not in entries:
             near = sorted(entries)
             raise InvalidUncertainty(
-                f"override target {given.target!r} is not a species-phase of "
+                f"override target {excerpt(given.target)} is not a species-phase of "
                 f"this calculation; those are: {', '.join(near)}"
             )
         key = (given.target, given.quantity)
@@ -302,7 +304,7 @@ def correlation_matrix(
         for k in (a, b):
             if tuple(k) not in index:
                 raise InvalidUncertainty(
-                    f"correlation names {k!r}, which is not an input of this "
+                    f"correlation names {excerpt(k)}, which is not an input of this "
                     "calculation (inputs are (species id, dHf|S298|cp))"
                 )
         if tuple(a) == tuple(b):
