@@ -46,3 +46,34 @@ def chromium() -> dict[str, Any]:
     if not Path(path).exists():
         pytest.skip("Debian's chromium is not installed (apt-get install chromium)")
     return {"executable_path": path, "headless": True, "args": list(CHROMIUM_ARGS)}
+
+
+class Hang(BaseException):
+    """Raised into a block that ran far longer than it could in linear time (a hang detector,
+    not a timing assertion: the bound is orders of magnitude above the expected time)."""
+
+
+@pytest.fixture
+def no_hang() -> Any:
+    """``with no_hang(20):`` fails the test instead of hanging when the block does not finish.
+
+    Uses SIGALRM (main thread, POSIX), so a runaway pure-Python loop is interrupted; the bound
+    is generous because the point is to catch super-linear blow-ups, never to time code.
+    """
+    import contextlib
+    import signal
+
+    @contextlib.contextmanager
+    def guard(seconds: float = 20.0) -> Any:
+        def on_alarm(signum: int, frame: Any) -> None:
+            raise Hang(f"still running after {seconds} s")
+
+        old = signal.signal(signal.SIGALRM, on_alarm)
+        signal.setitimer(signal.ITIMER_REAL, seconds)
+        try:
+            yield
+        finally:
+            signal.setitimer(signal.ITIMER_REAL, 0)
+            signal.signal(signal.SIGALRM, old)
+
+    return guard

@@ -26,6 +26,7 @@ LEVELS: dict[str, int] = {
     "_files": 1,
     "_palette": 1,
     "_pickling": 1,
+    "_limits": 1,
     "units": 2,
     "library": 2,
     "conditions": 3,

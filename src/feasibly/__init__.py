@@ -60,6 +60,7 @@ from .records import (
     load_record,
     make_record,
     record_from,
+    sign_record,
     verify_record,
     write_record,
 )
@@ -115,6 +116,7 @@ __all__ = [
     "parse_override",
     "pretty_formula",
     "record_from",
+    "sign_record",
     "standard_properties",
     "standard_uncertainty",
     "ureg",

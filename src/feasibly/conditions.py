@@ -25,15 +25,18 @@ from typing import Any
 
 import numpy as np
 
-from .errors import InvalidInput, UnitError
+from ._limits import MAX_EQUATION_CHARS, MAX_POINTS, MAX_SAMPLES, MAX_TRIAL_TEMPERATURES, gib
+from .errors import InvalidInput, InvalidUncertainty, UnitError
 from .units import to_kelvin, to_pascal
 
 __all__ = [
+    "MAX_FEED_AMOUNT",
     "ONE_ATM_PA",
     "STANDARD_PRESSURE_PA",
     "read_confidence",
     "read_count",
     "read_feed",
+    "read_mole_fractions",
     "read_partial_pressures",
     "read_pressure",
     "read_probability",
@@ -43,10 +46,14 @@ __all__ = [
     "read_temperature_list",
     "read_temperatures",
     "read_temperatures_as_given",
+    "read_trials",
 ]
 
 #: The standard-state pressure of feasibly's data (IUPAC: p° = 1 bar = 100 000 Pa).
 STANDARD_PRESSURE_PA = 100000.0
+#: The largest feed amount accepted. Only ratios of amounts matter; the equilibrium solver works
+#: in float64, where amounts near 1e308 overflow (a feed of 1e308 mol once gave 50 % conversion).
+MAX_FEED_AMOUNT = 1e12
 #: The older standard-state pressure some tables use (1 atm = 101 325 Pa, exact by definition).
 ONE_ATM_PA = 101325.0
 
@@ -75,10 +82,15 @@ def read_temperatures(
         raise InvalidInput(
             "T_range", function, "two temperatures with units, e.g. ('600 K', '1000 K')", T_range
         )
-    lo, hi = (float(np.squeeze(to_kelvin(x))) for x in T_range)
+    ends = [np.atleast_1d(to_kelvin(x)) for x in T_range]
+    if any(e.size != 1 for e in ends):
+        raise InvalidInput(
+            "T_range", function, "two single temperatures, e.g. ('600 K', '1000 K')", T_range
+        )
+    lo, hi = (float(e[0]) for e in ends)
     if not hi > lo:
         raise InvalidInput("T_range", function, "(low, high) with high above low", T_range)
-    n = read_count(points, "points", function, minimum=2)
+    n = read_count(points, "points", function, minimum=2, maximum=MAX_POINTS)
     return np.linspace(lo, hi, n), (lo, hi)
 
 
@@ -99,6 +111,10 @@ def read_temperatures_as_given(value: Any) -> tuple[np.ndarray, bool]:
     """Temperatures in K as a flat float array, and whether a single temperature was given (so
     a caller can answer one value with one row and a list with a list)."""
     kelvin = np.asarray(to_kelvin(value), dtype=float)
+    if kelvin.size > MAX_POINTS:
+        raise InvalidInput(
+            "T", "", f"at most {MAX_POINTS:,} temperatures", f"{kelvin.size:,} values"
+        )
     return np.atleast_1d(kelvin).ravel(), kelvin.ndim == 0
 
 
@@ -153,6 +169,44 @@ def read_partial_pressures(pressures: Mapping[str, Any] | None) -> dict[str, flo
     return {str(name): read_pressure(p) for name, p in pressures.items()}
 
 
+def read_mole_fractions(total: Any, fractions: Mapping[str, Any]) -> dict[str, float]:
+    """Partial pressures in Pa from a total pressure and gas mole fractions.
+
+    Each fraction is a number in (0, 1]; together they may not exceed 1 (the rest of the gas
+    is whatever else is present).
+
+    >>> read_mole_fractions("2 bar", {"CO2": 0.25})
+    {'CO2': 50000.0}
+    """
+    p_total = np.atleast_1d(to_pascal(total))
+    if p_total.size != 1:
+        raise UnitError(total, "total pressure", "give one total pressure")
+    out: dict[str, float] = {}
+    for name, value in fractions.items():
+        y = value
+        if isinstance(y, str):
+            try:
+                y = float(y)
+            except ValueError:
+                raise UnitError(
+                    value, f"mole fraction of {name}", "write a number in (0, 1]"
+                ) from None
+        if isinstance(y, bool) or not isinstance(y, (int, float, np.floating)):
+            raise UnitError(value, f"mole fraction of {name}", "write a number in (0, 1]")
+        if not (math.isfinite(y) and 0.0 < y <= 1.0):
+            raise UnitError(value, f"mole fraction of {name}", "must be in (0, 1]")
+        out[str(name)] = float(y)
+    total_y = math.fsum(out.values())
+    # 1e-9: fractions typed to 9 decimals that add to 1 are accepted despite rounding.
+    if total_y > 1.0 + 1e-9:
+        raise UnitError(
+            ", ".join(f"{k}={v:g}" for k, v in out.items()),
+            "set of mole fractions",
+            f"they add up to {total_y:g}; mole fractions of one gas mixture add up to at most 1",
+        )
+    return {name: y * float(p_total[0]) for name, y in out.items()}
+
+
 def read_confidence(confidence: Any, function: str) -> float:
     """A confidence level for a verdict: above 0.5 (so 'feasible' and 'not feasible' cannot both
     hold) and below 1 (a Monte Carlo probability never proves certainty)."""
@@ -181,11 +235,55 @@ def read_probability(value: Any, parameter: str, function: str) -> float:
     return float(value)
 
 
-def read_count(value: Any, parameter: str, function: str, minimum: int = 1) -> int:
-    """A whole number of things (points, trials) of at least ``minimum``; text is refused."""
+def read_count(
+    value: Any, parameter: str, function: str, minimum: int = 1, maximum: int | None = None
+) -> int:
+    """A whole number of things (points, trials) of at least ``minimum`` (and at most
+    ``maximum``); text is refused."""
     if isinstance(value, bool) or not isinstance(value, (int, np.integer)) or value < minimum:
         raise InvalidInput(parameter, function, f"a whole number of at least {minimum}", value)
+    if maximum is not None and value > maximum:
+        raise InvalidInput(
+            parameter, function, f"a whole number from {minimum} to {maximum:,}", value
+        )
     return int(value)
+
+
+def read_trials(
+    value: Any, parameter: str, function: str, n_inputs: int = 1, n_temperatures: int = 1
+) -> int:
+    """A number of Monte Carlo trials: a whole number from 2 to :data:`MAX_SAMPLES`, checked
+    before anything is allocated; the message says how much memory the request would take.
+
+    >>> read_trials(500_000_000, "samples", "assess_uncertainty", n_inputs=18)
+    Traceback (most recent call last):
+    ...
+    feasibly.errors.InvalidUncertainty: The 'samples' parameter of assess_uncertainty must be \
+a whole number from 2 to 10,000,000 (500,000,000 trials of 18 inputs would hold 67 GiB of \
+draws). Got 500000000 instead.
+    """
+    if isinstance(value, bool) or not isinstance(value, (int, np.integer)) or value < 2:
+        raise InvalidUncertainty(parameter, function, "a whole number of at least 2", value)
+    n = int(value)
+    if n > MAX_SAMPLES:
+        need = gib(8.0 * n * max(n_inputs, 1))  # float64 draws, one row per input
+        raise InvalidUncertainty(
+            parameter,
+            function,
+            f"a whole number from 2 to {MAX_SAMPLES:,} ({n:,} trials of {max(n_inputs, 1)} "
+            f"inputs would hold {need} of draws)",
+            value,
+        )
+    if n * n_temperatures > MAX_TRIAL_TEMPERATURES:
+        raise InvalidUncertainty(
+            parameter,
+            function,
+            f"at most {MAX_TRIAL_TEMPERATURES // n_temperatures:,} trials on "
+            f"{n_temperatures:,} temperatures (trials × temperatures is limited to "
+            f"{MAX_TRIAL_TEMPERATURES:,}; use fewer points)",
+            value,
+        )
+    return n
 
 
 def read_feed(feed: str | Mapping[str, Any]) -> dict[str, Any]:
@@ -200,6 +298,8 @@ def read_feed(feed: str | Mapping[str, Any]) -> dict[str, Any]:
     if isinstance(feed, Mapping):
         items = list(feed.items())
     elif isinstance(feed, str):
+        if len(feed) > MAX_EQUATION_CHARS:
+            raise UnitError(feed, "feed", f"longer than {MAX_EQUATION_CHARS} characters")
         items = []
         for part in filter(None, (p.strip() for p in re.split(r"[,;]", feed))):
             if ":" not in part:
@@ -213,9 +313,21 @@ def read_feed(feed: str | Mapping[str, Any]) -> dict[str, Any]:
         raise UnitError(feed, "feed", "give 'SPECIES:AMOUNT, …' or a mapping of amounts")
     out: dict[str, Any] = {}
     for name, value in items:
-        arr = np.asarray(value, dtype=float)
+        try:
+            arr = np.asarray(value, dtype=float)
+        except (TypeError, ValueError, OverflowError):
+            raise UnitError(
+                value, f"feed amount of {name}", "the amount must be a number"
+            ) from None
         if not np.all(np.isfinite(arr)) or np.any(arr < 0):
             raise UnitError(value, f"feed amount of {name}", "amounts must be finite and ≥ 0")
+        if np.any(arr > MAX_FEED_AMOUNT):
+            raise UnitError(
+                value,
+                f"feed amount of {name}",
+                f"amounts above {MAX_FEED_AMOUNT:g} are refused: only their ratios matter, so "
+                "scale the feed down",
+            )
         if name in out:
             raise UnitError(name, "feed", "a species is named twice; give it once")
         out[name] = float(arr) if arr.ndim == 0 else arr

@@ -87,7 +87,7 @@ class UnknownSpecies(FeasiblyError, KeyError):
     def __init__(self, query: str, suggestions: Sequence[str] = (), detail: str = "") -> None:
         self.query = query
         self.suggestions = list(suggestions)
-        msg = f"No species {query!r} in the data library."
+        msg = f"No species {excerpt(query)} in the data library."
         if detail:
             msg += f" {detail}"
         if self.suggestions:
@@ -106,7 +106,7 @@ class ReactionSyntaxError(FeasiblyError, ValueError):
     def __init__(self, text: str, problem: str) -> None:
         self.text = text
         self.problem = problem
-        super().__init__(f"Cannot read {text!r}: {problem}")
+        super().__init__(f"Cannot read {excerpt(text)}: {problem}")
 
 
 class UnbalancedReaction(FeasiblyError, ValueError):
@@ -121,7 +121,7 @@ class UnbalancedReaction(FeasiblyError, ValueError):
             side = "products" if excess > 0 else "reactants"
             parts.append(f"{what}: {side} have {_fmt(abs(excess))} more")
         msg = (
-            f"The equation {equation!r} is not balanced ({'; '.join(parts)}). "
+            f"The equation {excerpt(equation)} is not balanced ({'; '.join(parts)}). "
             "Fix the coefficients, or let feasibly balance it (balance=True, or --balance)."
         )
         super().__init__(msg)
@@ -133,7 +133,7 @@ class AmbiguousBalance(FeasiblyError, ValueError):
     def __init__(self, equation: str, problem: str) -> None:
         self.equation = equation
         self.problem = problem
-        super().__init__(f"Cannot balance {equation!r}: {problem}")
+        super().__init__(f"Cannot balance {excerpt(equation)}: {problem}")
 
 
 class OutsideDataRange(FeasiblyError, ValueError):

@@ -15,9 +15,13 @@ from typing import Any
 import numpy as np
 import pint
 
-from .errors import InvalidTemperature, UnitError
+from ._limits import MAX_QUANTITY_CHARS
+from .errors import InvalidTemperature, UnitError, excerpt
 
 __all__ = [
+    "MAX_MOLAR_ENERGY_J",
+    "MAX_PRESSURE_PA",
+    "MIN_PRESSURE_PA",
     "Q_",
     "TEMPERATURE_UNITS",
     "from_kelvin",
@@ -40,27 +44,95 @@ Q_ = ureg.Quantity
 
 # Temperature spellings chemists type that pint does not read as intended ("C" alone is coulomb).
 _ALIASES = {"°C": "degC", "°F": "degF", "℃": "degC", "C": "degC", "F": "degF", "°K": "K"}
-_TRAILING_UNIT = re.compile(r"(?<=[\d\s])\s*(°C|°F|℃|°K|C|F)$")
+# One number at the start of a quantity text: sign, digits, optional fraction and exponent. Each
+# part is a run of one character class, so matching is linear in the length of the text.
+_NUMBER = re.compile(r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?")
+
+#: Pressures below this are refused: 10^-30 Pa at 300 K is less than one molecule per cubic
+#: kilometre, and p/p° would leave the normal range of float64 (its logarithm would fail).
+MIN_PRESSURE_PA = 1e-30
+#: Pressures above this are refused: 10^9 Pa (10 kbar) is far beyond any ideal-gas treatment,
+#: which is the model feasibly applies to gases.
+MAX_PRESSURE_PA = 1e9
+#: Molar energies beyond ±10^8 J/mol (10^5 kJ/mol, a hundred times the largest ΔrG° of the
+#: shipped reactions' scale) are refused as typing errors rather than used as thresholds.
+MAX_MOLAR_ENERGY_J = 1e8
+
+_ANY = "'1 K'"
+_EXAMPLES = {
+    "temperature": "'800 degC' or '1073.15 K'",
+    "pressure": "'0.3 bar' or '30 kPa'",
+    "molar energy": "'-10 kJ/mol'",
+}
+
+
+def _unit(text: Any, value: Any, kind: str) -> pint.Unit:
+    """The unit named by ``text`` (one unit expression, no number), or a UnitError."""
+    if isinstance(text, pint.Unit):
+        return text
+    if not isinstance(text, str):
+        raise UnitError(value, kind, "the unit must be text such as 'K', 'degC', 'bar'")
+    name = text.strip()
+    if len(name) > MAX_QUANTITY_CHARS:
+        raise UnitError(
+            value, kind, f"the unit text is longer than {MAX_QUANTITY_CHARS} characters"
+        )
+    name = _ALIASES.get(name, name)
+    if not name:
+        raise UnitError(value, kind, f"a unit is needed, e.g. {_EXAMPLES.get(kind, _ANY)}")
+    if name[0].isdigit() or name[0] in "+-.[(,":
+        raise UnitError(
+            value,
+            kind,
+            "write exactly one number followed by its unit "
+            f"(no spaces, commas or lists inside the number), e.g. {_EXAMPLES.get(kind, _ANY)}",
+        )
+    try:
+        unit = ureg.parse_units(name)
+    except Exception as exc:
+        raise UnitError(
+            value, kind, f"unit {excerpt(name)} not understood ({type(exc).__name__})"
+        ) from None
+    return unit
+
+
+def _magnitude(magnitude: Any, value: Any, kind: str) -> np.ndarray:
+    """A real, non-empty float array from a user's magnitude (number, list or array)."""
+    if isinstance(magnitude, str) and _NUMBER.fullmatch(magnitude.strip()):
+        magnitude = float(magnitude)  # ("650", "degC"): one number written as text
+    if isinstance(magnitude, (str, bytes)) or isinstance(magnitude, bool):
+        raise UnitError(value, kind, "the magnitude must be a number or a list of numbers")
+    try:
+        arr = np.asarray(magnitude, dtype=float)
+    except (TypeError, ValueError, OverflowError):
+        raise UnitError(
+            value, kind, "the magnitude must be a number or a list of numbers"
+        ) from None
+    if arr.size == 0:
+        raise UnitError(value, kind, "no number given (an empty list)")
+    return arr
 
 
 def _as_quantity(value: Any, kind: str) -> pint.Quantity:
     if isinstance(value, pint.Quantity):
-        return value
+        return Q_(_magnitude(value.magnitude, value, kind), value.units)
     if isinstance(value, tuple) and len(value) == 2:
         magnitude, unit = value
-        unit = _ALIASES.get(str(unit).strip(), str(unit).strip())
-        try:
-            return Q_(np.asarray(magnitude, dtype=float), unit)
-        except (pint.errors.PintError, ValueError, TypeError) as exc:
-            raise UnitError(value, kind, f"unit {unit!r} not understood ({exc})") from None
+        return Q_(_magnitude(magnitude, value, kind), _unit(unit, value, kind))
     if isinstance(value, str):
-        text = _TRAILING_UNIT.sub(lambda m: " " + _ALIASES[m.group(1)], value.strip())
-        try:
-            q: Any = Q_(text)
-        except (pint.errors.PintError, ValueError, TypeError, AttributeError) as exc:
-            raise UnitError(value, kind, f"could not read it ({exc})") from None
-        if not isinstance(q, pint.Quantity) or q.dimensionless:
-            raise UnitError(value, kind, "a unit is needed, e.g. '800 degC' or '1073.15 K'")
+        if len(value) > MAX_QUANTITY_CHARS:
+            raise UnitError(value, kind, f"longer than {MAX_QUANTITY_CHARS} characters")
+        text = value.strip()
+        number = _NUMBER.match(text)
+        if number is None:
+            raise UnitError(
+                value,
+                kind,
+                f"write one number followed by its unit, e.g. {_EXAMPLES.get(kind, _ANY)}",
+            )
+        q = Q_(float(number.group()), _unit(text[number.end() :], value, kind))
+        if q.dimensionless:
+            raise UnitError(value, kind, f"a unit is needed, e.g. {_EXAMPLES.get(kind, _ANY)}")
         return q
     raise UnitError(
         value,
@@ -105,6 +177,13 @@ def to_pascal(value: Any) -> np.ndarray:
         raise UnitError(value, "pressure", f"{q.units} is not a pressure unit") from None
     if not np.all(np.isfinite(pa)) or np.any(pa <= 0.0):
         raise UnitError(value, "pressure", "pressures must be positive and finite")
+    if np.any(pa < MIN_PRESSURE_PA) or np.any(pa > MAX_PRESSURE_PA):
+        raise UnitError(
+            value,
+            "pressure",
+            f"outside {MIN_PRESSURE_PA:g} Pa to {MAX_PRESSURE_PA:g} Pa, the range in which "
+            "feasibly's ideal-gas treatment is usable",
+        )
     return pa
 
 
@@ -116,9 +195,16 @@ def to_energy_per_mol(value: Any) -> np.ndarray:
     """
     q = _as_quantity(value, "molar energy")
     try:
-        return np.asarray(q.to("J/mol").magnitude, dtype=float)
+        energy = np.asarray(q.to("J/mol").magnitude, dtype=float)
     except pint.errors.DimensionalityError:
         raise UnitError(value, "molar energy", f"{q.units} is not an energy per amount") from None
+    if not np.all(np.isfinite(energy)) or np.any(np.abs(energy) > MAX_MOLAR_ENERGY_J):
+        raise UnitError(
+            value,
+            "molar energy",
+            f"must be a finite number within ±{MAX_MOLAR_ENERGY_J / 1000:g} kJ/mol",
+        )
+    return energy
 
 
 #: Display units of temperature offered in figures, widgets and reports, with their pint names.

@@ -3,7 +3,10 @@ terminal text; and the exit codes every subcommand shares."""
 
 from __future__ import annotations
 
+import io
 import math
+import re
+import sys
 from typing import Any
 
 from ..conditions import STANDARD_PRESSURE_PA
@@ -20,10 +23,61 @@ EXIT_INPUT = 2  # the user's input or data could not be used (also argparse's ow
 EXIT_INTERNAL = 3  # a bug in feasibly: the message asks for a report
 
 
-def _library(files: list[str] | None) -> Library:
+EXIT_INTERRUPTED = 130  # Ctrl-C: the shell's convention, 128 + SIGINT
+
+
+# C0 and C1 control characters (ESC starts terminal sequences; the C1 forms \x9b CSI and \x9d OSC
+# do the same without it, OSC 52 writes the clipboard) and the bidirectional overrides that make
+# text display in another order than it reads; newline and tab are layout and stay.
+_UNSAFE = re.compile(r"[\x00-\x08\x0b-\x1f\x7f-\x9f\u200b-\u200f\u202a-\u202e\u2066-\u2069]")
+
+
+def terminal_safe(text: str) -> str:
+    r"""``text`` with every control character shown as a visible ``\uXXXX`` escape, so that
+    nothing a user file or record carries can move the cursor, retitle the window or write the
+    clipboard when printed. The escape is JSON's own, so ``--json`` output stays valid JSON.
+
+    >>> print(terminal_safe("CO2\x1b]52;c;ZXZpbA==\x07(g)"))
+    CO2\u001b]52;c;ZXZpbA==\u0007(g)
+    """
+    return _UNSAFE.sub(lambda m: f"\\u{ord(m.group()):04x}", text)
+
+
+class SafeStream(io.TextIOBase):
+    """A text stream that passes everything through :func:`terminal_safe` before writing."""
+
+    def __init__(self, inner: Any) -> None:
+        self._inner = inner
+
+    def write(self, text: str) -> int:
+        self._inner.write(terminal_safe(text))
+        return len(text)
+
+    def flush(self) -> None:
+        self._inner.flush()
+
+    def isatty(self) -> bool:
+        return bool(self._inner.isatty())
+
+    @property
+    def encoding(self) -> str:  # type: ignore[override]
+        return str(getattr(self._inner, "encoding", "utf-8"))
+
+
+def _library(files: list[str] | None, replace_shipped: bool = False) -> Library:
+    """The shipped library with the user's files added; says on stderr which entries came from
+    which file and which shipped entries they replace."""
     lib = default_library()
     for path in files or []:
-        lib = lib.with_species(Library.from_file(path))
+        user = Library.from_file(path)
+        lib = lib.with_species(user, replace_shipped=replace_shipped)
+        replaced = {sid for sid, _, _ in lib.replaced}
+        ids = [sp.id for sp in user]
+        shown = ", ".join(
+            sid + (" (REPLACES the shipped entry)" if sid in replaced else "") for sid in ids[:20]
+        )
+        more = f" and {len(ids) - 20} more" if len(ids) > 20 else ""
+        print(f"species from {path}: {shown}{more}", file=sys.stderr)
     return lib
 
 

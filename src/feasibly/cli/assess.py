@@ -4,6 +4,7 @@ call, its uncertainty, the required conversion and a decision record when asked.
 from __future__ import annotations
 
 import argparse
+import getpass
 import json
 import secrets
 import sys
@@ -11,10 +12,11 @@ from collections.abc import Sequence
 from pathlib import Path
 from typing import Any
 
-from ..conditions import read_pressure
+from .._limits import MAX_POINTS
+from ..conditions import read_mole_fractions
 from ..equilibrium import conversion_assessment, parse_feed
 from ..errors import InvalidInput, UnitError
-from ..records import record_from, write_record
+from ..records import record_from, sign_record, write_record
 from ..thermo import assess
 from ..uncertainty import assess_uncertainty, parse_override
 from ._terminal import (
@@ -31,6 +33,8 @@ def _quantity_text(tokens: Sequence[str], what: str) -> str | tuple[list[float],
     if len(tokens) == 1:
         return tokens[0]
     *numbers, unit = tokens
+    if len(numbers) > MAX_POINTS:
+        raise UnitError(f"{len(numbers)} values", what, f"give at most {MAX_POINTS:,} values")
     try:
         values = [float(x) for x in numbers]
     except ValueError:
@@ -50,22 +54,22 @@ def _pressure_pairs(items: list[list[str]] | None, what: str) -> dict[str, str]:
 
 
 def _cmd_assess(args: argparse.Namespace) -> int:
-    lib = _library(args.species_file)
-    pressures = _pressure_pairs(args.p, "partial pressure")
+    if args.sign_with and not args.record:
+        raise InvalidInput("--sign-with", "", "used together with --record PATH", args.sign_with)
+    if args.record is not None and not args.record.strip():
+        raise InvalidInput("--record", "", "a file path such as call.json", args.record)
+    lib = _library(args.species_file, args.replace_shipped)
+    pressures: dict[str, Any] = dict(_pressure_pairs(args.p, "partial pressure"))
     if args.y:
         if args.P is None:
             raise UnitError(
                 " ".join(args.y[0]), "mole fraction", "give the total pressure with --P"
             )
-        total = read_pressure(_quantity_text(args.P, "pressure"))
-        for name, value in _pressure_pairs(args.y, "mole fraction").items():
-            try:
-                y = float(value)
-            except ValueError:
-                raise UnitError(value, "mole fraction", "write a number between 0 and 1") from None
-            if not 0 < y <= 1:
-                raise UnitError(value, "mole fraction", "must be in (0, 1]")
-            pressures[name] = f"{y * total} Pa"
+        fractions = read_mole_fractions(
+            _quantity_text(args.P, "pressure"), _pressure_pairs(args.y, "mole fraction")
+        )
+        for name, p_pa in fractions.items():
+            pressures[name] = (p_pa, "Pa")
     elif args.P is not None and not args.feed:
         raise UnitError(
             " ".join(args.P),
@@ -78,7 +82,7 @@ def _cmd_assess(args: argparse.Namespace) -> int:
     if args.T_range:
         tokens = args.T_range
         if len(tokens) == 3:
-            T_range = ((float(tokens[0]), tokens[2]), (float(tokens[1]), tokens[2]))
+            T_range = ((tokens[0], tokens[2]), (tokens[1], tokens[2]))
         elif len(tokens) == 2:
             T_range = (tokens[0], tokens[1])
         else:
@@ -179,10 +183,14 @@ def _cmd_assess(args: argparse.Namespace) -> int:
             required_K=args.require_K,
             **conv_kwargs,
         )
+        if args.sign_with:
+            record = sign_record(record, args.sign_with, password=_passphrase(args.sign_with))
         written = write_record(
             record, args.record, Path(args.record).with_suffix(".html"), overwrite=args.overwrite
         )
         print("record written: " + ", ".join(str(p) for p in written), file=sys.stderr)
+        if "signature" in record:
+            print(f"signed with key {record['signature']['key_fingerprint']}", file=sys.stderr)
     if args.json:
         doc = result.to_dict()
         if uncertain is not None:
@@ -202,9 +210,33 @@ def _cmd_assess(args: argparse.Namespace) -> int:
     return EXIT_OK
 
 
+def _passphrase(key_path: str) -> bytes | None:
+    """The passphrase of an encrypted PEM key, asked on the terminal (never an option, so it
+    stays out of the shell history); None for an unencrypted key."""
+    try:
+        with open(key_path, "rb") as fh:
+            head = fh.read(4096)
+    except OSError:
+        return None  # sign_record reports the unreadable file
+    if b"ENCRYPTED" not in head:
+        return None
+    if not sys.stdin.isatty():
+        raise InvalidInput(
+            "--sign-with",
+            "",
+            "an unencrypted key, or run on a terminal to type the key's passphrase",
+            key_path,
+        )
+    return getpass.getpass(f"passphrase of {key_path}: ").encode("utf-8")
+
+
 def _correlation(tokens: list[str]) -> tuple[tuple[str, str], tuple[str, str], str]:
     if len(tokens) != 3:
         raise UnitError(" ".join(tokens), "correlation", "write ID:QUANTITY ID:QUANTITY RHO")
+    try:
+        float(tokens[2])  # the kernel checks the range; here only that it is a number
+    except ValueError:
+        raise UnitError(tokens[2], "correlation", "RHO must be a number between −1 and 1") from None
     keys = []
     for t in tokens[:2]:
         if ":" not in t:
@@ -259,6 +291,12 @@ def register(sub: Any) -> None:
         metavar="PATH",
         help="add your own species (JSON or TOML, schema in data/SCHEMA.md)",
     )
+    a.add_argument(
+        "--replace-shipped",
+        action="store_true",
+        help="let --species-file entries replace shipped entries of the same id "
+        "(refused otherwise; the output says which were replaced)",
+    )
     a.add_argument("--json", action="store_true", help="print JSON instead of a table")
     e = a.add_argument_group("required conversion (equilibrium of this reaction)")
     e.add_argument("--feed", help='feed amounts, e.g. "CH4:1, H2O:2, N2:0.5" (inerts allowed)')
@@ -279,6 +317,12 @@ def register(sub: Any) -> None:
     r.add_argument("--reviewer", help="who reviews it (goes into the record)")
     r.add_argument("--rationale", help="why this step, in your words (goes into the record)")
     r.add_argument("--overwrite", action="store_true", help="replace existing record files")
+    r.add_argument(
+        "--sign-with",
+        metavar="KEY.pem",
+        help="sign the record with your Ed25519 private key (PEM file; only the public key "
+        "goes into the record)",
+    )
     g = a.add_argument_group("how sure (Monte Carlo over the data's uncertainty)")
     g.add_argument("--samples", type=int, metavar="N", help="Monte Carlo trials, e.g. 100000")
     g.add_argument("--seed", type=int, metavar="S", help="seed of the random generator")

@@ -31,7 +31,7 @@ def _cmd(args: argparse.Namespace) -> int:
         points=args.points,
         samples=args.samples,
         seed=args.seed,
-        library=_library(args.species_file),
+        library=_library(args.species_file, args.replace_shipped),
     )
     if args.figure:
         from ..figures import formation_figure
@@ -105,6 +105,11 @@ def register(sub: Any) -> None:
     e.add_argument("--samples", type=int, metavar="N", help="Monte Carlo trials for bands")
     e.add_argument("--seed", type=int, metavar="S")
     e.add_argument("--species-file", action="append", metavar="PATH")
+    e.add_argument(
+        "--replace-shipped",
+        action="store_true",
+        help="let --species-file entries replace shipped entries of the same id",
+    )
     e.add_argument("--json", action="store_true", help="print the table as JSON")
     e.add_argument("--csv", metavar="PATH", help="write the table as CSV")
     e.add_argument("--figure", metavar="PATH", help="write the diagram as a self-contained HTML")

@@ -6,11 +6,10 @@ import argparse
 import json
 from typing import Any
 
-import numpy as np
-
+from ..conditions import read_temperatures
 from ..equilibrium.conversion import Equilibrium, equilibrate
 from ..errors import UnitError
-from ..library.catalogue import Library, default_library
+from ._terminal import _library
 
 __all__ = ["register"]
 
@@ -23,13 +22,6 @@ def _quantity(tokens: list[str], what: str) -> Any:
         return [float(x) for x in numbers], unit
     except ValueError:
         raise UnitError(" ".join(tokens), what, "write numbers followed by one unit") from None
-
-
-def _library(files: list[str] | None) -> Library:
-    lib = default_library()
-    for path in files or []:
-        lib = lib.with_species(Library.from_file(path))
-    return lib
 
 
 def _print(eq: Equilibrium) -> None:
@@ -73,7 +65,7 @@ def _print(eq: Equilibrium) -> None:
 
 
 def _run(args: argparse.Namespace) -> int:
-    lib = _library(args.species_file)
+    lib = _library(args.species_file, args.replace_shipped)
     if (args.T is None) == (args.T_range is None):
         raise UnitError(None, "temperature", "give --T VALUE UNIT or --T-range LOW HIGH UNIT")
     if args.T is not None:
@@ -81,15 +73,12 @@ def _run(args: argparse.Namespace) -> int:
     else:
         if len(args.T_range) != 3:
             raise UnitError(" ".join(args.T_range), "temperature range", "write LOW HIGH UNIT")
-        if args.points < 2:
-            raise UnitError(args.points, "number of points", "need at least 2 temperatures")
         lo, hi, unit = args.T_range
-        try:
-            T = (np.linspace(float(lo), float(hi), args.points).tolist(), unit)
-        except ValueError:
-            raise UnitError(
-                " ".join(args.T_range), "temperature range", "LOW and HIGH are numbers"
-            ) from None
+        # The one reader checks the numbers, the unit and the number of points (capped).
+        temps, _ = read_temperatures(
+            None, ((lo, unit), (hi, unit)), args.points, "feasibly equilibrate"
+        )
+        T = (temps.tolist(), "K")
     P = _quantity(args.P, "pressure")
     if args.seed is not None and args.samples is None:
         raise UnitError(args.seed, "seed", "--seed needs --samples N")
@@ -121,5 +110,10 @@ def register(sub: Any) -> None:
     e.add_argument("--samples", type=int, metavar="N", help="Monte Carlo trials for the bands")
     e.add_argument("--seed", type=int, metavar="S", help="seed of the random generator")
     e.add_argument("--species-file", action="append", metavar="PATH", help="add your own species")
+    e.add_argument(
+        "--replace-shipped",
+        action="store_true",
+        help="let --species-file entries replace shipped entries of the same id",
+    )
     e.add_argument("--json", action="store_true", help="print JSON instead of a table")
     e.set_defaults(run=_run)

@@ -14,7 +14,7 @@ from ._terminal import (
 
 
 def _cmd_species(args: argparse.Namespace) -> int:
-    lib = _library(args.species_file)
+    lib = _library(args.species_file, args.replace_shipped)
     hits = lib.search(args.query, limit=args.limit)
     if args.json:
         print(
@@ -64,5 +64,10 @@ def register(sub: Any) -> None:
     s.add_argument("--limit", type=int, default=12)
     s.add_argument("--details", action="store_true", help="show every value's source")
     s.add_argument("--species-file", action="append", metavar="PATH")
+    s.add_argument(
+        "--replace-shipped",
+        action="store_true",
+        help="let --species-file entries replace shipped entries of the same id",
+    )
     s.add_argument("--json", action="store_true")
     s.set_defaults(run=_cmd_species)

@@ -14,7 +14,7 @@ from typing import Any
 
 import numpy as np
 
-from ..conditions import read_states
+from ..conditions import read_states, read_trials
 from ..errors import EquilibriumNotConverged, OutsideDataRange, UnitError, UnknownSpecies
 from ..library.catalogue import Library, default_library
 from ..library.cp_models import R
@@ -411,6 +411,7 @@ def equilibrate(
     if samples is None:
         return result
     inputs = build_inputs(_uncertain(sset.entries, library), overrides)
+    read_trials(samples, "samples", "equilibrate", len(inputs), size)  # before allocating
     drawn = draw_samples(
         inputs, samples, seed=seed, correlation=correlation_matrix(inputs, correlations)
     )

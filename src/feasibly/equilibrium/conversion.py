@@ -24,7 +24,7 @@ from typing import Any
 
 import numpy as np
 
-from ..conditions import read_confidence, read_probability, read_states
+from ..conditions import read_confidence, read_probability, read_states, read_trials
 from ..errors import EquilibriumNotConverged, UnitError, UnknownSpecies
 from ..library.catalogue import Library, default_library
 from ..library.cp_models import R
@@ -261,6 +261,8 @@ def conversion_bands(
     nu, gas, n0, inert, k = _reaction_inputs(rxn, nominal.feed, key, T_K)
     assert k is not None
     inputs = build_inputs(uncertain_species(rxn), overrides)
+    # The sampled states are held per temperature block; the work grows with trials × T.
+    read_trials(samples, "samples", "conversion_bands", len(inputs), T_K.size)
     drawn = draw_samples(
         inputs, samples, seed=seed, correlation=correlation_matrix(inputs, correlations)
     )

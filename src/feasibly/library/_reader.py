@@ -16,7 +16,8 @@ from typing import Any, TypeGuard
 
 import numpy as np
 
-from ..errors import DataFileError, FeasiblyError
+from .._limits import MAX_DATA_FILE_BYTES, MAX_NESTING, nesting_depth
+from ..errors import DataFileError, FeasiblyError, excerpt
 from .cp_models import T_REF, ConstantCp, CpModel, MaierKelleyCp, Nasa7
 from .formula import element_table, parse_formula
 from .species import PHASES, SourcedValue, Species
@@ -70,6 +71,27 @@ _CP_KEYS = {
 }
 _CP_COMMON = {"model", "u_rel", "source", "entry", "uncertainty"}
 
+
+#: An explicit entry id: formula characters, phase and form punctuation; no spaces, quotes, angle
+#: brackets or control characters, so an id is safe to show anywhere and to type in an equation.
+_ID = re.compile(r"[A-Za-z0-9\[(][A-Za-z0-9()\[\],+\-.*^·]{0,119}")
+#: Names, notes and sources: printable text; control characters (terminal escapes) are refused.
+_CONTROL = re.compile(r"[\x00-\x08\x0b-\x1f\x7f-\x9f\u200b-\u200f\u202a-\u202e\u2066-\u2069]")
+_MAX_NAME_CHARS = 200
+# Bounds on values, far outside anything physical but inside what float64 arithmetic on them
+# keeps finite: ΔfH° of a hypothetical phase's bookkeeping constant in the shipped data reaches
+# 4e8 J/mol; S° 8e5 J/(mol·K); a heat capacity of 1e4 J/(mol·K) is that of ~400 atoms at the
+# Dulong–Petit limit, larger than any species a feasibility screen handles.
+_MAX_ABS_DHF = 1e10
+_MAX_ABS_S = 1e8
+_MAX_CP = 1e4
+# A relative Cp uncertainty above 10 (1000 %) says nothing about Cp at all.
+_MAX_CP_U_REL = 10.0
+#: Highest temperature an entry may claim data for: far above any tabulated polynomial (6000 K).
+_MAX_T_K = 1e5
+
+# The largest ionic charge of an entry (the formula reader's bound).
+_MAX_CHARGE = 100
 
 # H(298.15) of an element's reference state is 0 by definition; 1e-6 J/mol allows float noise only.
 #: The data's standard state (1 bar); feasibly.conditions.STANDARD_PRESSURE_PA is the same number.
@@ -156,6 +178,9 @@ class _EntryReader:
                 field, "a source (citation or note saying where the value came from) is needed"
             )
             return
+        if _CONTROL.search(source):
+            self.bad(field, "must be printable text (no control characters)")
+            return
         if source.startswith("policy:"):
             if self.policies is not None and source[7:] not in self.policies:
                 self.bad(field, f"policy {source[7:]!r} is not described in uncertainty_policy")
@@ -215,7 +240,7 @@ class _EntryReader:
         out.setdefault("assumed", False)
         return derived, out
 
-    def value_block(self, field: str) -> SourcedValue | None:
+    def value_block(self, field: str, limit: float) -> SourcedValue | None:
         block = self.raw.get(field)
         if not isinstance(block, dict):
             self.bad(field, "must be a table with value, u (or uncertainty) and source")
@@ -224,7 +249,10 @@ class _EntryReader:
             self.bad(f"{field}.{key}", "unknown key")
         value = block.get("value")
         if not _finite(value):
-            self.bad(field + ".value", f"{value!r} is not a finite number")
+            self.bad(field + ".value", f"{excerpt(value)} is not a finite number")
+            return None
+        if abs(value) > limit:
+            self.bad(field + ".value", f"{value!r} is outside ±{limit:g}, not a physical value")
             return None
         self._check_source(field + ".source", block.get("source"))
         u, unc = self._uncertainty_block(field, block.get("uncertainty"), block.get("u"))
@@ -249,8 +277,8 @@ class _EntryReader:
             self.bad("cp", "must be a table with model, its parameters and u_rel")
             return None
         model = block.get("model")
-        if model not in _CP_KEYS:
-            self.bad("cp.model", f"{model!r} is not one of {', '.join(_CP_KEYS)}")
+        if not isinstance(model, str) or model not in _CP_KEYS:
+            self.bad("cp.model", f"{excerpt(model)} is not one of {', '.join(_CP_KEYS)}")
             return None
         for key in block.keys() - _CP_KEYS[model] - _CP_COMMON:
             self.bad(f"cp.{key}", f"unknown key for model {model}")
@@ -260,11 +288,35 @@ class _EntryReader:
             )
         u_rel, _ = self._uncertainty_block("cp", block.get("uncertainty"), block.get("u_rel"))
         self._check_source("cp.source", block.get("source"))
+        if u_rel is not None and u_rel > _MAX_CP_U_REL:
+            self.bad("cp.u_rel", f"{u_rel:g} is above {_MAX_CP_U_REL:g} (a relative uncertainty)")
         if not self.ok or u_rel is None:
             return None
+        built = self._cp_model(block, model, T_range)
+        if built is None:
+            return None
+        if T_range is not None:
+            # Cp over the whole range: finite and not absurd, so that the H and S integrals stay
+            # finite (a Cp of 1e308 once turned into "not feasible, P = 0"). The sign is checked
+            # per model above (a shipped NASA fit, NH4ClO4(cr,II), dips below 0 and is kept).
+            grid = np.linspace(T_range[0], T_range[1], 64)
+            with np.errstate(all="ignore"):
+                cp_grid = np.asarray(built.cp(grid), dtype=float)
+            if not np.all(np.isfinite(cp_grid)) or np.any(np.abs(cp_grid) > _MAX_CP):
+                self.bad(
+                    "cp",
+                    f"Cp is not within ±{_MAX_CP:g} J/(mol·K) everywhere in T_range_K; check "
+                    "the units (J/(mol·K)) and the coefficients",
+                )
+                return None
         info = {k: block[k] for k in ("model", "source", "entry") if k in block}
         if "uncertainty" in block:
             info["uncertainty"] = dict(block["uncertainty"])
+        return built, u_rel, info
+
+    def _cp_model(
+        self, block: dict[str, Any], model: str, T_range: tuple[float, float] | None
+    ) -> CpModel | None:
         try:
             if model == "nasa7":
                 breaks, coeffs = block["T_breaks_K"], block["coefficients"]
@@ -297,13 +349,13 @@ class _EntryReader:
                         f"ends {breaks[0]}, {breaks[-1]} do not match T_range_K {list(T_range)}",
                     )
                     return None
-                return Nasa7.from_lists(breaks, coeffs), u_rel, info
+                return Nasa7.from_lists(breaks, coeffs)
             if model == "constant":
                 value = block["cp_J_per_mol_K"]
                 if not _finite(value) or value <= 0:
                     self.bad("cp.cp_J_per_mol_K", f"{value!r} is not a positive finite number")
                     return None
-                return ConstantCp(float(value)), u_rel, info
+                return ConstantCp(float(value))
             a, b, c = block["a"], block["b"], block["c"]
             if not all(map(_finite, (a, b, c))):
                 self.bad("cp", "a, b and c must be finite numbers")
@@ -314,8 +366,8 @@ class _EntryReader:
                 if np.any(mk.cp(grid) <= 0):
                     self.bad("cp", "Cp = a + bT + c/T² is not positive over T_range_K")
                     return None
-            return mk, u_rel, info
-        except (TypeError, ValueError) as exc:  # pragma: no cover - guarded above
+            return mk
+        except (TypeError, ValueError, OverflowError) as exc:  # pragma: no cover - guarded above
             self.bad("cp", f"unusable parameters ({exc})")
             return None
 
@@ -361,11 +413,13 @@ class _EntryReader:
         charge = raw.get("charge", parsed.charge if parsed else 0)
         if not isinstance(charge, int) or isinstance(charge, bool):
             self.bad("charge", "must be an integer")
+        elif abs(charge) > _MAX_CHARGE:
+            self.bad("charge", f"must be between -{_MAX_CHARGE} and {_MAX_CHARGE}")
         elif parsed is not None and charge != parsed.charge:
             self.bad("charge", f"{charge} does not match formula {formula!r} ({parsed.charge})")
         phase = raw["phase"]
-        if phase not in PHASES:
-            self.bad("phase", f"{phase!r} is not one of {', '.join(PHASES)}")
+        if not isinstance(phase, str) or phase not in PHASES:
+            self.bad("phase", f"{excerpt(phase)} is not one of {', '.join(PHASES)}")
         form = raw.get("form")
         if form is not None and (
             not isinstance(form, str) or not re.fullmatch(r"[A-Za-z0-9][\w\-]*", form)
@@ -379,13 +433,20 @@ class _EntryReader:
             or not all(map(_finite, T_range))
             or T_range[0] <= 0
             or T_range[1] <= T_range[0]
+            or T_range[1] > _MAX_T_K
         ):
-            self.bad("T_range_K", f"{T_range!r} is not [Tmin, Tmax] with 0 K < Tmin < Tmax")
+            self.bad(
+                "T_range_K",
+                f"{excerpt(T_range)} is not [Tmin, Tmax] with 0 K < Tmin < Tmax ≤ {_MAX_T_K:g} K",
+            )
         else:
             rng = (float(T_range[0]), float(T_range[1]))
-        dHf = self.value_block("dHf_298")
-        S298 = self.value_block("S_298")
+        dHf = self.value_block("dHf_298", _MAX_ABS_DHF)
+        S298 = self.value_block("S_298", _MAX_ABS_S)
         hypothetical = raw.get("hypothetical_298")
+        if hypothetical is not None and not isinstance(hypothetical, bool):
+            self.bad("hypothetical_298", f"{excerpt(hypothetical)} is not true or false")
+            hypothetical = None
         if hypothetical is None and rng is not None:
             hypothetical = not (rng[0] <= T_REF <= rng[1])
         # A phase that does not exist at 298.15 K carries the source's extrapolated bookkeeping
@@ -395,8 +456,16 @@ class _EntryReader:
         cp = self.cp_block(rng)
         ref = raw.get("reference_state_of")
         if ref is not None:
-            if parsed is None or ref not in parsed.elements or len(parsed.elements) != 1:
-                self.bad("reference_state_of", f"{ref!r} is not the single element of {formula!r}")
+            if (
+                not isinstance(ref, str)
+                or parsed is None
+                or ref not in parsed.elements
+                or len(parsed.elements) != 1
+            ):
+                self.bad(
+                    "reference_state_of",
+                    f"{excerpt(ref)} is not the single element of {excerpt(formula)}",
+                )
             elif dHf is not None and abs(dHf.value) > _REF_STATE_TOL:
                 self.bad(
                     "dHf_298.value",
@@ -407,6 +476,13 @@ class _EntryReader:
         if not isinstance(names, list) or not all(isinstance(n, str) for n in names):
             self.bad("names", "must be a list of text")
             names = []
+        for n in names:
+            if _CONTROL.search(n) or len(n) > _MAX_NAME_CHARS or not n.strip():
+                self.bad(
+                    "names",
+                    f"{excerpt(n)} must be non-empty printable text of at most "
+                    f"{_MAX_NAME_CHARS} characters (no control characters)",
+                )
         cas = raw.get("cas")
         if cas is not None and (
             not isinstance(cas, str) or not re.fullmatch(r"\d{2,7}-\d\d-\d", cas)
@@ -416,6 +492,17 @@ class _EntryReader:
         if not isinstance(notes, list) or not all(isinstance(n, str) for n in notes):
             self.bad("notes", "must be a list of text")
             notes = []
+        if any(_CONTROL.search(n) for n in notes):
+            self.bad("notes", "must be printable text (no control characters)")
+        explicit_id = raw.get("id")
+        if explicit_id is not None and (
+            not isinstance(explicit_id, str) or not _ID.fullmatch(explicit_id)
+        ):
+            self.bad(
+                "id",
+                f"{excerpt(explicit_id)} is not an entry id: use the formula with its phase, "
+                "e.g. CO2(g) or CaCO3(cr,calcite) (letters, digits and ()[],+-.*^ only)",
+            )
         if (
             not self.ok
             or parsed is None
@@ -466,15 +553,28 @@ class _EntryReader:
 
 
 def _parse_document(text: str, name: str) -> Any:
-    if name.endswith(".toml"):
-        try:
-            return tomllib.loads(text)
-        except tomllib.TOMLDecodeError as exc:
-            raise DataFileError(name, [f"not valid TOML: {exc}"]) from None
+    if len(text) > MAX_DATA_FILE_BYTES:
+        raise DataFileError(
+            name, [f"larger than {MAX_DATA_FILE_BYTES // 2**20} MiB; not a species file"]
+        )
+    too_deep = f"tables and lists nested more than {MAX_NESTING} deep; not a species file"
     try:
-        return json.loads(text)
-    except json.JSONDecodeError as exc:
-        raise DataFileError(name, [f"not valid JSON: {exc}"]) from None
+        if name.endswith(".toml"):
+            try:
+                doc = tomllib.loads(text)
+            except tomllib.TOMLDecodeError as exc:
+                raise DataFileError(name, [f"not valid TOML: {exc}"]) from None
+        else:
+            try:
+                # NaN and Infinity are read so that the field check names the field they are in.
+                doc = json.loads(text)
+            except json.JSONDecodeError as exc:
+                raise DataFileError(name, [f"not valid JSON: {exc}"]) from None
+    except RecursionError:
+        raise DataFileError(name, [too_deep]) from None
+    if nesting_depth(doc) > MAX_NESTING:
+        raise DataFileError(name, [too_deep])
+    return doc
 
 
 def _read_species(doc: Any, name: str, origin: str, shipped: bool) -> tuple[list[Species], dict]:
@@ -523,7 +623,8 @@ def _read_species(doc: Any, name: str, origin: str, shipped: bool) -> tuple[list
     out: list[Species] = []
     seen: dict[str, int] = {}
     for i, raw in enumerate(species_raw):
-        label = raw.get("id") or raw.get("formula") if isinstance(raw, dict) else None
+        label = (raw.get("id") or raw.get("formula")) if isinstance(raw, dict) else None
+        label = excerpt(label, 40)[1:-1] if isinstance(label, str) else excerpt(label, 40)
         reader = _EntryReader(
             raw,
             f"entry {i} ({label})",

@@ -20,6 +20,7 @@ from types import MappingProxyType
 from typing import Any
 
 from .._files import data_text
+from .._limits import MAX_DATA_FILE_BYTES
 from .._pickling import ProxyPickling
 from ..errors import DataFileError, FeasiblyError, UnknownSpecies
 from ._reader import (
@@ -42,6 +43,10 @@ __all__ = [
 ]
 
 
+# Queries longer than this get no suggestions: the longest id, formula or name is under 100.
+_MAX_SUGGEST_CHARS = 120
+
+
 def _norm(text: str) -> str:
     return re.sub(r"[\s_]+", " ", text.strip().lower())
 
@@ -62,6 +67,8 @@ class Library(ProxyPickling):
         self.meta = MappingProxyType(dict(meta or {}))
         self._hazards = dict(hazards or {})
         self.user_files = user_files
+        #: (id, origin of the entry replaced, origin of the replacement) for each replacement.
+        self.replaced: tuple[tuple[str, str, str], ...] = ()
         self._by_formula: dict[str, list[Species]] = {}
         self._by_name: dict[str, list[Species]] = {}
         self._by_cas: dict[str, list[Species]] = {}
@@ -92,6 +99,11 @@ class Library(ProxyPickling):
         """Read a user species file (``.json`` or ``.toml``) of the shipped schema."""
         path = Path(path)
         try:
+            if path.stat().st_size > MAX_DATA_FILE_BYTES:
+                raise DataFileError(
+                    str(path),
+                    [f"larger than {MAX_DATA_FILE_BYTES // 2**20} MiB; not a species file"],
+                )
             text = path.read_text("utf-8")
         except OSError as exc:
             raise DataFileError(str(path), [f"cannot read the file ({exc.strerror})"]) from None
@@ -100,12 +112,43 @@ class Library(ProxyPickling):
         lib = cls.from_text(text, str(path), origin=f"user file {path.name}")
         return cls(lib, lib.meta, user_files=(str(path),))
 
-    def with_species(self, other: Library | Iterable[Species]) -> Library:
-        """A new library with ``other``'s entries added; one with an existing id replaces it."""
+    def with_species(
+        self, other: Library | Iterable[Species], *, replace_shipped: bool = False
+    ) -> Library:
+        """A new library with ``other``'s entries added.
+
+        An entry whose id is already in this library (shipped, or from an earlier user file) is
+        refused with :class:`~feasibly.errors.DataFileError` unless ``replace_shipped`` is true;
+        then it replaces the existing one, and :attr:`replaced` lists it, so that every output
+        can say so.
+        """
         extra = list(other)
         files = self.user_files + (other.user_files if isinstance(other, Library) else ())
+        clashes = [sp for sp in extra if sp.id in self._by_id]
+        if clashes and not replace_shipped:
+            where = files[-1] if files else (extra[0].origin if extra else "species")
+            raise DataFileError(
+                where,
+                [
+                    f"entry {sp.id}: this id is already in the library "
+                    f"({self._by_id[sp.id].origin}); a species file may add entries but "
+                    "replaces one only when asked (replace_shipped=True, or --replace-shipped "
+                    "on the command line); otherwise give your entry another form label, "
+                    "e.g. (g,mine)"
+                    for sp in clashes[:20]
+                ],
+            )
         merged = {**self._by_id, **{sp.id: sp for sp in extra}}
-        return Library(merged.values(), self.meta, self._hazards, files)
+        replaced = self.replaced + tuple(
+            (sp.id, self._by_id[sp.id].origin, sp.origin) for sp in clashes
+        )
+        out = Library(merged.values(), self.meta, self._hazards, files)
+        out.replaced = replaced
+        return out
+
+    def user_entries(self) -> list[tuple[str, str]]:
+        """(id, origin) of every entry that did not come from the shipped library."""
+        return [(sp.id, sp.origin) for sp in self._by_id.values() if sp.origin != "library"]
 
     # --- access -------------------------------------------------------------------------------
     def __len__(self) -> int:
@@ -187,6 +230,8 @@ class Library(ProxyPickling):
 
     def suggest(self, query: str, limit: int = 5) -> list[str]:
         """Close matches among ids, formulas and names, for error messages."""
+        if len(query) > _MAX_SUGGEST_CHARS:
+            return []  # nothing in the library is that long; difflib's cost grows with it
         keys = list(self._by_id) + list(self._by_formula) + list(self._by_name)
         low = {k.lower(): k for k in keys}
         hits = difflib.get_close_matches(query.strip().lower(), list(low), n=limit, cutoff=0.6)

@@ -19,6 +19,7 @@ from types import MappingProxyType
 from typing import Any
 
 from .._files import data_text
+from .._limits import MAX_FORMULA_CHARS, MAX_NUMBER_DIGITS
 from .._pickling import ProxyPickling
 from ..errors import ReactionSyntaxError
 
@@ -44,6 +45,8 @@ def element_table() -> MappingProxyType[str, Any]:
     return MappingProxyType(json.loads(data_text("elements.json"))["elements"])
 
 
+# The largest ionic charge accepted: real ions carry at most a few tens of charges.
+_MAX_CHARGE = 100
 _CHARGE = re.compile(r"(?:\^(?P<n1>\d*)(?P<s1>[+-])|(?P<s2>[+-])(?P<n2>\d*))$")
 _TOKEN = re.compile(r"([A-Z][a-z]?)|(\d+(?:\.\d+)?)|([(\[])|([)\]])|(\s+)|(.)")
 _PREFIX = re.compile(r"^(?:(?:[a-z]{1,5}|\d+(?:,\d+)*)-)+(?=[A-Z(\[])")
@@ -56,6 +59,8 @@ def _split_charge(text: str) -> tuple[str, int]:
     sign = match.group("s1") or match.group("s2")
     digits = match.group("n1") if match.group("s1") else match.group("n2")
     magnitude = int(digits) if digits else 1
+    if magnitude > _MAX_CHARGE:
+        raise ReactionSyntaxError(text, f"a charge of {magnitude} is above {_MAX_CHARGE}")
     return text[: match.start()], -magnitude if sign == "-" else magnitude
 
 
@@ -111,9 +116,16 @@ def parse_formula(text: str) -> ParsedFormula:
     -2
     """
     original = text
+    if not isinstance(text, str):
+        raise ReactionSyntaxError(type(text).__name__, "a formula must be text")
     text = text.strip()
     if not text:
         raise ReactionSyntaxError(original, "empty formula")
+    if len(text) > MAX_FORMULA_CHARS:
+        raise ReactionSyntaxError(original, f"longer than {MAX_FORMULA_CHARS} characters")
+    longest = max((len(run) for run in re.findall(r"\d+", text)), default=0)
+    if longest > MAX_NUMBER_DIGITS:
+        raise ReactionSyntaxError(original, f"a number has more than {MAX_NUMBER_DIGITS} digits")
     text = _PREFIX.sub("", text)
     if re.search(r"\d\.\d*H2O", text):
         raise ReactionSyntaxError(

@@ -4,6 +4,7 @@ verification that recomputes the call from the record's own inputs.
 - :mod:`~feasibly.records.document` — canonical form, hash, reading, validation, atomic writing;
 - :mod:`~feasibly.records.build` — a record from an assessment;
 - :mod:`~feasibly.records.verify` — recompute and compare;
+- :mod:`~feasibly.records.signing` — an optional Ed25519 signature with the user's own key;
 - ``_schema``, ``_report``, ``_svg`` — the published schema, the HTML/Markdown report and its
   dependency-free charts (private).
 
@@ -21,19 +22,24 @@ from .document import (
     validate_record,
     write_record,
 )
+from .signing import SignatureCheck, check_signature, key_fingerprint, sign_record
 from .verify import Difference, VerifyResult, verify_record
 
 __all__ = [
     "SCHEMA_MARK",
     "SCHEMA_VERSION",
     "Difference",
+    "SignatureCheck",
     "VerifyResult",
+    "check_signature",
+    "key_fingerprint",
     "load_record",
     "make_record",
     "record_from",
     "record_hash",
     "record_html",
     "record_markdown",
+    "sign_record",
     "validate_record",
     "verify_record",
     "write_record",

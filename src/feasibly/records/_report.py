@@ -61,11 +61,16 @@ svg.figure { max-width: 100%; height: auto; display: block; margin: .6rem 0; }
 def _num(x: Any, scale: float = 1.0, digits: int = 2) -> str:
     if isinstance(x, (int, float)) and not isinstance(x, bool) and math.isfinite(x):
         return f"{x / scale:,.{digits}f}"
-    return "—" if x is None else str(x)
+    return "—" if x is None else escape(str(x))
 
 
 def _pct(p: Any, digits: int = 1) -> str:
     return f"{p:.{digits}%}" if isinstance(p, (int, float)) and math.isfinite(p) else "—"
+
+
+def _code(x: Any) -> str:
+    """Text for a Markdown code span: escaped, and no backtick to end the span early."""
+    return escape(str(x)).replace("`", "&#96;")
 
 
 def _e(x: Any) -> str:
@@ -360,19 +365,25 @@ def _conversion(doc: Mapping[str, Any]) -> str:
 
 
 def _species(doc: Mapping[str, Any]) -> str:
+    from ..library import default_library
+
+    shipped = default_library()
     rows = []
     for s in doc["species"]:
         p = s["provenance"]
+        origin = s["origin"]
+        if origin != "library" and s["id"] in shipped:
+            origin += " (REPLACES the shipped entry of this id)"
         h, sv, cp = p["dHf_298_J_per_mol"], p["S_298_J_per_mol_K"], p["cp"]
         rows.append(
             [
-                f"<b>{_e(s['id'])}</b><br><span class='muted'>{_e(s['origin'])}</span>",
+                f"<b>{_e(s['id'])}</b><br><span class='muted'>{_e(origin)}</span>",
                 f"{p['T_range_K'][0]:g}–{p['T_range_K'][1]:g}",
                 f"{h['value'] / 1000:,.3f} ± {h['u'] / 1000:.3f}<br>"
                 f"<span class='muted'>{_e(h['source'])}; {_e(_conv(h))}</span>",
                 f"{sv['value']:,.3f} ± {sv['u']:.3f}<br>"
                 f"<span class='muted'>{_e(sv['source'])}; {_e(_conv(sv))}</span>",
-                f"{cp.get('model', '')} ± {_pct(cp['u_rel'])}<br>"
+                f"{_e(cp.get('model', ''))} ± {_pct(cp['u_rel'])}<br>"
                 f"<span class='muted'>{_e(cp.get('source', ''))}</span>",
             ]
         )
@@ -486,21 +497,21 @@ def render_markdown(doc: Mapping[str, Any]) -> str:
     review = {k: escape(v) for k, v in doc["review"].items()}
     a, unc = res["assessment"], res["uncertainty"]
     lines = [
-        f"# Feasibility decision record: {rxn['pretty']}",
+        f"# Feasibility decision record: {escape(rxn['pretty'])}",
         "",
-        f"**{res['summary']['verdict'].upper()}** — {res['summary']['headline']}",
+        f"**{escape(res['summary']['verdict'].upper())}** — {escape(res['summary']['headline'])}",
         "",
         *_window_text(doc),
         "",
-        f"- Equation entered: `{rxn['entered']}`; balanced: `{rxn['balanced']}`",
-        f"- Made {doc['created']}; author: {review['author'] or '—'}; "
+        f"- Equation entered: `{_code(rxn['entered'])}`; balanced: `{_code(rxn['balanced'])}`",
+        f"- Made {escape(doc['created'])}; author: {review['author'] or '—'}; "
         f"reviewer: {review['reviewer'] or '—'}",
         f"- Rationale: {review['rationale'] or '—'}",
         "",
     ]
     if a["cautions"]:
-        lines += ["## Cautions", "", *(f"- {c['message']}" for c in a["cautions"]), ""]
-    lines += [*(f"> {n}" for n in a["notes"]), ""] if a["notes"] else []
+        lines += ["## Cautions", "", *(f"- {escape(c['message'])}" for c in a["cautions"]), ""]
+    lines += [*(f"> {escape(n)}" for n in a["notes"]), ""] if a["notes"] else []
     header = ["T / K", "ΔrG° kJ/mol"]
     if unc is not None:
         header += ["mean ΔrG kJ/mol", "95 % interval kJ/mol", "P(feasible)", "call"]
@@ -521,13 +532,15 @@ def render_markdown(doc: Mapping[str, Any]) -> str:
     if settings is not None:
         lines.append(
             f"Sampling {settings['method']}, seed {settings['seed']}, {unc['trials']:,} trials; "
-            f"{settings['criterion_text']}; confidence {settings['confidence']:.0%}."
+            f"{escape(settings['criterion_text'])}; confidence {settings['confidence']:.0%}."
         )
         for o in settings["overrides"]:
-            lines.append(f"- Override {escape(o['target'])} {o['quantity']}: {escape(o['reason'])}")
+            lines.append(
+                f"- Override {escape(o['target'])} {escape(o['quantity'])}: {escape(o['reason'])}"
+            )
     lines += [
         "",
-        f"Data library {doc['data']['library_version']} (sha256 "
+        f"Data library {escape(doc['data']['library_version'])} (sha256 "
         f"`{doc['data']['library_sha256']}`); record sha256 "
         f"`{doc['integrity']['content_sha256']}`.",
         "",

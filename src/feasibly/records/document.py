@@ -26,6 +26,7 @@ writing. The HTML and Markdown forms live in ``feasibly.records._report``.
 
 from __future__ import annotations
 
+import errno
 import hashlib
 import json
 import os
@@ -35,6 +36,7 @@ from pathlib import Path
 from typing import Any
 
 from .. import __about__
+from .._limits import MAX_NESTING, MAX_RECORD_BYTES, nesting_depth
 from ..errors import RecordError
 from ._schema import schema_problems
 
@@ -79,8 +81,9 @@ def _canonical(doc: Any) -> bytes:
 
 
 def record_hash(record: Mapping[str, Any]) -> str:
-    """SHA-256 of the canonical serialisation of ``record`` without its ``integrity`` member."""
-    body = {k: v for k, v in record.items() if k != "integrity"}
+    """SHA-256 of the canonical serialisation of ``record`` without its ``integrity`` and
+    ``signature`` members (a signature is added after sealing and covers the seal)."""
+    body = {k: v for k, v in record.items() if k not in ("integrity", "signature")}
     return hashlib.sha256(_canonical(body)).hexdigest()
 
 
@@ -112,9 +115,15 @@ def _unique_keys(pairs: list[tuple[str, Any]]) -> dict[str, Any]:
 
 
 def parse_record_text(text: str, where: str = "<text>") -> dict[str, Any]:
-    """Read record JSON text into plain data (strict: no NaN/Infinity, no repeated keys)."""
+    """Read record JSON text into plain data (strict: no NaN/Infinity, no repeated keys; bounded
+    size and nesting)."""
+    if len(text) > MAX_RECORD_BYTES:
+        raise RecordError(where, [f"larger than {MAX_RECORD_BYTES // 2**20} MiB; not a record"])
+    too_deep = f"lists and objects nested more than {MAX_NESTING} deep; not a record"
     try:
         doc = json.loads(text, parse_constant=_no_constants, object_pairs_hook=_unique_keys)
+    except RecursionError:
+        raise RecordError(where, [too_deep]) from None
     except json.JSONDecodeError as exc:
         raise RecordError(
             where, [f"not JSON: {exc.msg} at line {exc.lineno}, column {exc.colno}"]
@@ -123,6 +132,8 @@ def parse_record_text(text: str, where: str = "<text>") -> dict[str, Any]:
         raise RecordError(where, [f"not a usable JSON document: {exc}"]) from None
     if not isinstance(doc, dict):
         raise RecordError(where, ["the record must be a JSON object at the top level"])
+    if nesting_depth(doc) > MAX_NESTING:
+        raise RecordError(where, [too_deep])
     return doc
 
 
@@ -192,6 +203,10 @@ def load_record(path: str | Path, *, check_hash: bool = True) -> dict[str, Any]:
     """Read a record file and validate it (schema version, fields and types, content hash)."""
     path = Path(path)
     try:
+        if path.stat().st_size > MAX_RECORD_BYTES:
+            raise RecordError(
+                str(path), [f"larger than {MAX_RECORD_BYTES // 2**20} MiB; not a record"]
+            )
         text = path.read_text("utf-8")
     except OSError as exc:
         raise RecordError(str(path), [f"cannot read the file ({exc.strerror})"]) from None
@@ -201,9 +216,22 @@ def load_record(path: str | Path, *, check_hash: bool = True) -> dict[str, Any]:
 
 
 # --- writing --------------------------------------------------------------------------------------
-def _write_atomic(path: Path, text: str, overwrite: bool) -> None:
-    directory = path.parent if str(path.parent) else Path(".")
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=directory)
+def _target(path: Any, what: str) -> Path:
+    """A usable path to write ``what`` to, or a RecordError saying why not."""
+    if not isinstance(path, (str, Path)) or not str(path).strip():
+        raise RecordError("write_record", [f"the {what} path is empty; give a file name"])
+    p = Path(path)
+    if p.is_dir() or str(path).endswith(("/", os.sep)):
+        raise RecordError(str(p), [f"is a directory; give a file name for the {what}"])
+    parent = p.parent if str(p.parent) else Path(".")
+    if not parent.is_dir():
+        raise RecordError(str(p), [f"the directory {parent} does not exist; create it first"])
+    return p
+
+
+def _temp_copy(path: Path, text: str) -> str:
+    """Write ``text`` to a new temporary file beside ``path``; return its name."""
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
     try:
         with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as fh:
             fh.write(text)
@@ -214,24 +242,67 @@ def _write_atomic(path: Path, text: str, overwrite: bool) -> None:
         umask = os.umask(0)
         os.umask(umask)
         os.chmod(tmp, 0o666 & ~umask)
-        if overwrite:
-            os.replace(tmp, path)
-        else:
-            try:
-                os.link(tmp, path)  # fails if the target exists: no window for a clobber
-            except FileExistsError:
-                raise RecordError(
-                    str(path), ["file exists; pass overwrite=True (or --overwrite) to replace it"]
-                ) from None
-            except OSError:  # a filesystem without hard links: check, then rename
-                if path.exists():
-                    raise RecordError(
-                        str(path), ["file exists; pass overwrite=True to replace it"]
-                    ) from None
+    except BaseException:
+        _unlink(tmp)
+        raise
+    return tmp
+
+
+def _unlink(path: str | Path) -> None:
+    try:
+        os.unlink(path)
+    except OSError:
+        pass
+
+
+def _commit(pairs: list[tuple[Path, str]], overwrite: bool) -> None:
+    """Move every temporary file onto its target, all or none.
+
+    Without ``overwrite`` each target is created with a hard link, which fails if the target
+    exists (no window for a clobber); with it, each existing target is first kept under a
+    hard-linked backup name, so that if a later step fails every target is put back as it was.
+    """
+    done: list[tuple[Path, str | None]] = []  # (target, backup of its old content or None)
+    backups: list[str] = []
+    try:
+        for path, tmp in pairs:
+            backup = None
+            if overwrite and path.exists():
+                backup = f"{tmp}.old"
+                os.link(path, backup)
+                backups.append(backup)
+            if overwrite:
                 os.replace(tmp, path)
+            else:
+                try:
+                    os.link(tmp, path)
+                except FileExistsError:
+                    raise RecordError(
+                        str(path),
+                        ["file exists; pass overwrite=True (or --overwrite) to replace it"],
+                    ) from None
+                except OSError as exc:
+                    if exc.errno not in (errno.EPERM, errno.EOPNOTSUPP, errno.EXDEV):
+                        raise
+                    # a filesystem without hard links: check, then rename
+                    if path.exists():
+                        raise RecordError(
+                            str(path), ["file exists; pass overwrite=True to replace it"]
+                        ) from None
+                    os.replace(tmp, path)
+            done.append((path, backup))
+    except BaseException:
+        for path, backup in reversed(done):
+            if backup is not None:
+                os.replace(backup, path)
+            else:
+                _unlink(path)
+        raise
     finally:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
+        for _, tmp in pairs:
+            _unlink(tmp)
+        for backup in backups:
+            _unlink(backup)
 
 
 def write_record(
@@ -244,20 +315,26 @@ def write_record(
 ) -> list[Path]:
     """Write the record as JSON (and optionally its HTML report and Markdown); return the paths.
 
-    The record is validated first (a record changed after it was made is refused). Each file is
-    written to a temporary file in its directory and renamed into place; an existing file is
-    left alone (:class:`RecordError`) unless ``overwrite`` is true, and then none is written.
+    The files are written as a unit: the record is validated and every text rendered first,
+    each is written to a temporary file beside its target, and only when all are complete are
+    they moved into place — all of them, or none (an existing pair stays intact until the new
+    one is complete). An existing file is left alone (:class:`RecordError`) unless
+    ``overwrite`` is true. Empty paths, directories, missing directories and any failure to
+    write (read-only directory, full disk, file-size limit) are a :class:`RecordError`.
     """
     doc = validate_record(dict(record), "record to write")
     from ._report import render_html, render_markdown
 
     targets: list[tuple[Path, str]] = [
-        (Path(path_json), json.dumps(doc, indent=2, ensure_ascii=False, allow_nan=False) + "\n")
+        (
+            _target(path_json, "JSON record"),
+            json.dumps(doc, indent=2, ensure_ascii=False, allow_nan=False) + "\n",
+        )
     ]
     if path_html is not None:
-        targets.append((Path(path_html), render_html(doc)))
+        targets.append((_target(path_html, "HTML report"), render_html(doc)))
     if path_markdown is not None:
-        targets.append((Path(path_markdown), render_markdown(doc)))
+        targets.append((_target(path_markdown, "Markdown summary"), render_markdown(doc)))
     if len({p.resolve() for p, _ in targets}) < len(targets):
         raise RecordError("write_record", ["the JSON, HTML and Markdown paths must differ"])
     if not overwrite:
@@ -267,8 +344,21 @@ def write_record(
                 ", ".join(existing),
                 ["file exists; pass overwrite=True (or --overwrite) to replace it"],
             )
-    for p, text in targets:
-        _write_atomic(p, text, overwrite)
+    pairs: list[tuple[Path, str]] = []
+    current = targets[0][0]
+    try:
+        for p, text in targets:
+            current = p
+            pairs.append((p, _temp_copy(p, text)))
+        _commit(pairs, overwrite)
+    except OSError as exc:
+        for _, tmp in pairs:
+            _unlink(tmp)
+        reason = exc.strerror or type(exc).__name__
+        raise RecordError(
+            str(current),
+            [f"cannot write the record ({reason}); nothing was written or replaced"],
+        ) from None
     return [p for p, _ in targets]
 
 

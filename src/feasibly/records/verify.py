@@ -23,6 +23,7 @@ from ..uncertainty import ADAPTIVE_MAX_TRIALS, assess_uncertainty
 from ..uncertainty.inputs import InputKey, Override
 from .build import environment, record_from
 from .document import _RECOMPUTED, _changed_sections, load_record, record_hash, validate_record
+from .signing import SignatureCheck
 
 __all__ = ["Difference", "VerifyResult", "verify_record"]
 
@@ -67,13 +68,18 @@ def _distribution(data: Any) -> Any:
 
 
 def _library_for(doc: Mapping[str, Any]) -> Library:
-    """The shipped library with the user entries the record carries (its own files not needed)."""
+    """The shipped library with the user entries the record carries (its own files not needed).
+
+    A carried entry may replace a shipped one (the call was made that way, with the user's
+    explicit permission); :attr:`Library.replaced` lists them so the result can say so.
+    """
     lib = default_library()
     origins = dict.fromkeys(s["origin"] for s in doc["species"] if s["origin"] != "library")
     for origin in origins:
         entries = [s["entry"] for s in doc["species"] if s["origin"] == origin]
         text = json.dumps({"schema": "feasibly-species", "schema_version": 1, "species": entries})
-        lib = lib.with_species(Library.from_text(text, "species carried in the record", origin))
+        carried = Library.from_text(text, "species carried in the record", origin)
+        lib = lib.with_species(carried, replace_shipped=True)
     return lib
 
 
@@ -173,18 +179,31 @@ def _rerun(doc: Mapping[str, Any]) -> dict[str, Any]:
     )
 
 
-def verify_record(record: Mapping[str, Any] | str | Path) -> VerifyResult:
+def verify_record(
+    record: Mapping[str, Any] | str | Path, *, trusted_key: str | Path | Any | None = None
+) -> VerifyResult:
     """Recompute a record (a dict, or the path of its JSON) and compare every result exactly.
 
     Reports an edit after export (content hash), each result that differs (recorded and now),
     species entries of the shipped library that differ from the library installed now, and a
     change of data library version or hash as such. Malformed records raise :class:`RecordError`.
+
+    The signature (:mod:`feasibly.records.signing`) is checked too: one that does not hold, or
+    (with ``trusted_key``, a PEM public key file or key) one by another key or none, is a
+    difference. ``result.signature`` says in plain words what the record proves.
     """
     if isinstance(record, (str, Path)):
         doc = load_record(record, check_hash=False)
     else:
         doc = validate_record(dict(record), check_hash=False)
     result = VerifyResult()
+    from .signing import check_signature
+
+    result.signature = check_signature(doc, trusted_key)
+    if not result.signature.ok:
+        result.differences.append(
+            Difference("signature", None, result.signature.meaning, "signature")
+        )
     actual = record_hash(doc)
     if doc["integrity"]["content_sha256"] != actual:
         changed = _changed_sections(doc)
@@ -218,6 +237,11 @@ def verify_record(record: Mapping[str, Any] | str | Path) -> VerifyResult:
             "digits may come from that"
         )
     try:
+        for sid, _, origin in _library_for(doc).replaced:
+            result.notes.append(
+                f"{sid} is not the shipped entry: the recorded call replaced it with one from "
+                f"{origin}"
+            )
         fresh = _rerun(doc)
     except FeasiblyError as exc:
         result.differences.append(
@@ -241,10 +265,10 @@ class Difference:
     field: str
     recorded: Any
     now: Any
-    kind: str = "result"  # result | integrity | data | recompute
+    kind: str = "result"  # result | integrity | data | recompute | signature
 
     def __str__(self) -> str:
-        if self.kind in ("integrity", "recompute"):
+        if self.kind in ("integrity", "recompute", "signature"):
             return f"{self.field}: {self.now}"
         return f"{self.field}: recorded {_short(self.recorded)}, now {_short(self.now)}"
 
@@ -260,6 +284,7 @@ class VerifyResult:
 
     differences: list[Difference] = field(default_factory=list)
     notes: list[str] = field(default_factory=list)
+    signature: SignatureCheck | None = None
 
     @property
     def identical(self) -> bool:
@@ -280,6 +305,8 @@ class VerifyResult:
             if len(self.differences) > limit:
                 lines.append(f"  … and {len(self.differences) - limit} more")
         lines += [f"note: {n}" for n in self.notes]
+        if self.signature is not None and self.signature.ok:
+            lines.append(f"signature: {self.signature.meaning}")
         return "\n".join(lines)
 
     def to_dict(self) -> dict[str, Any]:
@@ -291,4 +318,5 @@ class VerifyResult:
                 for d in self.differences
             ],
             "notes": list(self.notes),
+            "signature": None if self.signature is None else self.signature.to_dict(),
         }

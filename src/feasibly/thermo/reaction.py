@@ -18,6 +18,7 @@ from functools import reduce
 
 import numpy as np
 
+from .._limits import MAX_EQUATION_CHARS, MAX_NUMBER_DIGITS
 from ..errors import (
     AmbiguousBalance,
     FeasiblyError,
@@ -25,6 +26,7 @@ from ..errors import (
     ReactionSyntaxError,
     UnbalancedReaction,
     UnknownSpecies,
+    excerpt,
 )
 from ..library.catalogue import Library, default_library
 from ..library.formula import parse_formula, pretty_formula
@@ -47,6 +49,16 @@ _PHASE_WORDS = {
 }
 _COEF = re.compile(r"^\s*(\d+/\d+|\d*\.\d+|\d+)(?:\s+|(?=[A-Z(\[]))")
 _LABEL = re.compile(r"\(([a-z][a-z0-9\-]*(?:\s*,\s*[A-Za-z0-9][A-Za-z0-9\-]*)?)\)$")
+# The largest coefficient accepted: real equations stay below a few hundred, and float64 element
+# balances stay exact far beyond this.
+_MAX_COEFFICIENT = 1e6
+# Isotope notation: superscript mass numbers (¹³CO2) anywhere.
+_ISOTOPE = re.compile(r"[⁰¹²³⁴⁵⁶⁷⁸⁹]")
+_ISOTOPE_ADVICE = (
+    "a number of two or more digits is written directly against a formula (e.g. 13CO2): "
+    "feasibly has no isotope-labelled species, so for a coefficient write it with a space "
+    "('13 CO2'); isotope labels (13C, ¹³C) are not supported"
+)
 # Balance tolerance on element counts: exact for rational coefficients; 1e-9 absorbs decimal
 # element counts of non-stoichiometric phases.
 _BALANCE_TOL = 1e-9
@@ -123,8 +135,16 @@ def parse_equation(text: str) -> list[tuple[Fraction, str, str | None, str | Non
     >>> parse_equation("CaCO3(s) -> CaO(s) + CO2(g)")[2]
     (Fraction(1, 1), 'CO2', 'g', None, 1)
     """
-    if not isinstance(text, str) or not text.strip():
-        raise ReactionSyntaxError(str(text), "the equation is empty")
+    if not isinstance(text, str):
+        raise ReactionSyntaxError(str(type(text).__name__), "the equation must be text")
+    if not text.strip():
+        raise ReactionSyntaxError(text, "the equation is empty")
+    if len(text) > MAX_EQUATION_CHARS:
+        raise ReactionSyntaxError(
+            text, f"longer than {MAX_EQUATION_CHARS} characters; no real equation needs that many"
+        )
+    if _ISOTOPE.search(text):
+        raise ReactionSyntaxError(text, _ISOTOPE_ADVICE)
     parts = _ARROW.split(text.strip())
     if len(parts) != 3:
         raise ReactionSyntaxError(
@@ -139,13 +159,30 @@ def parse_equation(text: str) -> list[tuple[Fraction, str, str | None, str | Non
             coef = Fraction(1)
             m = _COEF.match(term)
             if m:
+                digits = m.group(1)
+                if sum(c.isdigit() for c in digits) > MAX_NUMBER_DIGITS:
+                    raise ReactionSyntaxError(
+                        text, f"a coefficient has more than {MAX_NUMBER_DIGITS} digits"
+                    )
+                if not m.group(0)[m.end(1) - m.start(0) :] and digits.isdigit() and len(digits) > 1:
+                    # "13CO2": a number of two or more digits written against a formula reads as
+                    # a mass number as often as a coefficient; say which is meant.
+                    raise ReactionSyntaxError(text, _ISOTOPE_ADVICE)
                 try:
-                    coef = Fraction(m.group(1))
+                    coef = Fraction(digits)
                 except (ValueError, ZeroDivisionError):
-                    raise ReactionSyntaxError(text, f"bad coefficient {m.group(1)!r}") from None
+                    raise ReactionSyntaxError(text, f"bad coefficient {digits!r}") from None
+                if coef > _MAX_COEFFICIENT:
+                    raise ReactionSyntaxError(
+                        text,
+                        f"coefficient {digits} is above {_MAX_COEFFICIENT:g}; "
+                        "divide all coefficients by a common factor",
+                    )
                 term = term[m.end() :].strip()
             if coef <= 0:
-                raise ReactionSyntaxError(text, f"coefficient {coef} of {term!r} must be positive")
+                raise ReactionSyntaxError(
+                    text, f"coefficient {coef} of {excerpt(term)} must be positive"
+                )
             term, phase, form = split_phase_label(term, text)
             if not term:
                 raise ReactionSyntaxError(text, "a coefficient or phase label has no formula")

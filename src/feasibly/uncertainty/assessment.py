@@ -27,6 +27,7 @@ from ..conditions import (
     read_temperature,
     read_temperatures,
     read_temperatures_as_given,
+    read_trials,
 )
 from ..errors import InvalidUncertainty, UnitError
 from ..library.catalogue import Library, default_library
@@ -524,6 +525,11 @@ def assess_uncertainty(
     if adaptive:
         if not isinstance(max_trials, int) or max_trials < 2:
             raise InvalidUncertainty(f"max_trials {max_trials!r} must be an integer ≥ 2")
+        # Checked before the first block is drawn: the limit is what the run may come to hold.
+        read_trials(max_trials, "max_trials", "assess_uncertainty", len(inputs), temps.size)
+    else:
+        read_trials(samples, "samples", "assess_uncertainty", len(inputs), temps.size)
+    if adaptive:
         # JCGM 101 §7.9.4 a): block size M = max(100/(1 − p), 10^4) trials; 2^14 for Sobol blocks.
         block = max(math.ceil(100 / (1 - 0.95)), 10_000) if method == "mc" else 2**14
         n0 = block

@@ -23,7 +23,8 @@ from typing import Any, Literal
 import numpy as np
 from scipy import special
 
-from ..errors import InvalidUncertainty, UnitError
+from .._limits import MAX_OVERRIDE_CHARS
+from ..errors import InvalidUncertainty, UnitError, excerpt
 from ..library.catalogue import standard_uncertainty
 from ..library.species import Species
 from ..units import Q_, to_energy_per_mol
@@ -67,7 +68,9 @@ def _coverage(text: str) -> str:
     if re.fullmatch(r"k\s*=\s*[0-9.]+", key):
         return key.replace(" ", "")
     known = ", ".join(sorted(set(_COVERAGE_WORDS)))
-    raise InvalidUncertainty(f"coverage {text!r} not understood; use one of {known} or k=<number>")
+    raise InvalidUncertainty(
+        f"coverage {excerpt(text)} not understood; use one of {known} or k=<number>"
+    )
 
 
 @dataclass(frozen=True)
@@ -94,7 +97,7 @@ class Override:
     def __post_init__(self) -> None:
         if self.quantity not in QUANTITIES:
             raise InvalidUncertainty(
-                f"override of {self.target}: quantity {self.quantity!r} is not one of "
+                f"override of {self.target}: quantity {excerpt(self.quantity)} is not one of "
                 f"{', '.join(QUANTITIES)}"
             )
         if not isinstance(self.reason, str) or not self.reason.strip():
@@ -210,7 +213,7 @@ def build_inputs(
         if given.target not in entries:
             near = sorted(entries)
             raise InvalidUncertainty(
-                f"override target {given.target!r} is not a species-phase of "
+                f"override target {excerpt(given.target)} is not a species-phase of "
                 f"this calculation; those are: {', '.join(near)}"
             )
         key = (given.target, given.quantity)
@@ -301,7 +304,7 @@ def correlation_matrix(
         for k in (a, b):
             if tuple(k) not in index:
                 raise InvalidUncertainty(
-                    f"correlation names {k!r}, which is not an input of this "
+                    f"correlation names {excerpt(k)}, which is not an input of this "
                     "calculation (inputs are (species id, dHf|S298|cp))"
                 )
         if tuple(a) == tuple(b):
@@ -314,14 +317,21 @@ def correlation_matrix(
     return _check_correlation(m, labels)
 
 
-_OVERRIDE = re.compile(
-    r"^\s*(?P<target>.+?):(?P<qty>dHf|S298|cp)\s*"
-    r"(?:=\s*(?P<value>[^±;]+?))?\s*"
-    r"(?:(?:±|\+/-)\s*(?P<u>[^;]+?))?\s*;\s*(?P<reason>.*\S)\s*$"
-)
-_TRAILING_WORDS = re.compile(
-    r"\s+(?P<word>standard|k\s*=\s*[0-9.]+|95\s*%|rectangular|normal|uniform|triangular)\s*$",
-    re.IGNORECASE,
+# The words that may end the uncertainty part of an override (coverage, then shape).
+_TRAILING_WORDS = {
+    "standard",
+    "95%",
+    "rectangular",
+    "normal",
+    "uniform",
+    "triangular",
+}
+_K_WORD = re.compile(r"k=[0-9.]{1,20}")
+_QUANTITY = re.compile(r":(dHf|S298|cp)(?![A-Za-z0-9_])")
+_PLAIN_NUMBER = re.compile(r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?")
+_OVERRIDE_HELP = (
+    "write e.g. 'MgCO3(cr):dHf = -1111.0 ± 4 kJ/mol 95%; reason' (quantity dHf, S298 or cp; "
+    "the reason after ';' is required)"
 )
 
 
@@ -334,35 +344,62 @@ def parse_override(text: str) -> Override:
     >>> parse_override("MgO(cr):cp ± 10 % uniform; estimate").distribution
     'uniform'
     """
-    m = _OVERRIDE.match(text)
-    if not m:
+    # Read by splitting at fixed marks (';', ':QUANTITY', '=', '±'), never by backtracking, so
+    # the time is linear in the length of the text.
+    if not isinstance(text, str):
+        raise InvalidUncertainty(f"an override must be text; got {excerpt(text)}")
+    if len(text) > MAX_OVERRIDE_CHARS:
         raise InvalidUncertainty(
-            f"cannot read the override {text!r}; write e.g. "
-            "'MgCO3(cr):dHf = -1111.0 ± 4 kJ/mol 95%; reason' (quantity dHf, S298 or cp; the "
-            "reason after ';' is required)"
+            f"the override {excerpt(text)} is longer than {MAX_OVERRIDE_CHARS} characters"
         )
-    value, u = m.group("value"), m.group("u")
+    head, semi, reason = text.partition(";")
+    reason = reason.strip()
+    qty = _QUANTITY.search(head)
+    target = head[: qty.start()].strip() if qty else ""
+    if not semi or not reason or qty is None or not target:
+        raise InvalidUncertainty(f"cannot read the override {excerpt(text)}; {_OVERRIDE_HELP}")
+    rest = head[qty.end() :].strip()
+    value: str | None = None
+    u: str | None = None
+    if rest.startswith("="):
+        rest = rest[1:]
+        cut = min((i for i in (rest.find("±"), rest.find("+/-")) if i >= 0), default=-1)
+        value = (rest if cut < 0 else rest[:cut]).strip()
+        rest = "" if cut < 0 else rest[cut:]
+        if not value:
+            raise InvalidUncertainty(f"cannot read the override {excerpt(text)}; {_OVERRIDE_HELP}")
+    rest = rest.strip()
+    if rest.startswith("±"):
+        u = rest[1:].strip()
+    elif rest.startswith("+/-"):
+        u = rest[3:].strip()
+    elif rest:
+        raise InvalidUncertainty(f"cannot read the override {excerpt(text)}; {_OVERRIDE_HELP}")
     coverage, shape = "standard", "normal"
-    while u:
-        w = _TRAILING_WORDS.search(u)
-        if not w:
-            break
-        word = w.group("word").lower().replace(" ", "")
-        if word in ("normal", "uniform", "triangular"):
-            shape = word
-        else:
-            coverage = word
-        u = u[: w.start()].strip()
+    if u:
+        u = re.sub(r"\s+", " ", u)
+        u = re.sub(r"k ?= ?", "k=", u, flags=re.IGNORECASE)
+        u = re.sub(r"95 ?%", "95%", u)
+        while u:
+            parts = u.rsplit(" ", 1)
+            word = parts[-1].lower()
+            if len(parts) != 2 or not (word in _TRAILING_WORDS or _K_WORD.fullmatch(word)):
+                break
+            if word in ("normal", "uniform", "triangular"):
+                shape = word
+            else:
+                coverage = word
+            u = parts[0].strip()
     if value is not None and u:
         # "= -1111.0 ± 4 kJ/mol": the value shares the unit written after the uncertainty.
-        if re.fullmatch(r"[+-]?\d*\.?\d+(?:[eE][+-]?\d+)?", value.strip()):
-            unit = re.sub(r"^[+-]?\d*\.?\d+(?:[eE][+-]?\d+)?\s*", "", u)
-            value = f"{value.strip()} {unit}".strip()
+        if _PLAIN_NUMBER.fullmatch(value):
+            unit = u[n.end() :].strip() if (n := _PLAIN_NUMBER.match(u)) else u
+            value = f"{value} {unit}".strip()
     return Override(
-        m.group("target").strip(),
-        m.group("qty"),
-        m.group("reason"),
-        value.strip() if value else None,
+        target,
+        qty.group(1),
+        reason,
+        value or None,
         u or None,
         coverage,
         shape,

@@ -10,6 +10,7 @@ import numpy as np
 from scipy import special
 from scipy.stats import qmc
 
+from ..conditions import read_trials
 from ..errors import InvalidInput, InvalidUncertainty
 from .inputs import InputKey, Method, UncertainInput
 
@@ -101,6 +102,7 @@ def draw_samples(
     """
     if not isinstance(n, (int, np.integer)) or isinstance(n, bool) or n < 2:
         raise InvalidUncertainty(f"number of trials {n!r}: need an integer of at least 2")
+    n = read_trials(n, "samples", "draw_samples", n_inputs=len(inputs))  # before allocating
     if method not in ("mc", "sobol"):
         raise InvalidUncertainty(f"sampling method {method!r}: use 'mc' or 'sobol'")
     if method == "sobol" and n & (n - 1):

@@ -2,13 +2,94 @@
 
 from __future__ import annotations
 
+import functools
 import html
-from typing import Any
+import math
+from collections.abc import Callable
+from typing import Any, TypeVar
+
+from traitlets import HasTraits, TraitError
 
 from ..conditions import read_temperature
+from ..errors import FeasiblyError, excerpt
 from ..units import TEMPERATURE_UNITS, from_kelvin
 
-__all__ = ["TEMPERATURE_UNITS", "error_html", "fmt_T", "kelvin", "note_html", "shown"]
+__all__ = [
+    "TEMPERATURE_UNITS",
+    "error_html",
+    "fmt_T",
+    "guarded",
+    "kelvin",
+    "note_html",
+    "shown",
+    "sync",
+]
+
+_F = TypeVar("_F", bound=Callable[..., Any])
+
+
+def guarded(method: _F) -> _F:
+    """An observer or action of a widget that never raises into the notebook.
+
+    A :class:`~feasibly.errors.FeasiblyError` the method lets through, or any other exception
+    (a bug), becomes the widget's ``error`` trait and its inline problem box; the result shown
+    stays the last good one, and the next good input recovers.
+    """
+
+    @functools.wraps(method)
+    def run(self: Any, *args: Any, **kwargs: Any) -> Any:
+        try:
+            return method(self, *args, **kwargs)
+        except FeasiblyError as exc:
+            message = str(exc)
+        except Exception as exc:
+            message = (
+                f"internal error ({type(exc).__name__}: {excerpt(str(exc), 200)}); this is a "
+                "bug in feasibly, please report it. What is shown is from the last good input."
+            )
+        try:
+            if isinstance(self, HasTraits) and self.has_trait("error"):
+                self.set_trait("error", message)
+            box = getattr(self, "_feedback", None)
+            if box is not None:
+                box.value = error_html(message)
+        except Exception:
+            pass
+        return None
+
+    return run  # type: ignore[return-value]
+
+
+def _same(a: Any, b: Any) -> bool:
+    if isinstance(a, float) and isinstance(b, float) and math.isnan(a) and math.isnan(b):
+        return True
+    try:
+        return bool(a == b)
+    except Exception:
+        return False
+
+
+def sync(child: HasTraits, owner: HasTraits, name: str, child_name: str = "value") -> None:
+    """Keep ``child.child_name`` and ``owner.name`` equal, both ways, without ever raising.
+
+    Unlike ``ipywidgets.link``, a NaN typed into a number box does not "break" the link
+    (NaN ≠ NaN), and a value the child cannot show (a unit not in a dropdown) is reported in
+    the owner's ``error`` trait instead of raised.
+    """
+
+    def _set(target: HasTraits, attr: str, value: Any) -> None:
+        if _same(getattr(target, attr), value):
+            return
+        try:
+            setattr(target, attr, value)
+        except TraitError as exc:
+            if owner.has_trait("error"):
+                problem = f"{excerpt(value)} cannot be used for {name}: {excerpt(str(exc), 120)}"
+                owner.set_trait("error", problem)
+
+    child.observe(lambda change: _set(owner, name, change["new"]), names=child_name)
+    owner.observe(lambda change: _set(child, child_name, change["new"]), names=name)
+
 
 # Okabe–Ito vermillion for problems, blue for notes; text stays dark for contrast.
 _ERROR_STYLE = (

@@ -9,7 +9,7 @@ from traitlets import Dict, List, Unicode
 
 from ..conditions import read_pressure
 from ..errors import FeasiblyError, UnitError
-from ._common import error_html, note_html
+from ._common import error_html, guarded, note_html
 
 __all__ = ["Conditions"]
 
@@ -53,9 +53,11 @@ class Conditions(w.VBox):
         self._update(None)
         self.observe(self._update, names=["total_pressure", "gases", "entries"])
 
+    @guarded
     def _typed(self, gas: str, text: str) -> None:
         self.entries = {**self.entries, gas: text}
 
+    @guarded
     def _update(self, change: dict[str, Any] | None) -> None:
         if change is None or change["name"] == "gases":
             boxes = {}

@@ -14,7 +14,7 @@ from ..errors import FeasiblyError
 from ..library.catalogue import Library
 from ..thermo.reaction import Reaction
 from ..uncertainty.linear import window_phrase
-from ._common import error_html, note_html
+from ._common import error_html, guarded, note_html
 
 __all__ = ["ConversionTarget"]
 
@@ -83,6 +83,7 @@ class ConversionTarget(w.VBox):
         self._context = (reaction, np.asarray(temps, dtype=float), seed, confidence, library)
         self._changed(None)
 
+    @guarded
     def _changed(self, change: dict[str, Any] | None) -> None:
         if not self.active or self._context is None:
             self._out.value = note_html(

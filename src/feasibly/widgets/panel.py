@@ -13,7 +13,7 @@ from traitlets import Enum, Float, Instance, Int, Unicode
 from .. import figures
 from ..errors import FeasiblyError
 from ..uncertainty import UncertainAssessment
-from ._common import TEMPERATURE_UNITS, error_html, fmt_T, note_html
+from ._common import TEMPERATURE_UNITS, error_html, fmt_T, guarded, note_html
 
 __all__ = ["FeasibilityPanel", "in_words", "percent"]
 
@@ -110,6 +110,7 @@ class FeasibilityPanel(w.VBox):
                 self._pending = False
                 self._update(None)
 
+    @guarded
     def _update(self, change: dict[str, Any] | None) -> None:
         if self._held:
             self._pending = True

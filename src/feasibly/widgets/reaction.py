@@ -14,19 +14,26 @@ from ..errors import FeasiblyError, UnbalancedReaction, UnknownSpecies
 from ..library.catalogue import Library, default_library
 from ..library.formula import parse_formula
 from ..thermo.reaction import Reaction, parse_equation
-from ._common import error_html
+from ._common import error_html, guarded
 from .species import SpeciesPicker
 
 __all__ = ["ReactionBuilder"]
 
 
-def _count_table(text: str) -> list[tuple[str, float, float]]:
-    """Atoms per element on each side, read from the text alone (for unbalanced equations)."""
+def _count_table(text: str, library: Library) -> list[tuple[str, float, float]]:
+    """Atoms per element on each side (for unbalanced equations); a species typed by name
+    (``water``) counts with its library entry's composition."""
     left: dict[str, float] = {}
     right: dict[str, float] = {}
     for coef, formula, _phase, _form, side in parse_equation(text):
-        f = parse_formula(formula)
-        for el, n in f.elements.items():
+        try:
+            elements = dict(parse_formula(formula).elements)
+        except FeasiblyError:
+            hits = library.find(formula)
+            if not hits:
+                return []
+            elements = dict(hits[0].elements)
+        for el, n in elements.items():
             target = left if side < 0 else right
             target[el] = target.get(el, 0.0) + float(coef) * n
     return [(el, left.get(el, 0.0), right.get(el, 0.0)) for el in dict.fromkeys([*left, *right])]
@@ -176,6 +183,7 @@ class ReactionBuilder(w.VBox):
             self._add_row("product", "", "", "")
 
     # --- the one observer ---------------------------------------------------------------------
+    @guarded
     def _update(self, change: dict[str, Any] | None) -> None:
         if change is None or change["name"] == "mode":
             rows = self.mode == "rows"
@@ -192,7 +200,7 @@ class ReactionBuilder(w.VBox):
             rxn = Reaction.parse(self.equation, self.library)
         except UnbalancedReaction as exc:
             self.balanced, self.error = False, str(exc)
-            table = _count_table(self.equation)
+            table = _count_table(self.equation, self.library)
         except UnknownSpecies as exc:
             self.balanced, self.error = False, str(exc)
             self.suggestions = list(exc.suggestions)

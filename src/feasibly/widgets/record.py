@@ -13,7 +13,7 @@ from ..errors import FeasiblyError
 from ..records import record_from, write_record
 from ..thermo.assessment import assess
 from ..uncertainty import UncertainAssessment
-from ._common import error_html, note_html
+from ._common import error_html, guarded, note_html
 
 __all__ = ["RecordExport"]
 
@@ -63,6 +63,7 @@ class RecordExport(w.VBox):
             self._message,
         ]
 
+    @guarded
     def export(self) -> list[str]:
         """Write the record of the result on screen; returns the paths ([] on failure)."""
         u = self._source()

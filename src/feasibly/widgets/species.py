@@ -11,7 +11,7 @@ from traitlets import Bool, Int, List, Unicode
 from ..errors import FeasiblyError
 from ..library.catalogue import Library, default_library
 from ..library.species import PHASES, Species
-from ._common import error_html
+from ._common import error_html, guarded
 
 __all__ = ["SpeciesPicker", "describe"]
 
@@ -130,9 +130,11 @@ class SpeciesPicker(w.VBox):
         """The chosen library entry, or None."""
         return self.library[self.value] if self.value else None
 
+    @guarded
     def _chosen(self, change: dict[str, Any]) -> None:
         self.value = change["new"] or ""
 
+    @guarded
     def _update(self, change: dict[str, Any] | None) -> None:
         name = change["name"] if change else None
         if name in (None, "query", "limit"):

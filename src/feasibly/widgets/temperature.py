@@ -9,7 +9,7 @@ import ipywidgets as w
 from traitlets import Enum, Float, TraitError, Tuple, Unicode, validate
 
 from ..errors import FeasiblyError
-from ._common import TEMPERATURE_UNITS, error_html, fmt_T, kelvin, shown
+from ._common import TEMPERATURE_UNITS, error_html, fmt_T, guarded, kelvin, shown
 
 __all__ = ["TemperatureControl"]
 
@@ -93,6 +93,7 @@ class TemperatureControl(w.VBox):
             if not lo <= self.value <= hi:
                 self.value = min(max(self.value, lo), hi)
 
+    @guarded
     def _typed(self, change: dict[str, Any]) -> None:
         """A child changed: read it (through the kernel's units), refuse it inline if outside."""
         if self._syncing:
@@ -119,6 +120,7 @@ class TemperatureControl(w.VBox):
         if abs(t - self.value) > 1e-9:
             self.value = t
 
+    @guarded
     def _update(self, change: dict[str, Any] | None) -> None:
         u = self.unit
         lo, hi = (shown(x, u) for x in self.valid_range)

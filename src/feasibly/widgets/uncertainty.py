@@ -2,17 +2,18 @@
 
 from __future__ import annotations
 
+import html
 import json
 from typing import Any
 
 import ipywidgets as w
-from traitlets import Enum, Float, Unicode
+from traitlets import Bool, Enum, Float, Unicode
 
 from ..errors import FeasiblyError, InvalidUncertainty
 from ..library.catalogue import Library, default_library
 from ..library.species import PHASES
 from ..uncertainty.inputs import Override, build_inputs
-from ._common import error_html, note_html
+from ._common import error_html, guarded, note_html, sync
 
 __all__ = ["SpeciesEstimate", "UncertaintyInput"]
 
@@ -92,7 +93,7 @@ class UncertaintyInput(w.VBox):
             (self._reason, "reason"),
         ):
             child.value = getattr(self, name)
-            w.link((child, "value"), (self, name))
+            sync(child, self, name)
         self._update(None)
         self.observe(
             self._update,
@@ -116,12 +117,15 @@ class UncertaintyInput(w.VBox):
             return f"{text} %" if which == "uncertainty" else float(text)
         return f"{text} {self.unit}"
 
+    @guarded
     def _update(self, change: dict[str, Any] | None) -> None:
         if change is not None and change["name"] == "quantity":
             self._unit.options = UNITS[self.quantity]
             self.unit = UNITS[self.quantity][0]
             return  # the unit change comes back here
-        self._title.value = f"<b>{_LABEL[self.quantity]} of {self.target or '…'}</b>"
+        self._title.value = (
+            f"<b>{_LABEL[self.quantity]} of {html.escape(self.target) if self.target else '…'}</b>"
+        )
         try:
             if not self.target:
                 raise InvalidUncertainty("choose the species this value belongs to")
@@ -197,6 +201,7 @@ class SpeciesEstimate(w.VBox):
     cp = Float(100.0, help="constant heat capacity, J/(mol·K)")
     error = Unicode("", help="the kernel's message, '' when valid")
     species_id = Unicode("", help="id of the last valid entry")
+    replace_shipped = Bool(False, help="let the estimate replace a shipped entry of the same id")
 
     def __init__(self, base: Library | None = None, **kwargs: Any) -> None:
         self.base = base or default_library()
@@ -237,10 +242,13 @@ class SpeciesEstimate(w.VBox):
             (self._cp, "cp"),
         ):
             child.value = getattr(self, trait)
-            w.link((child, "value"), (self, trait))
+            sync(child, self, trait)
         self.overrides: list[Override] = []
         self._update(None)
-        self.observe(self._update, names=["formula", "phase", "name", "T_min", "T_max", "cp"])
+        self.observe(
+            self._update,
+            names=["formula", "phase", "name", "T_min", "T_max", "cp", "replace_shipped"],
+        )
         for inp in (self.dHf, self.S298, self.cp_input):
             inp.observe(self._update, names=["value", "uncertainty", "unit", "coverage", "reason"])
 
@@ -290,12 +298,13 @@ class SpeciesEstimate(w.VBox):
         }
         return {"schema": "feasibly-species", "schema_version": 1, "species": [entry]}
 
+    @guarded
     def _update(self, change: dict[str, Any] | None) -> None:
         try:
             doc = self.document()
             extra = Library.from_text(json.dumps(doc), "estimate.json", origin="estimate")
             (sp,) = list(extra)
-            library = self.base.with_species(extra)
+            library = self.base.with_species(extra, replace_shipped=self.replace_shipped)
         except FeasiblyError as exc:
             self.error = str(exc)
         else:
@@ -307,8 +316,12 @@ class SpeciesEstimate(w.VBox):
                     shapes.append(inp.override)
             self.overrides = shapes
         stale = " (last valid entry)" if self.error and self.species_id else ""
+        replaces = any(sid == self.species_id for sid, _, _ in self.library.replaced)
+        what = "REPLACES the shipped entry in" if replaces else "added to"
         self._shown.value = (
-            note_html(f"entry {self.species_id}{stale} added to this worksheet's library")
+            note_html(
+                f"entry {self.species_id}{stale} (your estimate) {what} this worksheet's library"
+            )
             if self.species_id
             else ""
         )

@@ -13,7 +13,7 @@ from ..errors import FeasiblyError
 from ..library.catalogue import Library, default_library
 from ..thermo.reaction import Reaction
 from ..uncertainty import assess_uncertainty
-from ._common import error_html, note_html
+from ._common import error_html, guarded, note_html
 from .conditions import Conditions
 from .conversion import ConversionTarget
 from .panel import FeasibilityPanel
@@ -142,6 +142,7 @@ class FeasibilityWorksheet(w.VBox):
             return self.T_window
         return lo, min(hi, lo + _WINDOW_SPAN_K)
 
+    @guarded
     def _update(self, change: dict[str, Any] | None) -> None:
         if self._busy:
             return
