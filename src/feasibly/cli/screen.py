@@ -13,6 +13,10 @@ from typing import Any
 from ..errors import FeasiblyError, InvalidInput
 from ._terminal import EXIT_OK, _library
 
+# How long to keep trying to reach a scheduler before saying so (a busy cluster answers within
+# seconds; common practice, no source).
+_CONNECT_TIMEOUT = "30s"
+
 
 @contextlib.contextmanager
 def _client(args: argparse.Namespace) -> Iterator[Any]:
@@ -32,7 +36,7 @@ def _client(args: argparse.Namespace) -> Iterator[Any]:
         ) from None
     if args.scheduler is not None:
         try:
-            client = Client(args.scheduler, timeout="30s")
+            client = Client(args.scheduler, timeout=_CONNECT_TIMEOUT)
         except (OSError, TimeoutError, ValueError) as exc:
             raise FeasiblyError(
                 f"cannot reach the Dask scheduler at {args.scheduler!r} ({exc}); check the "
@@ -44,13 +48,13 @@ def _client(args: argparse.Namespace) -> Iterator[Any]:
     if args.workers < 1:
         raise InvalidInput("--workers", "", "a whole number of at least 1", args.workers)
     # Local workers on the loopback interface only, one thread each (the kernel's own threads
-    # do the rest), and no dashboard port to collide with.
+    # do the rest); the scheduler's web server on a free loopback port, never a fixed one.
     with (
         LocalCluster(
             n_workers=args.workers,
             threads_per_worker=1,
             host="127.0.0.1",
-            dashboard_address=None,
+            dashboard_address="127.0.0.1:0",
         ) as cluster,
         Client(cluster) as client,
     ):
