@@ -10,7 +10,7 @@ import pandas as pd
 import pytest
 
 import feasibly
-from feasibly.batch import screen
+from feasibly.batch import screen, screening
 from feasibly.cli import main
 from feasibly.cli import screen as cli_screen
 
@@ -90,10 +90,14 @@ def test_user_species_travel_to_the_workers(cluster: Any) -> None:
     with distributed.Client(cluster) as client:
         there = screen(rows, samples=N, seed=SEED, library=lib, client=client)
         pd.testing.assert_frame_equal(there, local, check_exact=True)
-        # A library that cannot be rebuilt from files on a worker is refused, not half-used.
-        made = feasibly.Library(list(lib))
-        with pytest.raises(feasibly.InvalidInput, match="species files added"):
-            screen(rows, samples=N, seed=SEED, library=made, client=client)
+        # A library not made from files travels whole (pickled) and gives the same table.
+        made = feasibly.Library(list(lib), lib.meta)
+        assert screening._library_spec(made) is made
+        assert screening._library_spec(lib) == (
+            (str(EXAMPLE_SPECIES), EXAMPLE_SPECIES.read_text()),
+        )
+        there = screen(rows, samples=N, seed=SEED, library=made, client=client)
+        pd.testing.assert_frame_equal(there, local, check_exact=True)
 
 
 def test_local_worker_processes_give_the_same_table(here: pd.DataFrame, tmp_path: Path) -> None:

@@ -342,21 +342,23 @@ def _library_from_spec(spec: LibrarySpec) -> Library:
     return lib
 
 
-def _library_spec(library: Library) -> LibrarySpec:
-    """How to rebuild ``library`` on a worker: None for the shipped one, else its files' text."""
+def _library_spec(library: Library) -> Library | LibrarySpec:
+    """How ``library`` travels to a worker: None for the shipped one, the text of its species
+    files when it is the shipped one with those added (rebuilt and kept per worker), else the
+    library itself (pickled)."""
     if library is default_library():
         return None
-    spec = tuple((p, Path(p).read_text("utf-8")) for p in library.user_files)
+    try:
+        spec = tuple((p, Path(p).read_text("utf-8")) for p in library.user_files)
+    except OSError:
+        return library  # a file gone since it was read: send the entries themselves
     rebuilt = _library_from_spec(spec)
-    if sorted(sp.id for sp in rebuilt) != sorted(sp.id for sp in library):
-        raise InvalidInput(
-            "library",
-            "screen",
-            "the shipped library, or the shipped library with species files added "
-            "(Library.from_file), when the screen runs on a cluster",
-            f"a library of {len(library)} entries",
-        )
-    return spec
+    # Entries compare by identity; a rebuilt user entry is the same when read from the same text.
+    same = [sp.id for sp in rebuilt] == [sp.id for sp in library] and all(
+        a is b or (a.origin == b.origin and dict(a.raw) == dict(b.raw))
+        for a, b in zip(rebuilt, library, strict=True)
+    )
+    return spec if same else library
 
 
 # --- one chunk: the unit of work, here or on a worker -------------------------------------------
