@@ -7,6 +7,7 @@ no source).
 
 from __future__ import annotations
 
+import json
 import math
 from pathlib import Path
 from typing import Any
@@ -305,3 +306,17 @@ def test_columns_are_documented() -> None:
     for name in INPUT_COLUMNS:
         assert f"``{name}``" in table_doc, name
     assert math.isclose(len(RESULT_COLUMNS), len(set(RESULT_COLUMNS)))
+
+
+def test_a_row_is_repeated_by_the_assess_command(
+    result: pd.DataFrame, capsys: pytest.CaptureFixture[str]
+) -> None:
+    # What the README promises: `feasibly assess … --method mc-per-species` gives the row again.
+    argv = ["assess", "MgCO3 -> MgO + CO2", "--T", "800", "K", "--samples", str(N)]
+    argv += ["--seed", str(SEED), "--method", "mc-per-species", "--json"]
+    assert main(argv) == 0
+    row = json.loads(capsys.readouterr().out)["rows"][0]
+    got = result[result["row"] == 0].iloc[0]
+    assert row["P_feasible"] == got["P_feasible"]
+    assert row["dG_lo_J_per_mol"] == got["dG_lo_J_per_mol"]
+    assert row["verdict"] == got["call"]
