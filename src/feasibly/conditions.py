@@ -207,6 +207,31 @@ def read_mole_fractions(total: Any, fractions: Mapping[str, Any]) -> dict[str, f
     return {name: y * float(p_total[0]) for name, y in out.items()}
 
 
+def read_partial_pressure_text(text: str, function: str) -> dict[str, float]:
+    """Partial pressures written in one piece of text, ``"CO2=0.3 bar; H2O=0.1 bar"``, in Pa.
+
+    Pairs are separated by ``;`` or ``,``; each pressure carries its unit.
+
+    >>> read_partial_pressure_text("CO2=0.3 bar; H2O=20 kPa", "screen")
+    {'CO2': 30000.0, 'H2O': 20000.0}
+    """
+    if not isinstance(text, str):
+        raise InvalidInput(
+            "partial_pressures", function, "text such as 'CO2=0.3 bar; H2O=0.1 bar'", text
+        )
+    pairs: dict[str, str] = {}
+    for part in filter(None, (p.strip() for p in re.split(r"[,;]", text))):
+        name, sep, value = part.partition("=")
+        if not sep or not name.strip() or not value.strip():
+            raise InvalidInput(
+                "partial_pressures", function, "pairs SPECIES=PRESSURE, e.g. 'CO2=0.3 bar'", part
+            )
+        if name.strip() in pairs:
+            raise InvalidInput("partial_pressures", function, "each gas named once", name.strip())
+        pairs[name.strip()] = value.strip()
+    return read_partial_pressures(pairs)
+
+
 def read_confidence(confidence: Any, function: str) -> float:
     """A confidence level for a verdict: above 0.5 (so 'feasible' and 'not feasible' cannot both
     hold) and below 1 (a Monte Carlo probability never proves certainty)."""

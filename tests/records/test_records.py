@@ -161,8 +161,25 @@ def test_same_seed_gives_bitwise_identical_results(record: dict[str, Any]) -> No
         {"T": "700 K", "samples": 4096, "seed": 2, "threshold": "-5 kJ/mol", "confidence": 0.9},
         {"T": "750 K", "seed": 11, "adaptive": True, "max_trials": 40_000},
         {"T": "700 K", "samples": 4096, "seed": 2, "standard_pressure": "1 atm"},
+        {"T": "700 K", "samples": 4096, "seed": 3, "method": "mc-per-species"},
+        {
+            "T": "750 K",
+            "seed": 12,
+            "adaptive": True,
+            "max_trials": 40_000,
+            "method": "mc-per-species",
+        },
     ],
-    ids=["standard-only", "sobol-degC", "required-K", "threshold", "adaptive", "1-atm"],
+    ids=[
+        "standard-only",
+        "sobol-degC",
+        "required-K",
+        "threshold",
+        "adaptive",
+        "1-atm",
+        "per-species",
+        "per-species-adaptive",
+    ],
 )
 def test_every_kind_of_call_reproduces(kwargs: dict[str, Any]) -> None:
     rec = make_record("MgCO3 -> MgO + CO2", **kwargs)

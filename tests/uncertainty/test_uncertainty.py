@@ -380,7 +380,10 @@ def test_overrides_convert_coverage_and_shift_the_value() -> None:
         (lambda: UncertainInput(("A", "dHf"), 1.0, "cauchy"), "unknown distribution"),
         (lambda: draw_samples(inputs_of("normal"), 0), "at least 2"),
         (lambda: draw_samples(inputs_of("normal"), 1000, method="sobol"), "power of two"),
-        (lambda: draw_samples(inputs_of("normal"), 1024, method="lhs"), "use 'mc' or 'sobol'"),
+        (
+            lambda: draw_samples(inputs_of("normal"), 1024, method="lhs"),
+            "use 'mc', 'mc-per-species', 'sobol'",
+        ),
         (
             lambda: correlation_matrix(
                 inputs_of("normal", 3),

@@ -1,4 +1,4 @@
-"""The ``feasibly`` command: ``assess``, ``species``, ``equilibrate`` and ``verify``.
+"""The ``feasibly`` command: ``assess``, ``screen``, ``species``, ``equilibrate`` and ``verify``.
 
 Layer rule: the command line calls the kernel wings and records; it never imports figures or
 widgets.

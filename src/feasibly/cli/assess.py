@@ -328,9 +328,10 @@ def register(sub: Any) -> None:
     g.add_argument("--seed", type=int, metavar="S", help="seed of the random generator")
     g.add_argument(
         "--method",
-        choices=["mc", "sobol"],
+        choices=["mc", "mc-per-species", "sobol"],
         default="mc",
-        help="plain Monte Carlo or scrambled Sobol (N a power of two)",
+        help="plain Monte Carlo; the same with one stream per species input (as `feasibly "
+        "screen` draws); or scrambled Sobol (N a power of two)",
     )
     g.add_argument(
         "--adaptive",

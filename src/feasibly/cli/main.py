@@ -1,4 +1,5 @@
-"""The ``feasibly`` command: ``feasibly assess`` screens a reaction, ``feasibly species`` searches.
+"""The ``feasibly`` command: ``feasibly assess`` screens a reaction, ``feasibly screen`` a table of
+them, ``feasibly species`` searches.
 
 Errors print a one-paragraph message and exit non-zero; no traceback reaches the user.
 """
@@ -21,6 +22,7 @@ from ._terminal import (
 from .assess import register as register_assess
 from .ellingham import register as register_ellingham
 from .equilibrate import register as register_equilibrate
+from .screen import register as register_screen
 from .species import register as register_species
 from .verify import register as register_verify
 
@@ -61,6 +63,7 @@ def build_parser() -> argparse.ArgumentParser:
     register_verify(sub)
     register_equilibrate(sub)
     register_ellingham(sub)
+    register_screen(sub)
     return parser
 
 

@@ -25,12 +25,12 @@ from typing import Any
 import numpy as np
 
 from ..conditions import read_confidence, read_probability, read_states, read_trials
-from ..errors import EquilibriumNotConverged, UnitError, UnknownSpecies
+from ..errors import EquilibriumNotConverged, InvalidInput, UnitError, UnknownSpecies
 from ..library.catalogue import Library, default_library
 from ..library.cp_models import R
 from ..thermo import standard_properties
 from ..thermo.reaction import Reaction, resolve_species
-from ..uncertainty.inputs import Correlations, Override, build_inputs, correlation_matrix
+from ..uncertainty.inputs import Correlations, Method, Override, build_inputs, correlation_matrix
 from ..uncertainty.linear import block_rows, level_window, linear_model, uncertain_species
 from ..uncertainty.sampling import draw_samples
 from ._common import (
@@ -246,11 +246,14 @@ def conversion_bands(
     overrides: Sequence[Override] = (),
     correlations: Correlations | None = None,
     balance: bool = False,
+    method: Method = "mc",
 ) -> ConversionBands:
     """Conversion of ``key`` over ``samples`` draws of the data: 2.5/50/97.5 % and P(≥ required).
 
     ΔrG°(T) is sampled through the exact linear model of :mod:`feasibly.uncertainty.linear` (shared
     draws per species-phase), and the equilibrium extent is solved for every draw at once.
+    ``method`` is a sampling method of :func:`~feasibly.uncertainty.draw_samples` ("mc" or
+    "mc-per-species"; Sobol points are not used for these bands).
     """
     library = library or default_library()
     rxn = reaction if isinstance(reaction, Reaction) else Reaction.parse(reaction, library, balance)
@@ -263,8 +266,16 @@ def conversion_bands(
     inputs = build_inputs(uncertain_species(rxn), overrides)
     # The sampled states are held per temperature block; the work grows with trials × T.
     read_trials(samples, "samples", "conversion_bands", len(inputs), T_K.size)
+    if method not in ("mc", "mc-per-species"):
+        raise InvalidInput(
+            "method", "conversion_bands", "'mc' or 'mc-per-species' (plain Monte Carlo)", method
+        )
     drawn = draw_samples(
-        inputs, samples, seed=seed, correlation=correlation_matrix(inputs, correlations)
+        inputs,
+        samples,
+        method=method,
+        seed=seed,
+        correlation=correlation_matrix(inputs, correlations),
     )
     model = linear_model(rxn, T_K, drawn)
     q = np.empty((3, T_K.size))
@@ -292,7 +303,7 @@ def conversion_bands(
         p if req is not None else None,
         np.sqrt(p * (1 - p) / n_tr) if req is not None else None,
         n_tr,
-        seed,
+        drawn.seed,
     )
 
 
@@ -321,6 +332,7 @@ def conversion_assessment(
     seed: int | None = None,
     confidence: float = 0.95,
     library: Library | None = None,
+    method: Method = "mc",
 ) -> dict[str, Any]:
     """Required conversion as a feasibility criterion: JSON-ready rows per T and the window.
 
@@ -352,7 +364,16 @@ def conversion_assessment(
         T_K, P_Pa, trials = x.T, x.P, 0
     else:
         bands = conversion_bands(
-            reaction, temps, P, feed, key, req, samples=samples, seed=seed, library=library
+            reaction,
+            temps,
+            P,
+            feed,
+            key,
+            req,
+            samples=samples,
+            seed=seed,
+            library=library,
+            method=method,
         )
         assert bands.p_meets is not None and bands.p_meets_se is not None
         rows = [
@@ -369,7 +390,7 @@ def conversion_assessment(
             for i in range(bands.T.size)
         ]
         window = bands.window(confidence)
-        T_K, P_Pa, trials = bands.T, bands.P, bands.trials
+        T_K, P_Pa, trials, seed = bands.T, bands.P, bands.trials, bands.seed
     return {
         "key": key,
         "required_conversion": req,

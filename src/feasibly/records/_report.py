@@ -19,6 +19,13 @@ from ._svg import OKABE_ITO, Band, HLine, Line, chart
 
 __all__ = ["render_html", "render_markdown"]
 
+#: How each sampling method reads in a report.
+_METHOD_WORDS = {
+    "mc": "plain Monte Carlo",
+    "mc-per-species": "plain Monte Carlo, one stream per species input",
+    "sobol": "scrambled Sobol",
+}
+
 _VERDICT_COLOUR = {
     "feasible": OKABE_ITO["green"],
     "favourable": OKABE_ITO["green"],
@@ -271,7 +278,7 @@ def _settings(doc: Mapping[str, Any]) -> str:
         )
         used = doc["results"]["uncertainty"]["trials"]
         items.append(
-            f"Sampling: {'plain Monte Carlo' if unc['method'] == 'mc' else 'scrambled Sobol'}, "
+            f"Sampling: {_METHOD_WORDS.get(unc['method'], unc['method'])}, "
             f"{n} ({used:,} used), seed {unc['seed']}"
         )
         items.append(

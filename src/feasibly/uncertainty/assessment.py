@@ -29,7 +29,7 @@ from ..conditions import (
     read_temperatures_as_given,
     read_trials,
 )
-from ..errors import InvalidUncertainty, UnitError
+from ..errors import InvalidInput, InvalidUncertainty, UnitError
 from ..library.catalogue import Library, default_library
 from ..library.cp_models import R
 from ..thermo import reaction_quotient
@@ -283,6 +283,18 @@ class UncertainAssessment:
         rows.sort(key=lambda r: -abs(float(r["share"])))
         return rows
 
+    def leading_inputs(self) -> list[dict[str, Any]]:
+        """At each grid temperature, the input with the largest share of Var(ΔrG) (exact for this
+        linear model): the first row of :meth:`sensitivity` there, for every T at once."""
+        shares = variance_shares(self.model, _input_covariance(self.samples))
+        out = []
+        for row in shares:
+            # argmax takes the first of equal shares, as the stable sort of sensitivity() does
+            j = int(np.argmax(np.abs(row)))
+            inp = self.samples.inputs[j]
+            out.append({"species": inp.key[0], "quantity": inp.key[1], "share": float(row[j])})
+        return out
+
     def sensitivity_by_species(self, T: Any) -> list[tuple[str, float]]:
         """Shares of Var(ΔrG(T)) summed per species-phase, largest first."""
         totals: dict[str, float] = {}
@@ -492,6 +504,7 @@ def assess_uncertainty(
     balance: bool = False,
     max_trials: int = ADAPTIVE_MAX_TRIALS,
     progress: bool | None = None,
+    draws: SampleSet | None = None,
 ) -> UncertainAssessment:
     """Monte Carlo feasibility of a reaction: P(ΔrG < threshold), verdict and window over T.
 
@@ -500,7 +513,13 @@ def assess_uncertainty(
     tolerance is met at every grid temperature. ``threshold`` is a molar Gibbs energy with units,
     or ``required_K`` a required equilibrium constant (then ΔrG° < −RT ln K_req). ``overrides``
     replace library values or uncertainties; ``correlations`` maps pairs of inputs
-    ``((id, quantity), (id, quantity))`` to correlation coefficients.
+    ``((id, quantity), (id, quantity))`` to correlation coefficients. ``method="mc-per-species"``
+    draws each input from its own stream keyed by the seed and the input, so the same species
+    draws the same values in every call with that seed.
+
+    ``draws`` evaluates the reaction on given draws instead (e.g. a table's shared draws holding
+    every input of the reaction); ``samples``, ``seed`` and ``method`` are then those of the
+    draws, and adaptive mode, overrides and correlations are refused (the draws fix them).
 
     >>> a = assess_uncertainty("MgCO3 -> MgO + CO2", T="800 K", samples=4096, seed=1)
     >>> a.verdicts
@@ -531,10 +550,33 @@ def assess_uncertainty(
         read_trials(samples, "samples", "assess_uncertainty", len(inputs), temps.size)
     if adaptive:
         # JCGM 101 §7.9.4 a): block size M = max(100/(1 − p), 10^4) trials; 2^14 for Sobol blocks.
-        block = max(math.ceil(100 / (1 - 0.95)), 10_000) if method == "mc" else 2**14
+        block = max(math.ceil(100 / (1 - 0.95)), 10_000) if method != "sobol" else 2**14
         n0 = block
     else:
         n0 = samples
+    if draws is not None:
+        if adaptive or overrides or correlations:
+            raise InvalidInput(
+                "draws",
+                "assess_uncertainty",
+                "given without adaptive mode, overrides or correlations (the draws fix them)",
+                draws.method,
+            )
+        drawn = draws.subset([inp.key for inp in inputs])
+        return UncertainAssessment(
+            rxn,
+            drawn,
+            temps,
+            confidence,
+            thr_fn,
+            thr_text,
+            p_std,
+            pressures,
+            (),
+            library,
+            None,
+            crossing_range,
+        )
     show = progress if progress is not None else (adaptive or n0 * temps.size >= _PROGRESS_WORK)
     bar = _Progress(max_trials if adaptive else n0, bool(show))
     drawn = draw_samples(inputs, n0, method=method, seed=seed, correlation=corr)

@@ -44,7 +44,11 @@ __all__ = [
 QUANTITIES = {"dHf": "J/mol", "S298": "J/(mol·K)", "cp": "1"}
 
 InputKey = tuple[str, str]
-Method = Literal["mc", "sobol"]
+# "mc": one generator for all inputs of a call; "mc-per-species": one stream per input, keyed by
+# (seed, species id, quantity), so an input draws the same values in every call with that seed;
+# "sobol": scrambled Sobol points.
+Method = Literal["mc", "mc-per-species", "sobol"]
+METHODS = ("mc", "mc-per-species", "sobol")
 _DISTRIBUTIONS = ("normal", "uniform", "triangular")
 # Coverage words users type, mapped onto the library's conventions (JCGM 100:2008 Table G.1).
 _COVERAGE_WORDS = {

@@ -1,8 +1,16 @@
 """Reproducible draws of the uncertain inputs: the sample set of a call (plain Monte Carlo or
-scrambled Sobol), kept read-only so every later number of the call uses the same trials."""
+scrambled Sobol), kept read-only so every later number of the call uses the same trials.
+
+With ``method="mc-per-species"`` every input has its own stream, keyed by the seed, the
+species-phase id and the quantity: an input draws the same values in every call with that seed,
+whichever other species the call holds. A table of reactions drawn once and each reaction drawn
+alone therefore see the same numbers, and reactions that share a species stay correlated.
+"""
 
 from __future__ import annotations
 
+import hashlib
+import secrets
 from collections.abc import Sequence
 from dataclasses import dataclass, field
 
@@ -12,7 +20,7 @@ from scipy.stats import qmc
 
 from ..conditions import read_trials
 from ..errors import InvalidInput, InvalidUncertainty
-from .inputs import InputKey, Method, UncertainInput
+from .inputs import METHODS, InputKey, Method, UncertainInput
 
 __all__ = ["SampleSet", "draw_samples", "extend_samples"]
 
@@ -59,6 +67,56 @@ class SampleSet:
     def index(self, key: InputKey) -> int:
         return self.keys.index(key)
 
+    def subset(self, keys: Sequence[InputKey]) -> SampleSet:
+        """The draws of these inputs only, in this order (a copy of their rows).
+
+        For ``method="mc-per-species"`` without correlations this is bitwise the sample set that
+        :func:`draw_samples` gives for those inputs alone with the same seed and trials.
+        """
+        where = {k: i for i, k in enumerate(self.keys)}
+        missing = [k for k in keys if k not in where]
+        if missing:
+            raise InvalidInput(
+                "draws",
+                "SampleSet.subset",
+                "draws holding every input asked for (draw samples for every species of the "
+                "reactions you compare)",
+                "draws without " + ", ".join(f"{k[0]} {k[1]}" for k in missing[:6]),
+            )
+        idx = [where[k] for k in keys]
+        corr = None if self.correlation is None else self.correlation[np.ix_(idx, idx)]
+        return SampleSet(
+            [self.inputs[i] for i in idx],
+            self.values[idx],
+            self.method,
+            self.seed,
+            corr,
+            list(self.blocks),
+            None,
+        )
+
+
+def _stream(seed: int, key: InputKey, block: int) -> np.random.Generator:
+    """The generator of one input's block of trials under ``method="mc-per-species"``.
+
+    The key enters through SHA-256 (stable across processes, platforms and Python versions,
+    unlike ``hash``) as a spawn key of the seed's SeedSequence: streams of different inputs and
+    blocks are independent by NumPy's construction.
+    """
+    digest = hashlib.sha256(f"{key[0]}\x1f{key[1]}".encode()).digest()
+    words = tuple(int.from_bytes(digest[i : i + 4], "little") for i in range(0, 16, 4))
+    return np.random.Generator(
+        np.random.PCG64(np.random.SeedSequence(seed, spawn_key=(*words, block)))
+    )
+
+
+def _keyed_normals(keys: Sequence[InputKey], n: int, seed: int, block: int) -> np.ndarray:
+    """Standard normal draws, shape (d, n), row j from input j's own stream."""
+    z = np.empty((len(keys), n))
+    for j, key in enumerate(keys):
+        _stream(seed, key, block).standard_normal(n, out=z[j])
+    return z
+
 
 def _normal_draws(rng: np.random.Generator, n: int, d: int, method: str) -> np.ndarray:
     """Standard normal draws, shape (d, n)."""
@@ -103,8 +161,10 @@ def draw_samples(
     if not isinstance(n, (int, np.integer)) or isinstance(n, bool) or n < 2:
         raise InvalidUncertainty(f"number of trials {n!r}: need an integer of at least 2")
     n = read_trials(n, "samples", "draw_samples", n_inputs=len(inputs))  # before allocating
-    if method not in ("mc", "sobol"):
-        raise InvalidUncertainty(f"sampling method {method!r}: use 'mc' or 'sobol'")
+    if method not in METHODS:
+        raise InvalidUncertainty(
+            f"sampling method {method!r}: use " + ", ".join(repr(m) for m in METHODS)
+        )
     if method == "sobol" and n & (n - 1):
         lower = 1 << (int(n).bit_length() - 1)
         raise InvalidUncertainty(
@@ -120,6 +180,13 @@ def draw_samples(
             "nothing to sample; the call needs no Monte Carlo)",
             [],
         )
+    if method == "mc-per-species":
+        # Without a seed one is drawn and kept, so the call (and its further blocks) can be
+        # repeated from the sample set's own seed.
+        seed = secrets.randbits(63) if seed is None else int(seed)
+        z = _keyed_normals([inp.key for inp in inputs], int(n), seed, 0)
+        x = _transform(inputs, z, correlation)
+        return SampleSet(list(inputs), x, method, seed, correlation, [int(n)], None)
     rng = np.random.default_rng(seed)
     z = _normal_draws(rng, int(n), len(inputs), method)
     x = _transform(inputs, z, correlation)
@@ -131,14 +198,17 @@ def extend_samples(samples: SampleSet, n: int) -> SampleSet:
 
     Sobol blocks are independent scrambles, so blocks stay independent as §7.9 requires.
     """
-    if samples.rng is None:
+    if samples.method == "mc-per-species" and samples.seed is not None:
+        z = _keyed_normals(samples.keys, n, samples.seed, len(samples.blocks))
+    elif samples.rng is None:
         raise InvalidInput(
             "samples",
             "extend_samples",
             "a sample set drawn by draw_samples, which carries its generator",
             f"a sample set of {samples.n} trials without one",
         )
-    z = _normal_draws(samples.rng, n, len(samples.inputs), samples.method)
+    else:
+        z = _normal_draws(samples.rng, n, len(samples.inputs), samples.method)
     x = _transform(samples.inputs, z, samples.correlation)
     return SampleSet(
         samples.inputs,
