@@ -1,7 +1,13 @@
-# Sourced by bin/demo and bin/check: create or reuse .venv in the repository and put it first on
-# PATH. Needs only Python >= 3.11; on Debian without the venv module it installs python3-venv
-# when run as root (otherwise it says what to install).
+# Sourced by bin/demo, bin/worksheet and bin/check: create or reuse .venv in the repository and put
+# it first on PATH. Needs only Python >= 3.11; on Debian without the venv module it installs
+# python3-venv when run as root (otherwise it says what to install). Each step prints one line
+# ("[feasibly 12 s] ...") so a first run, which downloads packages, is never silent.
 set -euo pipefail
+STARTED=$SECONDS
+# One progress line on stderr with the seconds since the command started.
+step() {
+    echo "[feasibly $((SECONDS - STARTED)) s] $*" >&2
+}
 ROOT="$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)"
 VENV="$ROOT/.venv"
 PY="${PYTHON:-python3}"
@@ -22,7 +28,7 @@ if ! "$PY" -c 'import sys; sys.exit(sys.version_info < (3, 11))' 2>/dev/null; th
     exit 1
 fi
 if [ ! -x "$VENV/bin/python" ]; then
-    echo "Creating $VENV (first run only) ..." >&2
+    step "creating $VENV (first run only)"
     if ! "$PY" -m venv "$VENV" 2>/dev/null; then
         rm -rf "$VENV"
         if [ "$(id -u)" = 0 ] && command -v apt-get >/dev/null; then
@@ -43,13 +49,18 @@ export PATH="$VENV/bin:$PATH"
 install_feasibly() {
     local extras="${1:-}"
     rm -rf "$ROOT/.build/wheel"
+    step "building feasibly from this checkout (compiles the Monte Carlo kernel)"
     quiet_pip python -m pip wheel --no-deps -w "$ROOT/.build/wheel" "$ROOT"
     local wheel
     wheel="$(ls "$ROOT"/.build/wheel/feasibly-*.whl)"
     if [ -n "$extras" ]; then
+        step "installing its dependencies with the extras [$extras] (the first run downloads them)"
         quiet_pip python -m pip install "${wheel}[${extras}]"
     else
+        step "installing its dependencies"
         quiet_pip python -m pip install "$wheel"
     fi
+    step "installing feasibly itself"
     quiet_pip python -m pip install --force-reinstall --no-deps "$wheel"
+    step "installed"
 }
