@@ -37,14 +37,30 @@ def test_every_axis_has_a_title_with_units(parts):
     titles = {k: fig.layout[k].title.text for k in fig.layout if k.startswith(("xaxis", "yaxis"))}
     assert titles["xaxis"] == "temperature (°C)"
     assert titles["xaxis2"] == "temperature (°C)"
-    assert titles["yaxis"] == "ΔrG° (kJ/mol)"
-    assert titles["yaxis2"] == "trials crossing here (%)"
+    assert titles["yaxis2"] == "ΔrG° (kJ/mol)"
+    assert titles["yaxis"] == "trials crossing here (%)"
     assert titles["yaxis3"] == "P(feasible) (%)"
     assert titles["xaxis3"] == "ΔrG° (kJ/mol)"
     assert titles["xaxis4"] == "share of the variance (%)"
     for key, text in titles.items():
         if key != "yaxis5":  # the shares' category axis: its labels are the inputs
             assert "(" in text and text.endswith(")"), (key, text)
+
+
+def test_crossover_bars_sit_under_the_gibbs_traces(parts):
+    """The crossover histogram once hid the selected-temperature marker. plotly draws an
+    overlaying axis above the one it overlays, so every ΔrG trace of the first panel must be on
+    the overlaying axis and the bars on the one beneath; the ΔrG axis keeps its own round ticks."""
+    fig = figures.feasibility_figure(*parts)
+    assert fig.layout.yaxis2.overlaying == "y"
+    bars = fig.data[figures.TRACES.index("crossover temperature")]
+    assert bars.yaxis == "y"
+    for name in ("95 % upper", "95 % interval", "median", "zero line", "selected temperature"):
+        assert fig.data[figures.TRACES.index(name)].yaxis == "y2", name
+    assert fig.layout.yaxis2.side == "left" and fig.layout.yaxis.side == "right"
+    assert fig.layout.yaxis2.tickmode == "auto"
+    # A whole-number format printed shares below 1 % as "0 0 0 0": no fixed format on that axis.
+    assert fig.layout.yaxis.tickformat is None
 
 
 def test_bands_are_ordered(parts):

@@ -190,6 +190,10 @@ TRACES = (
     "variance shares",
 )
 _FIRST_SNAPSHOT_TRACE = TRACES.index("selected temperature")
+# In the ΔrG panel the ΔrG traces sit on plotly's overlaying ("secondary") y axis and the crossover
+# histogram on the one below it: an overlaying axis is drawn on top, so the bars never hide the
+# selected-temperature marker or the median line. The ΔrG axis is still shown on the left.
+_GIBBS_AXIS = True
 
 
 def snapshot_patch(c: Curves, s: Snapshot, temperature_unit: str = "K") -> dict[str, Any]:
@@ -287,7 +291,7 @@ def feasibility_figure(
             fillcolor=fill,
             **{**band, "showlegend": True},
         )
-        return [(upper, 1, 1, False), (lower, 1, 1, False)]
+        return [(upper, 1, 1, _GIBBS_AXIS), (lower, 1, 1, _GIBBS_AXIS)]
 
     thr = c.threshold_kJ
     zero_name = f"{g} = {thr:g} kJ/mol" if thr else f"{g} = 0"
@@ -305,7 +309,7 @@ def feasibility_figure(
             ),
             1,
             1,
-            False,
+            _GIBBS_AXIS,
         ),
         (
             go.Scatter(
@@ -317,7 +321,7 @@ def feasibility_figure(
             ),
             1,
             1,
-            False,
+            _GIBBS_AXIS,
         ),
         (
             go.Bar(
@@ -329,7 +333,7 @@ def feasibility_figure(
             ),
             1,
             1,
-            True,
+            not _GIBBS_AXIS,
         ),
         (
             go.Scatter(
@@ -368,7 +372,7 @@ def feasibility_figure(
             ),
             1,
             1,
-            False,
+            _GIBBS_AXIS,
         ),
         (
             go.Scatter(
@@ -428,16 +432,29 @@ def feasibility_figure(
     fig.update_xaxes(title_text=f"temperature ({u})", row=1, col=2)
     fig.update_xaxes(title_text=f"{g} (kJ/mol)", row=2, col=1)
     fig.update_xaxes(title_text="share of the variance (%)", range=[0, 100], row=2, col=2)
-    fig.update_yaxes(title_text=f"{g} (kJ/mol)", row=1, col=1, secondary_y=False)
+    # The overlaying axis would otherwise take its ticks from the histogram's axis ("sync"),
+    # which gave ΔrG ticks such as −30.7, 3.4, 37.4; it keeps its own round ticks and grid.
+    fig.update_yaxes(
+        title_text=f"{g} (kJ/mol)",
+        row=1,
+        col=1,
+        secondary_y=_GIBBS_AXIS,
+        side="left",
+        tickmode="auto",
+        showgrid=True,
+    )
+    # No fixed tick format: the crossing shares are often below 1 %, where a whole-number format
+    # printed every tick as "0"; plotly's own format keeps the significant digits.
     fig.update_yaxes(
         title_text="trials crossing here (%)",
         row=1,
         col=1,
-        secondary_y=True,
+        secondary_y=not _GIBBS_AXIS,
+        side="right",
         showgrid=False,
+        zeroline=False,
         rangemode="tozero",
         nticks=4,
-        tickformat=".0f",
     )
     fig.update_yaxes(title_text="P(feasible) (%)", range=[-2, 102], row=1, col=2)
     fig.update_yaxes(title_text="trials (%)", row=2, col=1)

@@ -231,7 +231,7 @@ def test_pressures_reach_the_kernel(sheet):
     sheet.conditions.entries = {"CO2": "0.01 bar"}
     assert sheet.result.partial_pressures_Pa == {"CO2": pytest.approx(1000.0)}
     assert sheet.panel.probability > p_std
-    assert "ΔrG (kJ/mol)" in sheet.panel.figure.layout.yaxis.title.text
+    assert "ΔrG (kJ/mol)" in sheet.panel.figure.layout.yaxis2.title.text
 
 
 def test_sample_arrays_are_not_synced(sheet):
