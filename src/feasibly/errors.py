@@ -19,6 +19,7 @@ __all__ = [
     "AmbiguousBalance",
     "DataFileError",
     "EquilibriumNotConverged",
+    "ExportError",
     "FeasiblyError",
     "InvalidInput",
     "InvalidTemperature",
@@ -241,3 +242,15 @@ class EquilibriumNotConverged(FeasiblyError, RuntimeError):
 def _fmt(x: float) -> str:
     """Short human form of a number: 2 not 2.0, 0.5 stays 0.5."""
     return f"{x:.6g}"
+
+
+class ExportError(FeasiblyError, RuntimeError):
+    """A table or figure could not be exported: ``what`` was asked for, ``reason`` says why and
+    ``remedy`` what to do (install pandas, install Debian's chromium, choose another file)."""
+
+    def __init__(self, what: str, reason: str, remedy: str) -> None:
+        self.what = what
+        self.reason = reason
+        self.remedy = remedy
+        msg = f"Cannot export {what}: {reason}. {remedy}"
+        super().__init__(msg)

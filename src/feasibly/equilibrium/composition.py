@@ -14,6 +14,7 @@ from typing import Any
 
 import numpy as np
 
+from .._tables import TableExport
 from ..conditions import read_states, read_trials
 from ..errors import EquilibriumNotConverged, OutsideDataRange, UnitError, UnknownSpecies
 from ..library.catalogue import Library, default_library
@@ -239,8 +240,10 @@ def _raise_unconverged(prep: _Prepared, ok: np.ndarray) -> None:
 
 # --- results ------------------------------------------------------------------------------------
 @dataclass
-class Equilibrium:
+class Equilibrium(TableExport):
     """Equilibrium amounts of a species set at each state (T, P, feed).
+
+    Its table ``amounts`` has one row per state and species (:meth:`to_frame`, :meth:`to_csv`).
 
     ``amounts`` (states × species, mol on the feed's scale) and ``gas_fractions`` (mole fractions
     in the gas phase; 0 for condensed phases). With ``samples``, ``bands`` maps ``"amounts"`` and
@@ -303,6 +306,22 @@ class Equilibrium:
             row["species"] = per
             out.append(row)
         return out
+
+    def tables(self) -> dict[str, list[dict[str, Any]]]:
+        """``amounts``: one row per state and species (with samples: the 2.5/50/97.5 % band)."""
+        flat = []
+        for row in self.rows():
+            for sid, item in row["species"].items():
+                line: dict[str, Any] = {"T_K": row["T_K"], "P_Pa": row["P_Pa"], "species": sid}
+                line["phase"] = item["phase"]
+                line["amount_mol"] = item["amount_mol"]
+                line["gas_mole_fraction"] = item["gas_mole_fraction"]
+                for key, label in (("amount_band_mol", "amount"), ("gas_mole_fraction_band", "y")):
+                    if key in item:
+                        for tag, v in zip(("lo", "median", "hi"), item[key], strict=True):
+                            line[f"{label}_{tag}"] = v
+                flat.append(line)
+        return {"amounts": flat}
 
     def to_dict(self) -> dict[str, Any]:
         return {

@@ -24,6 +24,7 @@ from typing import Any
 
 import numpy as np
 
+from .._tables import TableExport
 from ..conditions import read_confidence, read_probability, read_states, read_trials
 from ..errors import EquilibriumNotConverged, InvalidInput, UnitError, UnknownSpecies
 from ..library.catalogue import Library, default_library
@@ -210,8 +211,11 @@ def equilibrium_extent(
 
 
 @dataclass
-class ConversionBands:
-    """Conversion of a key reactant at each T: nominal, Monte Carlo bands, P(≥ required)."""
+class ConversionBands(TableExport):
+    """Conversion of a key reactant at each T: nominal, Monte Carlo bands, P(≥ required).
+
+    Its table ``conversion`` has one row per temperature (:meth:`to_frame`, :meth:`to_csv`).
+    """
 
     T: np.ndarray
     P: np.ndarray
@@ -224,6 +228,25 @@ class ConversionBands:
     p_meets_se: np.ndarray | None
     trials: int
     seed: int | None
+
+    def tables(self) -> dict[str, list[dict[str, Any]]]:
+        """``conversion``: T, P, the nominal conversion, its band and P(≥ required) per row."""
+        rows = []
+        for i in range(self.T.size):
+            row: dict[str, Any] = {
+                "T_K": float(self.T[i]),
+                "P_Pa": float(self.P[i]),
+                "conversion_nominal": float(self.nominal[i]),
+                "conversion_lo": float(self.lo[i]),
+                "conversion_median": float(self.median[i]),
+                "conversion_hi": float(self.hi[i]),
+            }
+            if self.p_meets is not None and self.p_meets_se is not None:
+                row["required"] = self.required
+                row["P_meets"] = float(self.p_meets[i])
+                row["P_meets_se"] = float(self.p_meets_se[i])
+            rows.append(row)
+        return {"conversion": rows}
 
     def window(self, confidence: float = 0.95) -> list[dict[str, Any]]:
         """Temperature intervals where P(conversion ≥ required) ≥ ``confidence``."""

@@ -13,6 +13,7 @@ from typing import Any
 import numpy as np
 
 from .. import __about__
+from .._tables import TableExport
 from ..conditions import (
     read_partial_pressures,
     read_standard_pressure,
@@ -38,8 +39,12 @@ __all__ = [
 
 
 @dataclass
-class Assessment:
-    """Everything a feasibility screen of one reaction reports (standard and actual conditions)."""
+class Assessment(TableExport):
+    """Everything a feasibility screen of one reaction reports (standard and actual conditions).
+
+    Its table ``temperatures`` (one row per temperature, the keys of :meth:`to_dict`) is available
+    as a DataFrame (:meth:`to_frame`) or CSV (:meth:`to_csv`, :meth:`write_tables`).
+    """
 
     reaction: Reaction
     standard: StandardProperties
@@ -60,6 +65,10 @@ class Assessment:
     def feasible_standard(self) -> np.ndarray:
         """True where ΔrG° < 0 (favourable at standard state, thermodynamics only)."""
         return self.standard.dG < 0
+
+    def tables(self) -> dict[str, list[dict[str, Any]]]:
+        """The result's tables by name: ``temperatures`` (one row per temperature)."""
+        return {"temperatures": self.to_dict()["rows"]}
 
     def to_dict(self) -> dict[str, Any]:
         """Plain data for JSON output (SI units in every key name)."""

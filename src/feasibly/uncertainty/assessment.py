@@ -20,6 +20,7 @@ from typing import Any
 import numpy as np
 from scipy import special
 
+from .._tables import TableExport
 from ..conditions import (
     read_confidence,
     read_partial_pressures,
@@ -88,8 +89,12 @@ def _input_covariance(samples: SampleSet) -> np.ndarray:
     return corr * np.outer(u, u)
 
 
-class UncertainAssessment:
+class UncertainAssessment(TableExport):
     """Monte Carlo feasibility of one reaction over a temperature grid, with kept draws.
+
+    Tables (:meth:`tables`; as DataFrames with :meth:`to_frame`, CSV with :meth:`to_csv`):
+    ``temperatures`` (:meth:`rows`), ``window`` (:meth:`window`) and ``sensitivity`` (the ranked
+    variance shares at :attr:`sensitivity_T_K`, the middle of the grid unless set).
 
     Arrays are over ``T`` (K). ``G``, ``H``, ``S`` are :class:`~feasibly.uncertainty.linear.Summary`
     objects of ΔrG (at the given partial pressures, if any), ΔrH°, ΔrS°; ``p_feasible`` is
@@ -360,6 +365,22 @@ class UncertainAssessment:
         return shortest_interval(self.samples_at(read_temperature(T)))
 
     # --- output ---------------------------------------------------------------------------------
+    #: Temperature (K) of the ``sensitivity`` table; None: the middle grid temperature.
+    sensitivity_T_K: float | None = None
+
+    def tables(self) -> dict[str, list[dict[str, Any]]]:
+        """The result's tables by name: ``temperatures``, ``window`` and ``sensitivity``."""
+        t_sens = (
+            float(self.sensitivity_T_K)
+            if self.sensitivity_T_K is not None
+            else float(self.T[len(self.T) // 2])
+        )
+        return {
+            "temperatures": self.rows(),
+            "window": self.window(),
+            "sensitivity": [{"T_K": t_sens} | r for r in self.sensitivity((t_sens, "K"))],
+        }
+
     def rows(self) -> list[dict[str, Any]]:
         """Per-temperature rows with the documented JSON keys (SI units in the key names)."""
         k = self.log10_K()
