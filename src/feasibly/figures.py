@@ -143,7 +143,8 @@ def snapshot(result: UncertainAssessment, T_K: float, bins: int = _BINS) -> Snap
     ]
     rest = sum(r["share"] for r in rows[_TOP_SHARES:])
     if rest > 0:
-        shares.append((f"{len(rows) - _TOP_SHARES} others", rest))
+        others = len(rows) - _TOP_SHARES
+        shares.append((f"{others} other{'s' if others > 1 else ''}", rest))
     return Snapshot(
         T_K=float(T_K),
         median_kJ=row["dG_median_J_per_mol"] / 1000,

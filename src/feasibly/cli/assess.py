@@ -16,6 +16,7 @@ from .._limits import MAX_POINTS
 from ..conditions import read_mole_fractions
 from ..equilibrium import conversion_assessment, parse_feed
 from ..errors import InvalidInput, UnitError
+from ..images import export_result
 from ..records import record_from, sign_record, write_record
 from ..thermo import assess
 from ..uncertainty import assess_uncertainty, parse_override
@@ -191,6 +192,17 @@ def _cmd_assess(args: argparse.Namespace) -> int:
         print("record written: " + ", ".join(str(p) for p in written), file=sys.stderr)
         if "signature" in record:
             print(f"signed with key {record['signature']['key_fingerprint']}", file=sys.stderr)
+    if args.export:
+        # Tables and figures of the standard screen, and of the Monte Carlo run when there is one.
+        written_files = export_result(
+            result, args.export, "standard", figures_too=not args.no_figures
+        )
+        if uncertain is not None:
+            t_one = float(result.standard.T[0]) if result.standard.T.size == 1 else None
+            written_files += export_result(
+                uncertain, args.export, "monte-carlo", T_K=t_one, figures_too=not args.no_figures
+            )
+        print("exported: " + ", ".join(str(p) for p in written_files), file=sys.stderr)
     if args.json:
         doc = result.to_dict()
         if uncertain is not None:
@@ -307,6 +319,14 @@ def register(sub: Any) -> None:
         help="conversion of --key that you need, e.g. 90%% or 0.9",
     )
     e.add_argument("--key", help="the reactant whose conversion counts, e.g. CH4")
+    x = a.add_argument_group("exports")
+    x.add_argument(
+        "--export",
+        metavar="DIR",
+        help="write every table as CSV and the figures as PNG and SVG into DIR "
+        "(figures need plotly and a local chromium)",
+    )
+    x.add_argument("--no-figures", action="store_true", help="with --export: tables only")
     r = a.add_argument_group("decision record")
     r.add_argument(
         "--record",
