@@ -14,6 +14,7 @@ composable; each has one private observer, called once at construction and regis
 - :class:`FeasibilityPanel` — the figures, the verdict in words and the cautions;
 - :class:`ConversionTarget` — a required conversion as criterion: where and how surely it is met;
 - :class:`RecordExport` — write the call on screen as a decision record and its HTML report;
+- :class:`ResultExport` — every table of the result on screen as CSV, its figure as PNG and SVG;
 - :class:`FeasibilityWorksheet` — all of them wired together: ``FeasibilityWorksheet("A -> B")``.
 
 Layer rule: widgets call the kernel (``feasibly.assess``, ``feasibly.uncertainty``,
@@ -25,6 +26,7 @@ good result on screen.
 
 from .conditions import Conditions
 from .conversion import ConversionTarget
+from .export import ResultExport
 from .panel import FeasibilityPanel
 from .reaction import ReactionBuilder
 from .record import RecordExport
@@ -40,6 +42,7 @@ __all__ = [
     "FeasibilityWorksheet",
     "ReactionBuilder",
     "RecordExport",
+    "ResultExport",
     "SpeciesEstimate",
     "SpeciesPicker",
     "TemperatureControl",

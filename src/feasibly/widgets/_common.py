@@ -2,9 +2,11 @@
 
 from __future__ import annotations
 
+import base64
 import functools
 import html
 import math
+import os
 from collections.abc import Callable
 from typing import Any, TypeVar
 
@@ -15,15 +17,23 @@ from ..errors import FeasiblyError, excerpt
 from ..units import TEMPERATURE_UNITS, from_kelvin
 
 __all__ = [
+    "STATIC_COPY_ENV",
     "TEMPERATURE_UNITS",
     "error_html",
+    "figure_html",
     "fmt_T",
     "guarded",
     "kelvin",
     "note_html",
     "shown",
+    "static_copy_wanted",
     "sync",
 ]
+
+#: Set (to anything but "" or "0") when a notebook runs to become a static copy (``bin/worksheet
+#: --headless``): the worksheet then adds an HTML copy of the call and its figure to its output,
+#: which nbconvert shows where no widget state is stored.
+STATIC_COPY_ENV = "FEASIBLY_STATIC_COPY"
 
 _F = TypeVar("_F", bound=Callable[..., Any])
 
@@ -131,3 +141,25 @@ def kelvin(value: Any, unit: str) -> float:
 def fmt_T(T_K: float, unit: str = "K") -> str:
     """A temperature for a readout, e.g. '1073.15 K' or '800 °C'."""
     return f"{shown(T_K, unit):.6g} {unit}"
+
+
+def static_copy_wanted() -> bool:
+    """True when this notebook run makes a static copy (see :data:`STATIC_COPY_ENV`)."""
+    return os.environ.get(STATIC_COPY_ENV, "") not in ("", "0")
+
+
+def figure_html(fig: Any, alt: str) -> str:
+    """A plotly figure as an inline SVG image (drawn offline by the local chromium), or the reason
+    it could not be drawn in an inline problem box."""
+    from ..errors import FeasiblyError
+    from ..images import render_figure
+
+    try:
+        svg = render_figure(fig)["svg"]
+    except FeasiblyError as exc:
+        return error_html(f"The figure is missing from this copy. {exc}")
+    data = base64.b64encode(svg).decode("ascii")
+    return (
+        f'<img class="feasibly-static-figure" alt="{html.escape(alt)}" '
+        f'style="max-width:100%" src="data:image/svg+xml;base64,{data}">'
+    )

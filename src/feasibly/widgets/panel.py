@@ -13,7 +13,15 @@ from traitlets import Enum, Float, Instance, Int, Unicode
 from .. import figures
 from ..errors import FeasiblyError
 from ..uncertainty import UncertainAssessment
-from ._common import TEMPERATURE_UNITS, error_html, fmt_T, guarded, note_html
+from ._common import (
+    TEMPERATURE_UNITS,
+    error_html,
+    figure_html,
+    fmt_T,
+    guarded,
+    note_html,
+    static_copy_wanted,
+)
 
 __all__ = ["FeasibilityPanel", "in_words", "percent"]
 
@@ -170,6 +178,26 @@ class FeasibilityPanel(w.VBox):
         )
         self._feedback.value = ""
         self._cautions.value = self._caution_html(r)
+
+    def static_html(self) -> str:
+        """The call, the figure (as an SVG image) and the cautions as plain HTML: what a copy
+        without live widgets shows. Empty when there is no result."""
+        if self.result is None or self.figure is None:
+            return ""
+        alt = f"Feasibility figure of {self.result.reaction.equation()}"
+        return self._verdict.value + figure_html(self.figure, alt) + self._cautions.value
+
+    def _repr_mimebundle_(self, **kwargs: Any) -> Any:
+        bundle = super()._repr_mimebundle_(**kwargs)
+        if static_copy_wanted() and isinstance(bundle, dict) and self.result is not None:
+            bundle["text/html"] = self.static_html()
+        return bundle
+
+    def on_screen(self) -> tuple[UncertainAssessment, float, Any] | None:
+        """(result, selected temperature in K, the plotly figure) shown, or None."""
+        if self.result is None or self.figure is None:
+            return None
+        return self.result, float(self.temperature), self.figure
 
     def _draw(self, fig: Any) -> None:
         import plotly.graph_objects as go

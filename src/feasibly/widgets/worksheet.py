@@ -13,9 +13,10 @@ from ..errors import FeasiblyError
 from ..library.catalogue import Library, default_library
 from ..thermo.reaction import Reaction
 from ..uncertainty import assess_uncertainty
-from ._common import error_html, guarded, note_html
+from ._common import error_html, guarded, note_html, static_copy_wanted
 from .conditions import Conditions
 from .conversion import ConversionTarget
+from .export import ResultExport
 from .panel import FeasibilityPanel
 from .reaction import ReactionBuilder
 from .record import RecordExport
@@ -80,6 +81,7 @@ class FeasibilityWorksheet(w.VBox):
         self.conditions = Conditions()
         self.panel = FeasibilityPanel()
         self.export = RecordExport(lambda: self.panel.result)
+        self.files = ResultExport(self.panel.on_screen)
         self.conversion = ConversionTarget()
         self._status = w.HTML()
         self._feedback = w.HTML()
@@ -97,8 +99,12 @@ class FeasibilityWorksheet(w.VBox):
             self._status,
             self.panel,
             w.Accordion(
-                children=[self.conversion, self.export],
-                titles=("Required conversion", "Write a decision record"),
+                children=[self.conversion, self.export, self.files],
+                titles=(
+                    "Required conversion",
+                    "Write a decision record",
+                    "Export tables and figure",
+                ),
             ),
         ]
         if partial_pressures:
@@ -216,6 +222,34 @@ class FeasibilityWorksheet(w.VBox):
         if stale:
             text = "Input above has a problem; still showing the last good result. " + text
         self._status.value = note_html(text)
+
+    def static_html(self) -> str:
+        """The worksheet as plain HTML for a copy without live widgets: what was computed (the
+        reaction, conditions, sampling), the call at the selected temperature, the figure as an
+        SVG image and the cautions, under a line saying that this is a static copy."""
+        r = self.panel.result
+        if r is None:
+            return error_html(self.error or "No result was computed.")
+        pressures = ", ".join(
+            f"{gas} {pa / 1e5:.4g} bar" for gas, pa in sorted(r.partial_pressures_Pa.items())
+        )
+        conditions = (
+            f"partial pressures: {pressures}" if pressures else "every species at 1 bar (standard)"
+        )
+        head = note_html(
+            "Static copy of the worksheet as it was computed; the controls are not live here. "
+            f"Reaction {r.reaction.equation(pretty=True)}; {conditions}; "
+            f"sampled {float(r.T[0]):g}–{float(r.T[-1]):g} K with {r.trials:,} trials, "
+            f"seed {r.samples.seed}. To change the inputs, open the worksheet in JupyterLab "
+            "(bin/worksheet)."
+        )
+        return f'<div class="feasibly-static-copy">{head}{self.panel.static_html()}</div>'
+
+    def _repr_mimebundle_(self, **kwargs: Any) -> Any:
+        bundle = super()._repr_mimebundle_(**kwargs)
+        if static_copy_wanted() and isinstance(bundle, dict):
+            bundle["text/html"] = self.static_html()
+        return bundle
 
     def __repr__(self) -> str:
         r = self.panel.result
