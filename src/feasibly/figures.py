@@ -164,7 +164,9 @@ def cautions(result: UncertainAssessment) -> list[str]:
 
     Empty when no caution applies (which does not mean the step is safe; see the README).
     """
-    found = cautions_for(result.reaction, result.T, result.H.mean, result.library)
+    found = cautions_for(
+        result.reaction, result.T, result.H.mean, result.library, result.partial_pressures_Pa
+    )
     return [c.message for c in found] + ([DEFERRAL] if found else [])
 
 

@@ -58,6 +58,8 @@ def _print(eq: Equilibrium) -> None:
                 )
             )
         print()
+    for caution in eq.cautions():
+        print(f"Caution: {caution.message}")
     print(
         "Model: ideal-gas mixture plus pure condensed phases at unit activity (standard state "
         "1 bar). Thermodynamics only: nothing here speaks to rate, hazards or scale-up."

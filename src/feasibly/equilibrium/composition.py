@@ -20,6 +20,7 @@ from ..errors import EquilibriumNotConverged, OutsideDataRange, UnitError, Unkno
 from ..library.catalogue import Library, default_library
 from ..library.cp_models import R
 from ..library.species import Species
+from ..thermo import Caution
 from ..thermo.reaction import Reaction, ReactionTerm, resolve_species
 from ..uncertainty.inputs import Correlations, Override, build_inputs, correlation_matrix
 from ..uncertainty.linear import block_rows, deviation_rows, uncertain_species
@@ -33,7 +34,12 @@ from ._common import (
 )
 from ._gibbs_solver import GibbsBatch, reduce_elements, solve_batch
 
-__all__ = ["Equilibrium", "equilibrate"]
+__all__ = ["CARBON_FRACTION_CAUTION", "Equilibrium", "equilibrate"]
+
+#: Share of the feed's carbon that must be solid at equilibrium for the carbon-deposition caution:
+#: 1e-4, well above the solver's tolerance on a phase that is absent and well below any deposit
+#: that matters in practice (0.01 % of the carbon fed).
+CARBON_FRACTION_CAUTION = 1e-4
 
 
 # --- species sets -------------------------------------------------------------------------------
@@ -307,6 +313,42 @@ class Equilibrium(TableExport):
             out.append(row)
         return out
 
+    def cautions(self) -> list[Caution]:
+        """Solid carbon at equilibrium (coke, soot): one caution naming the state with the most,
+        when solid carbon holds more than :data:`CARBON_FRACTION_CAUTION` of the feed's carbon.
+
+        Only a carbon species in the set can show it: include ``C(s)`` (graphite) in the species
+        to ask. Nothing is said about the rate at which carbon actually deposits.
+        """
+        if "C" not in self.elements:
+            return []
+        solid = [
+            j
+            for j, sid in enumerate(self.species)
+            if self.phases[j] != "g" and _split_label(sid)[0] == "C"
+        ]
+        if not solid:
+            return []
+        fed = self.feed_elements[:, self.elements.index("C")]
+        deposit = self.amounts[:, solid].sum(axis=1)
+        share = np.divide(deposit, fed, out=np.zeros_like(deposit), where=fed > 0)
+        k = int(np.argmax(share))
+        if share[k] <= CARBON_FRACTION_CAUTION:
+            return []
+        where = f"{self.T[k]:.0f} K and {self.P[k] / 1e5:.4g} bar"
+        states = int(np.count_nonzero(share > CARBON_FRACTION_CAUTION))
+        return [
+            Caution(
+                "carbon deposition",
+                f"Solid carbon at equilibrium: at {where}, {deposit[k]:.3g} mol of carbon "
+                f"({100 * share[k]:.3g} % of the carbon fed) is solid, in {states} of "
+                f"{self.T.size} states computed. Carbon (coke, soot) can foul catalysts, block "
+                "tubes and beds and cause hot spots; whether and how fast it forms is kinetics.",
+                f"n(C, solid) = {deposit[k]:.4g} mol of {fed[k]:.4g} mol C fed at {where} — "
+                "this equilibrium (Gibbs minimum over the species given)",
+            )
+        ]
+
     def tables(self) -> dict[str, list[dict[str, Any]]]:
         """``amounts``: one row per state and species (with samples: the 2.5/50/97.5 % band)."""
         flat = []
@@ -331,6 +373,7 @@ class Equilibrium(TableExport):
             "seed": self.seed,
             "band_probabilities": list(BAND_PROBS) if self.bands is not None else None,
             "rows": self.rows(),
+            "cautions": [c.as_dict() for c in self.cautions()],
         }
 
 

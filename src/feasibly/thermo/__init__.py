@@ -20,11 +20,19 @@ from .properties import (
     standard_properties,
 )
 from .reaction import Reaction, ReactionTerm, parse_equation, resolve_species, split_phase_label
-from .safety import DEFERRAL, EXOTHERM_J_PER_G, Caution, cautions_for
+from .safety import (
+    DEFERRAL,
+    EXOTHERM_J_PER_G,
+    PRESSURE_CAUTION_PA,
+    Caution,
+    cautions_for,
+    pressure_caution,
+)
 
 __all__ = [
     "DEFERRAL",
     "EXOTHERM_J_PER_G",
+    "PRESSURE_CAUTION_PA",
     "Assessment",
     "Caution",
     "Reaction",
@@ -34,6 +42,7 @@ __all__ = [
     "cautions_for",
     "crossover_temperatures",
     "parse_equation",
+    "pressure_caution",
     "reaction_quotient",
     "resolve_species",
     "split_phase_label",

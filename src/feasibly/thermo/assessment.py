@@ -172,7 +172,7 @@ def assess(
     lo_T, hi_T = float(temps.min()), float(temps.max())
     changes = rxn.phase_changes(lo_T, hi_T) if hi_T > lo_T else []
     meta = rxn.metastable(temps)
-    cautions = cautions_for(rxn, temps, std.dH, library)
+    cautions = cautions_for(rxn, temps, std.dH, library, pressures)
     if cautions:
         notes.append(DEFERRAL)
     return Assessment(

@@ -1,28 +1,46 @@
 """Plain-language cautions for results that could mislead someone into an unsafe step.
 
 Thermodynamic feasibility says nothing about rate, hazard or scale-up. These cautions name the
-obvious warning signs a screening result carries (a large heat release, toxic, flammable or
-oxidising species, gas evolution) and defer to process-safety review; they are not a hazard
-assessment and their absence does not mean a step is safe.
+obvious warning signs a screening result carries (a large heat release; toxic, flammable,
+oxidising, explosive or self-reactive, or corrosive species; gas evolution; the energy stored in
+gas under pressure) and defer to process-safety review; they are not a hazard assessment and their
+absence does not mean a step is safe. Carbon deposition is found by the equilibrium wing
+(:func:`feasibly.equilibrium.composition` results), which builds its caution with :class:`Caution`.
 """
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
 
 import numpy as np
 
 from ..errors import OutsideDataRange
 from ..library.catalogue import Library
+from ..library.cp_models import R
 from .reaction import Reaction
 
-__all__ = ["DEFERRAL", "EXOTHERM_J_PER_G", "Caution", "cautions_for"]
+__all__ = [
+    "ATMOSPHERIC_PA",
+    "DEFERRAL",
+    "EXOTHERM_J_PER_G",
+    "PRESSURE_CAUTION_PA",
+    "Caution",
+    "cautions_for",
+    "pressure_caution",
+]
 
 #: Specific heat release above which a reaction is called strongly exothermic, J per gram of
 #: reactants. From memory: Stoessel (Thermal Safety of Chemical Processes, Wiley 2008) rates an
 #: adiabatic temperature rise above 200 K as high severity; at a typical reaction-mass heat capacity
 #: of about 2 J/(g·K) that is about 400 J/g.
 EXOTHERM_J_PER_G = 400.0
+
+#: Pressure (absolute, Pa) above which the gas is called pressurised: 0.5 bar gauge, the lower
+#: limit of the EU Pressure Equipment Directive 2014/68/EU (from memory), over 1 atm.
+PRESSURE_CAUTION_PA = 0.5e5 + 101_325.0
+#: Atmospheric pressure (Pa) that a released gas expands to: the standard atmosphere.
+ATMOSPHERIC_PA = 101_325.0
 
 DEFERRAL = (
     "Thermodynamic feasibility says nothing about reaction rate, hazards or scale-up. Before any "
@@ -43,8 +61,43 @@ class Caution:
         return {"kind": self.kind, "message": self.message, "basis": self.basis}
 
 
-def cautions_for(rxn: Reaction, T: np.ndarray, dH: np.ndarray, library: Library) -> list[Caution]:
-    """Cautions for a reaction evaluated at temperatures ``T`` with ΔrH° values ``dH`` (J/mol)."""
+def pressure_caution(pressures_Pa: Mapping[str, float], T_K: float) -> Caution | None:
+    """The energy stored in the gas when the gases given add up to more than
+    :data:`PRESSURE_CAUTION_PA`, with its numbers at ``T_K``; None below that.
+
+    Per mole of ideal gas at pressure p and temperature T: V = RT/p and p·V = RT; expanding it
+    isothermally to atmospheric pressure gives at most W = RT·ln(p/p_atm) (the defining relations
+    of the ideal gas and of reversible isothermal work, IUPAC Green Book §2.11).
+    """
+    p = float(sum(pressures_Pa.values()))
+    if p <= PRESSURE_CAUTION_PA:
+        return None
+    rt = R * T_K
+    volume_L = 1000 * rt / p
+    work = rt * np.log(p / ATMOSPHERIC_PA)
+    gases = ", ".join(f"{g} {v / 1e5:.4g} bar" for g, v in sorted(pressures_Pa.items()))
+    return Caution(
+        "stored energy in pressurised gas",
+        f"Gas under pressure stores energy: the gases given add up to {p / 1e5:.4g} bar "
+        f"({gases}). At {T_K:.0f} K each mole of gas fills {volume_L:.3g} L and holds "
+        f"p·V = RT = {rt / 1000:.2f} kJ; expanding to atmospheric pressure it can release up to "
+        f"RT·ln(p/p_atm) = {work / 1000:.2f} kJ per mole of gas, suddenly if the vessel fails. "
+        "Design, relief and containment are for a pressure-equipment assessment.",
+        f"p = {p / 1e5:.4g} bar > {PRESSURE_CAUTION_PA / 1e5:.4g} bar (0.5 bar gauge); ideal gas "
+        f"at {T_K:.0f} K: p·V = RT = {rt:.0f} J/mol, RT·ln(p/p_atm) = {work:.0f} J/mol — "
+        "EU Pressure Equipment Directive 2014/68/EU scope (from memory); IUPAC Green Book",
+    )
+
+
+def cautions_for(
+    rxn: Reaction,
+    T: np.ndarray,
+    dH: np.ndarray,
+    library: Library,
+    pressures_Pa: Mapping[str, float] | None = None,
+) -> list[Caution]:
+    """Cautions for a reaction evaluated at temperatures ``T`` with ΔrH° values ``dH`` (J/mol),
+    and with the gases' partial pressures ``pressures_Pa`` when given."""
     T = np.atleast_1d(np.asarray(T, dtype=float))
     dH = np.atleast_1d(np.asarray(dH, dtype=float))
     out: list[Caution] = []
@@ -76,6 +129,10 @@ def cautions_for(rxn: Reaction, T: np.ndarray, dH: np.ndarray, library: Library)
                 f"Δn(gas) = {dn[k]:+g}",
             )
         )
+    if pressures_Pa:
+        stored = pressure_caution(pressures_Pa, float(np.max(T)))
+        if stored is not None:
+            out.append(stored)
     seen: set[tuple[str, str]] = set()
     for sp in rxn.species_used():
         for flag in library.hazards(sp):
