@@ -4,8 +4,10 @@ plotly.js itself draws the figure (the copy bundled with the installed plotly pa
 inline into a temporary page) and exports it with its own ``Plotly.toImage``, so the image is the
 figure the widgets show. The browser is Debian's ``chromium`` (or the one named by the
 ``FEASIBLY_CHROMIUM`` environment variable), run headless in a throw-away profile with every host
-name unresolvable: nothing is downloaded, nothing leaves the machine. plotly's ``kaleido``
-package would also work with that browser, but needs three more packages for the same result.
+name unresolvable: nothing is downloaded, nothing leaves the machine. plotly's ``kaleido`` 1.5
+(through ``choreographer``) also finds ``/usr/bin/chromium`` on Debian and wrote a PNG here without
+a download, but it adds four packages (kaleido, choreographer, logistro, simplejson) for the same
+result.
 
 Beside :mod:`feasibly.figures`; the kernel never imports this module.
 """

@@ -171,8 +171,29 @@ def test_reviewer_changes_an_input_and_writes_a_record(review, chromium: dict[st
                 timeout=CHANGE_TIMEOUT_MS,
             )
             page.screenshot(path=str(ARTIFACTS / "review-2-record.png"))
+
+            # The export button: tables as CSV and the figure on screen as PNG and SVG.
+            page.get_by_text("Export tables and figure", exact=True).first.click()
+            page.get_by_role("button", name="export tables and figure").click()
+            page.wait_for_function(
+                "() => [...document.querySelectorAll('.feasibly-note')]"
+                ".some(e => e.textContent.includes('feasibility.svg'))",
+                timeout=CHANGE_TIMEOUT_MS,
+            )
+            section = page.locator(".widget-vbox", has=page.locator(".feasibly-export-button"))
+            section.last.screenshot(path=str(ARTIFACTS / "review-3-export.png"))
         finally:
             ctx.close()
+    exported = review["folder"] / "feasibility-export"
+    assert sorted(p.name for p in exported.iterdir()) == [
+        "feasibility-sensitivity.csv",
+        "feasibility-temperatures.csv",
+        "feasibility-window.csv",
+        "feasibility.png",
+        "feasibility.svg",
+    ]
+    # The figure exported is the one on screen: at the temperature the reviewer chose.
+    assert "at 1000 K: spread of the trials" in (exported / "feasibility.svg").read_text("utf-8")
     record = review["folder"] / "reviewed.json"
     assert record.exists() and (review["folder"] / "reviewed.html").exists()
     doc = feasibly.load_record(record)
