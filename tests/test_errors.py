@@ -29,6 +29,7 @@ INSTANCES = [
     errors.DataFileError("mine.toml", ["entry 0 (X): field cp: missing"]),
     errors.RecordError("run.json", ["field seed: missing"]),
     errors.EquilibriumNotConverged("equilibrate", ["T = 900 K, P = 1 bar"], "hint"),
+    errors.ExportError("a figure as PNG/SVG", "no Chromium browser was found", "Install one."),
 ]
 
 
