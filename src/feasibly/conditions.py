@@ -34,6 +34,7 @@ __all__ = [
     "ONE_ATM_PA",
     "STANDARD_PRESSURE_PA",
     "read_confidence",
+    "read_conversion",
     "read_count",
     "read_feed",
     "read_mole_fractions",
@@ -359,3 +360,21 @@ def read_feed(feed: str | Mapping[str, Any]) -> dict[str, Any]:
     if not out or all(np.all(np.asarray(v) == 0) for v in out.values()):
         raise UnitError(feed, "feed", "the feed is empty; give at least one positive amount")
     return out
+
+
+def read_conversion(value: Any) -> float:
+    """A required conversion: 0.9, "0.9" or "90%" (above 0, at most 1).
+
+    >>> read_conversion("90%")
+    0.9
+    """
+    text = str(value).strip()
+    try:
+        x = float(text[:-1]) / 100.0 if text.endswith("%") else float(text)
+    except ValueError:
+        raise UnitError(
+            value, "conversion", "write a fraction such as 0.9 or a percentage such as 90%"
+        ) from None
+    if not 0.0 < x <= 1.0:
+        raise UnitError(value, "conversion", "a required conversion lies above 0 and at most 100 %")
+    return x

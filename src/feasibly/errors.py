@@ -85,13 +85,24 @@ class InvalidInput(FeasiblyError, ValueError):
 class UnknownSpecies(FeasiblyError, KeyError):
     """A species query matched nothing in the library."""
 
-    def __init__(self, query: str, suggestions: Sequence[str] = (), detail: str = "") -> None:
+    def __init__(
+        self,
+        query: str,
+        suggestions: Sequence[str] = (),
+        detail: str = "",
+        heading: str = "",
+        candidates: Sequence[str] = (),
+    ) -> None:
         self.query = query
         self.suggestions = list(suggestions)
+        # One description (formula, name, CAS, phases) per suggestion, when the caller has them.
+        self.candidates = list(candidates)
         msg = f"No species {excerpt(query)} in the data library."
         if detail:
             msg += f" {detail}"
-        if self.suggestions:
+        if self.candidates:
+            msg += f" {heading or 'Candidates'}: " + "; ".join(self.candidates) + "."
+        elif self.suggestions:
             msg += " Did you mean: " + ", ".join(self.suggestions) + "?"
         else:
             msg += " Search with `feasibly species TEXT`, or add your own entry in a species file."

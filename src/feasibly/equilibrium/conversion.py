@@ -25,7 +25,13 @@ from typing import Any
 import numpy as np
 
 from .._tables import TableExport
-from ..conditions import read_confidence, read_probability, read_states, read_trials
+from ..conditions import (
+    read_confidence,
+    read_conversion,
+    read_probability,
+    read_states,
+    read_trials,
+)
 from ..errors import EquilibriumNotConverged, InvalidInput, UnitError, UnknownSpecies
 from ..library.catalogue import Library, default_library
 from ..library.cp_models import R
@@ -77,20 +83,6 @@ class ExtentEquilibrium:
     amounts: np.ndarray
     key: str | None
     conversion: np.ndarray | None
-
-
-def _read_conversion(value: Any) -> float:
-    """A required conversion: 0.9, "0.9" or "90%"."""
-    text = str(value).strip()
-    try:
-        x = float(text[:-1]) / 100.0 if text.endswith("%") else float(text)
-    except ValueError:
-        raise UnitError(
-            value, "conversion", "write a fraction such as 0.9 or a percentage such as 90%"
-        ) from None
-    if not 0.0 < x <= 1.0:
-        raise UnitError(value, "conversion", "a required conversion lies above 0 and at most 100 %")
-    return x
 
 
 def _term_index(rxn: Reaction, name: str) -> int | None:
@@ -283,7 +275,7 @@ def conversion_bands(
     nominal = equilibrium_extent(rxn, T, P, feed, key=key, library=library)
     assert nominal.conversion is not None
     T_K, P_Pa = nominal.T, nominal.P
-    req = None if required is None else _read_conversion(required)
+    req = None if required is None else read_conversion(required)
     nu, gas, n0, inert, k = _reaction_inputs(rxn, nominal.feed, key, T_K)
     assert k is not None
     inputs = build_inputs(uncertain_species(rxn), overrides)
@@ -362,7 +354,7 @@ def conversion_assessment(
     Without ``samples`` the rows give the nominal conversion and whether it meets the requirement
     (the probability fields are None) and the window is where the nominal value meets it.
     """
-    req = _read_conversion(required)
+    req = read_conversion(required)
     confidence = read_confidence(confidence, "conversion_assessment")
     if samples is None:
         x = equilibrium_extent(reaction, temps, P, feed, key=key, library=library)

@@ -180,6 +180,18 @@ class Library(ProxyPickling):
         """All phases of one formula, as written in the library (exact text)."""
         return list(self._by_formula.get(formula, []))
 
+    def by_name(self, name: str) -> list[Species]:
+        """Entries with this name (any case; runs of spaces and underscores read as one space)."""
+        return list(self._by_name.get(_norm(name), []))
+
+    def by_cas(self, cas: str) -> list[Species]:
+        """Entries with this CAS registry number."""
+        return list(self._by_cas.get(cas.strip(), []))
+
+    def same_composition(self, formula: str) -> list[Species]:
+        """Entries with the same elements and charge as ``formula`` (isomers included)."""
+        return self._same_composition(formula)
+
     def find(self, query: str) -> list[Species]:
         """Entries whose id, formula, CAS number or a name equals ``query`` (names: any case).
 

@@ -16,10 +16,18 @@ from .assessment import Assessment, assess
 from .properties import (
     StandardProperties,
     crossover_temperatures,
+    quotient_at_conversion,
     reaction_quotient,
     standard_properties,
 )
-from .reaction import Reaction, ReactionTerm, parse_equation, resolve_species, split_phase_label
+from .reaction import (
+    Reaction,
+    ReactionTerm,
+    describe_compound,
+    parse_equation,
+    resolve_species,
+    split_phase_label,
+)
 from .safety import (
     DEFERRAL,
     EXOTHERM_J_PER_G,
@@ -41,8 +49,10 @@ __all__ = [
     "assess",
     "cautions_for",
     "crossover_temperatures",
+    "describe_compound",
     "parse_equation",
     "pressure_caution",
+    "quotient_at_conversion",
     "reaction_quotient",
     "resolve_species",
     "split_phase_label",

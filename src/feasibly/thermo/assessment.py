@@ -15,17 +15,21 @@ import numpy as np
 from .. import __about__
 from .._tables import TableExport
 from ..conditions import (
+    read_conversion,
+    read_feed,
     read_partial_pressures,
     read_standard_pressure,
     read_temperatures,
 )
-from ..errors import FeasiblyError
+from ..units import to_pascal
+from ..errors import FeasiblyError, UnitError
 from ..library.catalogue import Library, default_library
 from ..library.cp_models import T_REF, R
 from .properties import (
     _LN10,
     StandardProperties,
     crossover_temperatures,
+    quotient_at_conversion,
     reaction_quotient,
     standard_properties,
 )
@@ -33,9 +37,34 @@ from .reaction import Reaction
 from .safety import DEFERRAL, Caution, cautions_for
 
 __all__ = [
+    "NO_UNCERTAINTY",
     "Assessment",
     "assess",
+    "conditions_label",
 ]
+
+#: Said wherever a call is shown without a Monte Carlo run behind it.
+NO_UNCERTAINTY = (
+    "No uncertainty analysis was made: this call uses the nominal data only and says nothing "
+    "about how sure it is (run with Monte Carlo trials for that)."
+)
+
+
+def conditions_label(
+    pressures: Mapping[str, float], at_conversion: Mapping[str, Any] | None
+) -> str:
+    """The user's conditions in words, e.g. ``p(CO2) = 0.15 bar``; empty at standard state.
+
+    >>> conditions_label({"CO2": 15000.0}, None)
+    'p(CO2) = 0.15 bar'
+    """
+    if at_conversion:
+        feed = ", ".join(f"{k}:{v:g}" for k, v in at_conversion["feed"].items())
+        return (
+            f"{at_conversion['required']:.0%} conversion of {at_conversion['key']} "
+            f"from feed {feed} at {at_conversion['P_Pa'] / 1e5:g} bar"
+        )
+    return ", ".join(f"p({k}) = {v / 1e5:g} bar" for k, v in pressures.items())
 
 
 @dataclass
@@ -60,6 +89,9 @@ class Assessment(TableExport):
     library_version: str
     library_hash: str
     notes: list[str] = field(default_factory=list)
+    at_conversion: dict[str, Any] | None = None
+    crossover_at_conditions_K: list[float] | None = None
+    T_range_K: tuple[float, float] | None = None
 
     @property
     def feasible_standard(self) -> np.ndarray:
@@ -69,6 +101,58 @@ class Assessment(TableExport):
     def tables(self) -> dict[str, list[dict[str, Any]]]:
         """The result's tables by name: ``temperatures`` (one row per temperature)."""
         return {"temperatures": self.to_dict()["rows"]}
+
+    @property
+    def conditions(self) -> str:
+        """The user's conditions in words; empty when the call is at standard state."""
+        return conditions_label(self.partial_pressures_Pa, self.at_conversion)
+
+    @property
+    def dG_call(self) -> np.ndarray:
+        """The ΔrG the call is made on: at the user's conditions when given, else ΔrG°."""
+        return self.dG_actual if self.dG_actual is not None else self.standard.dG
+
+    @property
+    def call_symbol(self) -> str:
+        """ "ΔrG" at the user's conditions, or "ΔrG°" at standard state."""
+        return "ΔrG" if self.dG_actual is not None else "ΔrG°"
+
+    @property
+    def favourable(self) -> np.ndarray:
+        """True where the call's ΔrG is below zero (thermodynamics only)."""
+        return self.dG_call < 0
+
+    @property
+    def crossover_call_K(self) -> list[float] | None:
+        """Where the call's ΔrG changes sign (at the user's conditions when given)."""
+        if self.dG_actual is not None:
+            return self.crossover_at_conditions_K
+        return self.crossover_K
+
+    def window(self) -> list[tuple[float, float]] | None:
+        """Temperature spans of the range where the call's ΔrG < 0, edges at its crossovers.
+
+        None when no range was given (single temperatures have no window).
+        """
+        if self.T_range_K is None or self.crossover_call_K is None:
+            return None
+        lo, hi = self.T_range_K
+        edges = [lo, *self.crossover_call_K, hi]
+        T, neg = self.standard.T, self.favourable
+        spans = []
+        for a, b in zip(edges[:-1], edges[1:], strict=True):
+            inside = (T >= a) & (T <= b)
+            mid = 0.5 * (a + b)
+            # The sign between two crossovers is that of the grid point nearest the middle.
+            sign = neg[inside][np.argmin(np.abs(T[inside] - mid))] if np.any(inside) else None
+            if sign is None:
+                sign = bool(neg[np.argmin(np.abs(T - mid))])
+            if sign:
+                if spans and spans[-1][1] == a:
+                    spans[-1] = (spans[-1][0], b)
+                else:
+                    spans.append((a, b))
+        return spans
 
     def to_dict(self) -> dict[str, Any]:
         """Plain data for JSON output (SI units in every key name)."""
@@ -89,7 +173,9 @@ class Assessment(TableExport):
                 "phases": list(s.phases[i]),
             }
             if self.dG_actual is not None:
-                row["dG_actual_J_per_mol"] = float(self.dG_actual[i])
+                dga = float(self.dG_actual[i])
+                row["dG_actual_J_per_mol"] = dga if np.isfinite(dga) else None
+            row["call"] = "favourable" if self.favourable[i] else "not favourable"
             rows.append(row)
         out: dict[str, Any] = {
             "equation": self.reaction.text,
@@ -108,7 +194,19 @@ class Assessment(TableExport):
             ],
             "cautions": [c.as_dict() for c in self.cautions],
             "notes": list(self.notes),
+            "species_as_used": [t.identity() for t in self.reaction.terms],
+            "call_basis": {
+                "quantity": self.call_symbol,
+                "conditions": self.conditions or "standard state",
+            },
         }
+        window = self.window()
+        if window is not None:
+            out["window_K"] = [list(w) for w in window]
+        if self.crossover_at_conditions_K is not None:
+            out["crossover_at_conditions_K"] = list(self.crossover_at_conditions_K)
+        if self.at_conversion is not None:
+            out["at_conversion"] = dict(self.at_conversion)
         if self.crossover_K is not None:
             out["crossover_K"] = list(self.crossover_K)
             out["crossover_298_estimate_K"] = self.crossover_298_estimate_K
@@ -128,6 +226,7 @@ def assess(
     standard_pressure: Any = "1 bar",
     library: Library | None = None,
     balance: bool = False,
+    at_conversion: Mapping[str, Any] | None = None,
 ) -> Assessment:
     """Screen one reaction: standard Δr quantities and K at ``T`` or over ``T_range``.
 
@@ -136,6 +235,10 @@ def assess(
     ``points`` evenly spaced temperatures and searched for crossover temperatures.
     ``partial_pressures`` maps species (as written in the equation) to pressures with units; the
     other gases are at the standard pressure and listed as such.
+    ``at_conversion`` (``feed``, ``key``, ``required`` conversion, total pressure ``P``) puts the
+    call on ΔrG at the composition that conversion gives: negative exactly where the equilibrium
+    conversion exceeds the requirement. The call, its crossover and window are then on ΔrG at
+    the user's conditions; the standard values stay beside them.
 
     >>> a = assess("CaCO3 -> CaO + CO2", T="900 degC")
     >>> a.reaction.equation()
@@ -165,10 +268,50 @@ def assess(
     pressures = read_partial_pressures(partial_pressures)
     dG_actual = log10_Q = None
     assumed: list[str] = []
+    conv_in: dict[str, Any] | None = None
+    if at_conversion is not None and pressures:
+        raise UnitError(
+            None,
+            "conditions",
+            "give either partial pressures or a feed with a required conversion, not both",
+        )
+    ln_q = None
     if pressures:
         lnQ, assumed = reaction_quotient(rxn, pressures, p_std, temps)
-        dG_actual = std.dG + R * temps * lnQ
+
+        def ln_q(t: np.ndarray) -> np.ndarray:
+            return reaction_quotient(rxn, pressures, p_std, t)[0]
+
+    elif at_conversion is not None:
+        conv_in = {
+            "feed": {k: float(v) for k, v in read_feed(at_conversion["feed"]).items()},
+            "key": str(at_conversion["key"]),
+            "required": read_conversion(at_conversion["required"]),
+            "P_Pa": float(np.squeeze(to_pascal(at_conversion["P"]))),
+        }
+
+        def ln_q(t: np.ndarray) -> np.ndarray:
+            assert conv_in is not None
+            return quotient_at_conversion(
+                rxn,
+                conv_in["feed"],
+                conv_in["key"],
+                conv_in["required"],
+                conv_in["P_Pa"],
+                p_std,
+                t,
+            )
+
+        lnQ = ln_q(temps)
+    cross_actual = None
+    if ln_q is not None:
+        with np.errstate(invalid="ignore"):
+            dG_actual = std.dG + R * temps * lnQ
         log10_Q = float(lnQ[0] / _LN10)
+        if T_range is not None:
+            cross_actual = crossover_temperatures(
+                rxn, float(temps[0]), float(temps[-1]), p_std, ln_q
+            )
     lo_T, hi_T = float(temps.min()), float(temps.max())
     changes = rxn.phase_changes(lo_T, hi_T) if hi_T > lo_T else []
     meta = rxn.metastable(temps)
@@ -190,4 +333,7 @@ def assess(
         library.version,
         library.content_hash,
         notes,
+        conv_in,
+        cross_actual,
+        (float(temps[0]), float(temps[-1])) if T_range is not None else None,
     )

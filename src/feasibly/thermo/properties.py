@@ -6,7 +6,7 @@ unit-aware entry point."""
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass
 from typing import Any
 
@@ -24,6 +24,7 @@ from .reaction import Reaction
 __all__ = [
     "StandardProperties",
     "crossover_temperatures",
+    "quotient_at_conversion",
     "reaction_quotient",
     "standard_properties",
 ]
@@ -110,18 +111,32 @@ def standard_properties(
 
 
 def crossover_temperatures(
-    rxn: Reaction, T_min: float, T_max: float, standard_pressure: float = STANDARD_PRESSURE_PA
+    rxn: Reaction,
+    T_min: float,
+    T_max: float,
+    standard_pressure: float = STANDARD_PRESSURE_PA,
+    ln_q: Callable[[np.ndarray], np.ndarray] | None = None,
 ) -> list[float]:
     """Temperatures in [T_min, T_max] where ΔrG°(T) = 0, by root-finding on the real function.
 
-    ΔrG° is sampled on a grid fine enough to separate roots (2001 points, plus the range ends),
+    With ``ln_q`` (ln Q as a function of T) the roots are those of ΔrG = ΔrG° + RT ln Q, the
+    crossover at the user's conditions (e.g. a decomposition temperature at p(CO2) = 0.15 bar).
+    ΔrG is sampled on a grid fine enough to separate roots (2001 points, plus the range ends),
     then each sign change is refined with Brent's method to 1e-6 K.
     """
     grid = np.linspace(T_min, T_max, 2001)
-    g = standard_properties(rxn, grid, standard_pressure).dG
+
+    def g_of(t: np.ndarray) -> np.ndarray:
+        g = standard_properties(rxn, t, standard_pressure).dG
+        if ln_q is None:
+            return g
+        with np.errstate(invalid="ignore"):
+            return g + R * t * ln_q(t)
+
+    g = g_of(grid)
 
     def f(t: float) -> float:
-        return float(standard_properties(rxn, np.array([t]), standard_pressure).dG[0])
+        return float(g_of(np.array([t]))[0])
 
     roots = []
     for i in range(grid.size - 1):
@@ -166,3 +181,77 @@ def reaction_quotient(
             )
         lnQ += term.nu * math.log(p / standard_pressure)
     return lnQ, assumed
+
+
+def quotient_at_conversion(
+    rxn: Reaction,
+    feed: Mapping[str, float],
+    key: str,
+    required: float,
+    total_pressure: float,
+    standard_pressure: float,
+    T: np.ndarray,
+) -> np.ndarray:
+    """ln Q per T at the composition the feed reaches at the ``required`` conversion of ``key``.
+
+    Gases are an ideal mixture at ``total_pressure`` with the feed's species that are not in the
+    equation (inerts); condensed species are pure. ΔrG = ΔrG° + RT ln Q at that composition is
+    negative exactly where the equilibrium conversion exceeds ``required`` (G falls along the
+    extent up to equilibrium), so its sign is the call on the conversion the user needs. A
+    requirement the feed cannot reach by stoichiometry (another reactant runs out) gives +inf.
+    """
+    from .reaction import resolve_species, split_phase_label
+
+    T = np.atleast_1d(np.asarray(T, dtype=float))
+    n0 = np.zeros(len(rxn.terms))
+    inert = 0.0
+
+    def index(name: str) -> int | None:
+        formula, phase, _ = split_phase_label(name)
+        for j, t in enumerate(rxn.terms):
+            if name in (t.label(), t.text, *(sp.id for sp in t.candidates)):
+                return j
+        hits = [
+            j
+            for j, t in enumerate(rxn.terms)
+            if formula in (t.formula, t.text) and phase in (None, t.phase)
+        ]
+        return hits[0] if len(hits) == 1 else None
+
+    for name, amount in feed.items():
+        j = index(name)
+        if j is not None:
+            n0[j] += float(amount)
+            continue
+        formula, phase, form = split_phase_label(name)
+        _, found = resolve_species(rxn.library, formula, phase, form, name)
+        if any(sp.phase == "g" for sp in found):
+            inert += float(amount)  # a condensed inert does not change any activity
+    k = index(key)
+    nu = np.array([t.nu for t in rxn.terms])
+    if k is None or nu[k] >= 0 or n0[k] <= 0:
+        raise UnitError(key, "key reactant", "name a reactant of the equation that the feed holds")
+    xi = required * n0[k] / -nu[k]
+    n = n0 + nu * xi
+    # A relative 1e-12 absorbs rounding in n0 + ν ξ for a reactant used up exactly.
+    n = np.where(np.abs(n) < 1e-12 * max(float(n0.max()), 1.0), 0.0, n)
+    if np.any(n < 0):
+        return np.full(T.shape, np.inf)
+    plan = rxn.phase_plan(T)
+    gas = np.stack(
+        [
+            np.array([sp.phase == "g" for sp in t.candidates])[idx]
+            for t, idx in zip(rxn.terms, plan, strict=True)
+        ],
+        axis=1,
+    )
+    n_gas = gas @ n + inert
+    out = np.zeros(T.shape)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        for j in range(nu.size):
+            y = np.where(gas[:, j], n[j] / np.where(n_gas > 0, n_gas, 1.0), 1.0)
+            term = nu[j] * np.log(np.where(gas[:, j], y * total_pressure / standard_pressure, 1.0))
+            # A condensed reactant used up ends the reaction: no further extent is possible.
+            term = np.where(~gas[:, j] & (n[j] <= 0) & (nu[j] < 0), np.inf, term)
+            out = out + np.where(np.isnan(term), np.inf, term)
+    return out

@@ -5,12 +5,23 @@ a coefficient before each formula (integer, decimal or fraction such as ``1/2``)
 phase label in parentheses after the formula: ``(g)``, ``(l)``, ``(s)`` or ``(cr)``, ``(aq)``, and
 optionally a form after a comma (``(cr,calcite)``). A species given without a phase takes the
 stable phase at each temperature (lowest G°); an explicit phase is respected.
+
+Identity: a formula must be written as the library writes it (``C2H5OH``, ``CH3COOH``). A formula
+the library does not hold is refused, never read as another compound of the same elements: the
+message lists the library's compounds of that composition (formula, name, CAS number, phases).
+A species may also be named in braces, by name or CAS number, anywhere a formula may stand:
+``{ethanol}``, ``2 {64-17-5}(l)``, ``{acetic acid} + {ethanol} -> ...``. Inside the braces any
+text but a brace is allowed; the CAS number's check digit is verified.
+
+>>> str(Reaction.parse("{methanol}(g) -> CO + 2 H2"))
+'CH3OH(g) -> CO + 2 H2'
 """
 
 from __future__ import annotations
 
 import math
 import re
+from collections import Counter
 from collections.abc import Sequence
 from dataclasses import dataclass
 from fractions import Fraction
@@ -32,7 +43,14 @@ from ..library.catalogue import Library, default_library
 from ..library.formula import parse_formula, pretty_formula
 from ..library.species import Species
 
-__all__ = ["Reaction", "ReactionTerm", "parse_equation", "resolve_species", "split_phase_label"]
+__all__ = [
+    "Reaction",
+    "ReactionTerm",
+    "describe_compound",
+    "parse_equation",
+    "resolve_species",
+    "split_phase_label",
+]
 
 _ARROW = re.compile(r"\s*(<=>|<->|⇌|->|→|=>|=)\s*")
 _PHASE_WORDS = {
@@ -47,7 +65,10 @@ _PHASE_WORDS = {
     "solid": "cr",
     "aq": "aq",
 }
-_COEF = re.compile(r"^\s*(\d+/\d+|\d*\.\d+|\d+)(?:\s+|(?=[A-Z(\[]))")
+_COEF = re.compile(r"^\s*(\d+/\d+|\d*\.\d+|\d+)(?:\s+|(?=[A-Z(\[{]))")
+# A species named in braces: {ethyl acetate}, {141-78-6}. Braces never occur in formulas.
+_BRACED = re.compile(r"\{([^{}]*)\}")
+_CAS = re.compile(r"^(\d{2,7})-(\d{2})-(\d)$")
 _LABEL = re.compile(r"\(([a-z][a-z0-9\-]*(?:\s*,\s*[A-Za-z0-9][A-Za-z0-9\-]*)?)\)$")
 # The largest coefficient accepted: real equations stay below a few hundred, and float64 element
 # balances stay exact far beyond this.
@@ -80,6 +101,12 @@ class ReactionTerm:
         """Stoichiometric number: negative for reactants, positive for products."""
         return float(self.coefficient)
 
+    def identity(self) -> dict[str, str | None]:
+        """What the term was read as: text as written, library formula, name and CAS number."""
+        name = _common_name(self.candidates)
+        cas = next((sp.cas for sp in self.candidates if sp.cas), None)
+        return {"written": self.text, "formula": self.formula, "name": name, "cas": cas}
+
     def label(self) -> str:
         """Formula with its phase label as written in the balanced equation."""
         if self.phase is None and self.form is None:
@@ -88,13 +115,19 @@ class ReactionTerm:
         return f"{self.formula}({inside})"
 
 
+def _common_name(entries: Sequence[Species]) -> str | None:
+    """The name most of a formula's entries carry ("water" over "ice"), first met on a tie."""
+    names = Counter(n for sp in entries for n in sp.names[:1])
+    return names.most_common(1)[0][0] if names else None
+
+
 def _split_terms(side: str, text: str) -> list[str]:
     pieces = [p for p in re.split(r"\s+\+\s+", side.strip())]
     out: list[str] = []
     for piece in pieces:
         # "H2+O2" with no spaces: a '+' followed by a formula start (or a coefficient and a
         # formula) separates terms; a trailing '+' is a charge.
-        out.extend(re.split(r"(?<=[\w)\]])\+(?=\s*(?:\d*\.?\d+(?:/\d+)?\s*)?[A-Z(\[])", piece))
+        out.extend(re.split(r"(?<=[\w)\]}])\+(?=\s*(?:\d*\.?\d+(?:/\d+)?\s*)?[A-Z(\[{])", piece))
     terms = [t.strip() for t in out]
     if any(not t or t.startswith("+") for t in terms):
         raise ReactionSyntaxError(text, "an empty term (two '+' in a row, or '+' at an end)")
@@ -145,7 +178,17 @@ def parse_equation(text: str) -> list[tuple[Fraction, str, str | None, str | Non
         )
     if _ISOTOPE.search(text):
         raise ReactionSyntaxError(text, _ISOTOPE_ADVICE)
-    parts = _ARROW.split(text.strip())
+    # Names in braces may hold '+', '=', '-' or parentheses: set them aside while splitting.
+    named: list[str] = []
+
+    def _hide(m: re.Match[str]) -> str:
+        named.append(m.group(0))
+        return "{%d}" % (len(named) - 1)
+
+    masked = _BRACED.sub(_hide, text.strip())
+    if any(c in "{}" for c in re.sub(r"\{\d+\}", "", masked)):
+        raise ReactionSyntaxError(text, "a '{' or '}' has no partner; write {name} or {CAS}")
+    parts = _ARROW.split(masked)
     if len(parts) != 3:
         raise ReactionSyntaxError(
             text, "write exactly one arrow between reactants and products (->, =, <=> or →)"
@@ -186,35 +229,117 @@ def parse_equation(text: str) -> list[tuple[Fraction, str, str | None, str | Non
             term, phase, form = split_phase_label(term, text)
             if not term:
                 raise ReactionSyntaxError(text, "a coefficient or phase label has no formula")
+            term = re.sub(r"\{(\d+)\}", lambda m: named[int(m.group(1))], term)
+            if "{" in term and not _BRACED.fullmatch(term):
+                raise ReactionSyntaxError(
+                    text, f"{term!r}: a name in braces stands alone, e.g. 2 {{ethanol}}(l)"
+                )
             out.append((coef, term, phase, form, sign))
     return out
+
+
+def _cas_ok(cas: str) -> bool:
+    """True when a CAS registry number's check digit is right (CAS's published rule)."""
+    m = _CAS.match(cas)
+    if not m:
+        return False
+    digits = (m.group(1) + m.group(2))[::-1]
+    return sum((i + 1) * int(d) for i, d in enumerate(digits)) % 10 == int(m.group(3))
+
+
+def describe_compound(library: Library, formula: str) -> str:
+    """One compound of the library for a message: formula (name, CAS; phases).
+
+    >>> describe_compound(default_library(), "C2H5OH")
+    'C2H5OH (ethanol, CAS 64-17-5; phases g, l)'
+    """
+    entries = library.by_formula(formula)
+    name = _common_name(entries) or "no name in the data"
+    cas = next((sp.cas for sp in entries if sp.cas), None)
+    phases = ", ".join(
+        dict.fromkeys(sp.phase if not sp.form else f"{sp.phase},{sp.form}" for sp in entries)
+    )
+    return f"{formula} ({name}, CAS {cas or 'not recorded'}; phases {phases})"
+
+
+def _resolve_named(library: Library, inner: str) -> list[Species]:
+    """Entries for a {name} or {CAS} term: every phase of the one formula it names."""
+    q = inner.strip()
+    if not q:
+        raise UnknownSpecies("{}", [], detail="The braces are empty; write a name or CAS number.")
+    if _CAS.match(q):
+        if not _cas_ok(q):
+            raise UnknownSpecies(
+                "{" + q + "}",
+                [],
+                detail="This is not a valid CAS registry number (its check digit does not match);"
+                " check the digits.",
+            )
+        named = library.by_cas(q)
+        how = f"CAS number {q}"
+    else:
+        named = library.by_name(q)
+        how = f"the name {q!r}"
+    formulas = list(dict.fromkeys(sp.formula for sp in named))
+    if not formulas:
+        near = list(dict.fromkeys(sp.formula for sp in library.search(q, 5)))
+        raise UnknownSpecies(
+            "{" + q + "}",
+            near,
+            detail=f"No compound of the data library has {how}; it may be missing from the "
+            "data (add it in a species file).",
+            heading="Nearest in the library",
+            candidates=[describe_compound(library, f) for f in near],
+        )
+    if len(formulas) > 1:
+        raise UnknownSpecies(
+            "{" + q + "}",
+            formulas,
+            detail=f"Several compounds have {how}; write the formula of the one you mean.",
+            heading="Compounds",
+            candidates=[describe_compound(library, f) for f in formulas],
+        )
+    return library.by_formula(formulas[0])
 
 
 def resolve_species(
     library: Library, formula: str, phase: str | None, form: str | None, text: str
 ) -> tuple[str, tuple[Species, ...]]:
-    """Library entries a term may use, and the library's own formula text for it."""
-    hits = library.by_formula(formula)
-    if not hits:
-        found = library.find(formula)
-        formulas = sorted({sp.formula for sp in found})
-        if len(formulas) > 1:
-            names = [
-                f"{f} ({', '.join(library.by_formula(f)[0].names[:1]) or 'unnamed'})"
-                for f in formulas
-            ]
-            raise UnknownSpecies(
-                formula,
-                names,
-                detail="Several species share this composition; write the one you mean.",
-            )
-        if formulas:
-            hits = library.by_formula(formulas[0])
+    """Library entries a term may use, and the library's own formula text for it.
+
+    A formula is taken only as the library writes it; a different text with the same elements
+    may be another isomer, so it is refused with the library's compounds of that composition.
+    """
+    named = _BRACED.fullmatch(formula.strip())
+    hits = _resolve_named(library, named.group(1)) if named else library.by_formula(formula)
     if not hits:
         try:
             parse_formula(formula)
         except FeasiblyError as exc:
             raise UnknownSpecies(formula, library.suggest(formula), detail=str(exc)) from None
+        alike = list(dict.fromkeys(sp.formula for sp in library.same_composition(formula)))
+        if len(alike) > 1:
+            raise UnknownSpecies(
+                formula,
+                alike,
+                detail="Several species share this composition, and feasibly does not guess "
+                "which compound a formula means; write the library formula of the one you "
+                "mean, or its name or CAS number in braces (e.g. {ethanol}).",
+                heading="Compounds of this composition in the library",
+                candidates=[describe_compound(library, f) for f in alike],
+            )
+        if alike:
+            raise UnknownSpecies(
+                formula,
+                alike,
+                detail=f"The library has no compound written {formula}. The one compound of the "
+                "same elements is written differently and may be another isomer, so it is not "
+                "used in its place: if it is the compound you mean, write its formula or its "
+                "name or CAS number in braces; if not, your compound is missing from the data "
+                "(add it in a species file).",
+                heading="The library's compound of the same elements",
+                candidates=[describe_compound(library, f) for f in alike],
+            )
         raise UnknownSpecies(formula, library.suggest(formula))
     chosen = [
         sp
@@ -225,7 +350,7 @@ def resolve_species(
         have = ", ".join(sp.id for sp in hits)
         want = ",".join(x for x in (phase, form) if x)
         raise UnknownSpecies(
-            f"{formula}({want})", [sp.id for sp in hits], detail=f"The library has {have}."
+            f"{hits[0].formula}({want})", [sp.id for sp in hits], detail=f"The library has {have}."
         )
     return hits[0].formula, tuple(chosen)
 

@@ -205,8 +205,9 @@ class ReactionBuilder(w.VBox):
             self.balanced, self.error = False, str(exc)
             self.suggestions = list(exc.suggestions)
             buttons = []
+            described = dict(zip(exc.suggestions, exc.candidates, strict=False))
             for s in exc.suggestions:
-                b = w.Button(description=f"use {s}", layout={"width": "auto"})
+                b = w.Button(description=f"use {described.get(s, s)}", layout={"width": "auto"})
                 b.on_click(lambda _b, q=exc.query, s=s: self.use_suggestion(q, s))
                 buttons.append(b)
             self._fix.children = buttons
@@ -233,7 +234,11 @@ class ReactionBuilder(w.VBox):
         for t in self.reaction.terms:
             ids = ", ".join(sp.id for sp in t.candidates)
             how = "fixed" if len(t.candidates) == 1 else "stable phase at each T among"
-            parts.append(f"{html.escape(t.label())}: {how} {html.escape(ids)}")
+            who = t.identity()
+            parts.append(
+                f"{html.escape(t.label())} = {html.escape(who['name'] or 'unnamed')} "
+                f"(CAS {html.escape(who['cas'] or 'not recorded')}): {how} {html.escape(ids)}"
+            )
         return "<div style='font-size:12px;color:#333'>" + "; ".join(parts) + "</div>"
 
     def __repr__(self) -> str:
