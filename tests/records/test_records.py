@@ -447,7 +447,7 @@ def test_html_report_is_self_contained_and_escapes_text(record: dict[str, Any]) 
 def test_report_of_a_standard_only_call_has_a_figure_and_says_so() -> None:
     html = record_html(make_record("MgCO3 -> MgO + CO2", T_range=("500 K", "900 K"), points=5))
     assert html.count("<svg xmlns") == 1
-    assert "not a confident call" in html
+    assert "No uncertainty analysis was made" in html
 
 
 def test_markdown_export(record: dict[str, Any]) -> None:

@@ -11,7 +11,7 @@ from typing import Any
 
 from ..conditions import STANDARD_PRESSURE_PA
 from ..library import Library, default_library
-from ..thermo import Assessment
+from ..thermo import NO_UNCERTAINTY, Assessment
 from ..uncertainty import UncertainAssessment, window_phrase
 
 EXIT_OK = 0
@@ -87,11 +87,108 @@ def _fmt(x: float, digits: int = 2) -> str:
     return f"{x:,.{digits}f}"
 
 
+def _kj(x: float) -> str:
+    return f"{x / 1000:+,.2f} kJ/mol" if math.isfinite(x) else "+∞ (the requirement cannot be met)"
+
+
+def _spans(spans: list[tuple[float, float]], lo: float, hi: float) -> str:
+    return "; ".join(
+        ("from the start of the range" if a <= lo else f"from {a:.0f} K")
+        + (" to the end of the range" if b >= hi else f" to {b:.0f} K")
+        for a, b in spans
+    )
+
+
+def _print_call(a: Assessment, u: UncertainAssessment | None, conv: dict[str, Any] | None) -> None:
+    """The decision first: the call at the user's conditions, its window, how sure, the lead."""
+    s = a.standard
+    sym = a.call_symbol
+    where = a.conditions or "standard state (1 bar for each gas, pure condensed phases)"
+    print(f"━━ The call ━━ {a.reaction.equation(pretty=True)}")
+    print(f"  conditions   {where}")
+    if u is None:
+        if s.T.size == 1:
+            word = "favourable" if a.favourable[0] else "NOT favourable"
+            line = f"{word} at {s.T[0]:.1f} K: {sym} = {_kj(float(a.dG_call[0]))}"
+            if a.dG_actual is not None:
+                line += f" at these conditions (ΔrG° = {_kj(float(s.dG[0]))} at standard state)"
+            print(f"  call         {line}")
+        else:
+            window = a.window()
+            neg = a.favourable
+            if window:
+                span = _spans(window, float(s.T[0]), float(s.T[-1]))
+                print(f"  call         favourable ({sym} < 0) {span}")
+            elif window is not None:
+                print(f"  call         NOT favourable anywhere in {s.T[0]:.0f}–{s.T[-1]:.0f} K")
+            else:
+                print(
+                    f"  call         favourable ({sym} < 0) at {int(neg.sum())} of {neg.size} "
+                    "temperatures"
+                )
+        print(f"  how sure     {NO_UNCERTAINTY}")
+    else:
+        basis = f"on ΔrG at {a.conditions}" if a.conditions else "on ΔrG°"
+        if u.T.size == 1:
+            print(
+                f"  call         {u.verdicts[0]} at {u.T[0]:.1f} K at {u.confidence:.0%} "
+                f"confidence ({basis}); {sym} = {_kj(float(a.dG_call[0]))} at the nominal data"
+            )
+            print(
+                f"  how sure     P(feasible) = {u.p_feasible[0]:.1%} ± {u.p_feasible_se[0]:.1%} "
+                f"from {u.trials:,} trials"
+            )
+        else:
+            windows = u.window()
+            if windows:
+                print(
+                    f"  call         feasible at {u.confidence:.0%} confidence "
+                    f"{window_phrase(windows)} ({basis})"
+                )
+            else:
+                print(
+                    f"  call         nowhere feasible at {u.confidence:.0%} confidence in this "
+                    f"range ({basis})"
+                )
+            print(f"  how sure     P(feasible) per temperature below, from {u.trials:,} trials")
+        t_lead = float(u.T[len(u.T) // 2])
+        shares = u.sensitivity_by_species((t_lead, "K"))[:1]
+        if shares:
+            sid, share = shares[0]
+            print(f"  leading input {sid}: {share:.0%} of the variance of ΔrG at {t_lead:.0f} K")
+    cross = a.crossover_call_K
+    if cross is not None:
+        at = f"at {a.conditions}" if a.dG_actual is not None else "at standard state"
+        if cross:
+            joined = ", ".join(f"{t:.1f} K ({t - 273.15:.1f} °C)" for t in cross)
+            print(f"  crossover    {sym} = 0 {at}: {joined}")
+        else:
+            print(f"  crossover    {sym} does not change sign in this range ({at})")
+        if a.dG_actual is not None and a.crossover_K is not None:
+            std = ", ".join(f"{t:.1f} K" for t in a.crossover_K) or "none in range"
+            print(f"               (ΔrG° = 0 at standard state: {std})")
+    if conv is not None:
+        req = conv["required_conversion"]
+        w = conv["window"]
+        sampled = conv["trials"] > 0
+        how = f"at {conv['confidence']:.0%} confidence" if sampled else "at the nominal data"
+        text = window_phrase(w) if w else "nowhere in this range"
+        print(f"  conversion   {req:.0%} of {conv['key']} reached {how} {text}")
+    print("  This is thermodynamics only: it says nothing about rate, hazards or scale-up.")
+    print()
+    print("━━ The numbers behind it ━━")
+
+
 def _print_assessment(a: Assessment) -> None:
     s = a.standard
     print(f"Reaction   {a.reaction.equation(pretty=True)}")
     if a.reaction.equation() != " ".join(a.reaction.text.split()):
         print(f"           (entered as: {a.reaction.text})")
+    ids = []
+    for t in a.reaction.terms:
+        who = t.identity()
+        ids.append(f"{t.formula} = {who['name'] or 'unnamed'} (CAS {who['cas'] or '—'})")
+    print(f"Species    {'; '.join(ids)}")
     lo, hi = a.reaction.valid_range()
     p_label = "1 bar" if s.standard_pressure == STANDARD_PRESSURE_PA else "1 atm"
     print(
@@ -101,7 +198,7 @@ def _print_assessment(a: Assessment) -> None:
     header = ["T / K", "T / °C", "ΔrH° kJ/mol", "ΔrS° J/(mol·K)", "ΔrG° kJ/mol", "log10 K"]
     if a.dG_actual is not None:
         header.append("ΔrG kJ/mol")
-    header.append("ΔrG° < 0?")
+    header.append(f"{a.call_symbol} < 0?")
     rows = []
     for i in range(s.T.size):
         row = [
@@ -114,7 +211,7 @@ def _print_assessment(a: Assessment) -> None:
         ]
         if a.dG_actual is not None:
             row.append(_fmt(a.dG_actual[i] / 1000))
-        row.append("yes" if s.dG[i] < 0 else "no")
+        row.append("yes" if a.favourable[i] else "no")
         rows.append(row)
     widths = [max(len(h), *(len(r[j]) for r in rows)) for j, h in enumerate(header)]
     print()
@@ -132,7 +229,12 @@ def _print_assessment(a: Assessment) -> None:
             print(
                 f"  (the 298.15 K shortcut ΔrH°/ΔrS° would say {a.crossover_298_estimate_K:.1f} K)"
             )
-    if a.dG_actual is not None:
+    if a.dG_actual is not None and a.at_conversion is not None:
+        print(
+            f"ΔrG at {a.conditions}: at the composition that conversion gives; ideal gases, "
+            "condensed phases pure. ΔrG < 0 exactly where the equilibrium conversion is higher."
+        )
+    elif a.dG_actual is not None:
         given = ", ".join(f"{k} {v / 1e5:g} bar" for k, v in a.partial_pressures_Pa.items())
         print(f"ΔrG at partial pressures: {given}; ideal gases, condensed phases pure.")
         if a.assumed_standard:

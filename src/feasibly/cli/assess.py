@@ -24,6 +24,7 @@ from ._terminal import (
     EXIT_OK,
     _library,
     _print_assessment,
+    _print_call,
     _print_conversion,
     _print_uncertainty,
 )
@@ -95,8 +96,18 @@ def _cmd_assess(args: argparse.Namespace) -> int:
             "given: one temperature such as --T 800 degC, or a range such as --T-range 600 1000 K",
             None,
         )
+    at_conversion = None
+    if args.feed and args.require_conversion and args.key and not pressures:
+        # The call is on ΔrG at the composition the required conversion gives at --P.
+        at_conversion = {
+            "feed": args.feed,
+            "key": args.key,
+            "required": args.require_conversion,
+            "P": _quantity_text(args.P, "pressure") if args.P else "1 bar",
+        }
     result = assess(
         args.equation,
+        at_conversion=at_conversion,
         T=T,
         T_range=T_range,
         points=args.points,
@@ -130,6 +141,7 @@ def _cmd_assess(args: argparse.Namespace) -> int:
             partial_pressures=pressures,
             standard_pressure=args.standard_pressure,
             library=lib,
+            at_conversion=result.at_conversion,
         )
     elif args.threshold or args.require_K or args.override or args.correlate:
         raise UnitError(
@@ -214,6 +226,7 @@ def _cmd_assess(args: argparse.Namespace) -> int:
             doc["conversion"] = conversion
         print(json.dumps(doc, indent=2, ensure_ascii=False))
     else:
+        _print_call(result, uncertain, conversion)
         _print_assessment(result)
         if uncertain is not None:
             _print_uncertainty(uncertain)

@@ -406,6 +406,9 @@ def render_html(doc: Mapping[str, Any]) -> str:
     res, rxn, review = doc["results"], doc["reaction"], doc["review"]
     summary = res["summary"]
     colour = _VERDICT_COLOUR.get(summary["verdict"], OKABE_ITO["orange"])
+    if summary["basis"] == "standard values only":
+        # Nominal data only: never the green of a confident call.
+        colour = OKABE_ITO["orange"] if colour == OKABE_ITO["green"] else colour
     a = res["assessment"]
     cautions = "".join(f"<li>{_e(c['message'])}</li>" for c in a["cautions"])
     notes = "".join(f"<p>{_e(n)}</p>" for n in a["notes"])
@@ -451,7 +454,13 @@ def render_html(doc: Mapping[str, Any]) -> str:
         + "</p></header>",
         f"<section class='verdict' id='verdict' style='--c: {colour}'>"
         f"<div class='word'>{_e(summary['verdict'])}</div>"
-        f"<div>{_e(summary['headline'])}</div>" + "</section>",
+        + (
+            "<div class='word' id='no-uncertainty'>no uncertainty analysis</div>"
+            if summary["basis"] == "standard values only"
+            else ""
+        )
+        + f"<div>{_e(summary['headline'])}</div>"
+        + "</section>",
         caution_block,
         "<h2>Figures</h2>",
         *(f"<figure>{svg}</figure>" for svg in _figures(doc)),

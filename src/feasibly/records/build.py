@@ -23,7 +23,7 @@ from ..errors import RecordError, UnbalancedReaction
 from ..library.catalogue import Library
 from ..library.cp_models import R
 from ..library.species import Species
-from ..thermo.assessment import Assessment, assess
+from ..thermo.assessment import NO_UNCERTAINTY, Assessment, assess
 from ..thermo.reaction import Reaction
 from ..uncertainty import ADAPTIVE_MAX_TRIALS, UncertainAssessment, assess_uncertainty
 from ..uncertainty.inputs import InputKey, Method, Override
@@ -129,18 +129,33 @@ def summary(a: Assessment, u: UncertainAssessment | None) -> dict[str, str]:
         else:
             verdict = "not shown feasible"
             headline = f"Nowhere in this range feasible at {level} confidence."
+        basis = f"ΔrG at {a.conditions}" if a.conditions else "ΔrG°"
+        headline += f" (On {basis}; {u.trials:,} Monte Carlo trials.)"
         return {"verdict": verdict, "headline": headline, "basis": "monte carlo"}
-    dG = a.dG_actual if a.dG_actual is not None else a.standard.dG
-    sym = "ΔrG" if a.dG_actual is not None else "ΔrG°"
-    neg = dG < 0
+    sym = a.call_symbol
+    at = f" at {a.conditions}" if a.conditions else ""
+    neg = a.favourable
     if bool(np.all(neg)):
-        verdict, headline = "favourable", f"{sym} < 0 at every temperature assessed."
+        verdict, headline = "favourable", f"{sym} < 0{at} at every temperature assessed."
     elif not bool(np.any(neg)):
-        verdict, headline = "not favourable", f"{sym} ≥ 0 at every temperature assessed."
+        verdict, headline = "not favourable", f"{sym} ≥ 0{at} at every temperature assessed."
     else:
         verdict = "favourable in part of the range"
-        headline = f"{sym} < 0 at {int(np.count_nonzero(neg))} of {neg.size} temperatures."
-    headline += " No uncertainty run: this is not a confident call."
+        window = a.window()
+        if window:
+            lo, hi = float(a.standard.T[0]), float(a.standard.T[-1])
+            spans = " and ".join(
+                f"from {x:.0f} K{' (range start)' if x <= lo else ''} to "
+                f"{y:.0f} K{' (range end)' if y >= hi else ''}"
+                for x, y in window
+            )
+            headline = f"{sym} < 0{at} {spans}."
+        else:
+            headline = f"{sym} < 0{at} at {int(np.count_nonzero(neg))} of {neg.size} temperatures."
+    if a.dG_actual is not None:
+        std = a.standard.dG < 0
+        headline += f" (Standard state: ΔrG° < 0 at {int(std.sum())} of {std.size} temperatures.)"
+    headline += " " + NO_UNCERTAINTY
     return {"verdict": verdict, "headline": headline, "basis": "standard values only"}
 
 
@@ -300,6 +315,21 @@ def record_from(
             problems.append("field uncertain: it was run at other partial pressures")
         if u.standard_pressure != a.standard.standard_pressure:
             problems.append("field uncertain: it was run at another standard pressure")
+        if u.at_conversion != a.at_conversion:
+            problems.append("field uncertain: its call was made at other conditions")
+    if a.at_conversion is not None:
+        same = conversion_inputs is not None and all(
+            conversion_inputs.get(k) == a.at_conversion[k] for k in ("feed", "key", "required")
+        )
+        if (
+            not same
+            or conversion_inputs is None
+            or conversion_inputs["P_Pa"] != a.at_conversion["P_Pa"]
+        ):
+            problems.append(
+                "field conversion: the call was made at a required conversion; give that "
+                "conversion result and the same inputs"
+            )
     if (conversion is None) != (conversion_inputs is None):
         problems.append("field conversion: give the conversion result and its inputs together")
     if conversion is not None and conversion.get("T_K") != [float(t) for t in a.standard.T]:
@@ -325,6 +355,7 @@ def record_from(
             "temperature": temperature_section(a),
             "standard_pressure_Pa": float(a.standard.standard_pressure),
             "partial_pressures_Pa": plain(a.partial_pressures_Pa),
+            "call_at_required_conversion": a.at_conversion is not None,
         },
         "uncertainty": (
             _uncertainty_inputs(u, required_K, max_trials, t_sens) if u is not None else None

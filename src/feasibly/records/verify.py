@@ -98,8 +98,13 @@ def _rerun(doc: Mapping[str, Any]) -> dict[str, Any]:
     p_std = "1 bar" if cond["standard_pressure_Pa"] == STANDARD_PRESSURE_PA else "1 atm"
     pressures = {k: (float(v), "Pa") for k, v in cond["partial_pressures_Pa"].items()}
     rxn = doc["reaction"]
+    conv_in = doc.get("conversion")
+    at_conversion = None
+    if cond.get("call_at_required_conversion") and conv_in is not None:
+        at_conversion = {k: conv_in[k] for k in ("feed", "key", "required", "P_Pa")}
     a = assess(
         rxn["entered"],
+        at_conversion=at_conversion,
         T=T,
         T_range=T_range,
         points=points,
@@ -108,7 +113,6 @@ def _rerun(doc: Mapping[str, Any]) -> dict[str, Any]:
         library=lib,
         balance=rxn["balance"],
     )
-    conv_in = doc.get("conversion")
     conv: dict[str, Any] = {}
     if conv_in is not None:
         conv = {
@@ -167,6 +171,7 @@ def _rerun(doc: Mapping[str, Any]) -> dict[str, Any]:
         standard_pressure=p_std,
         library=lib,
         progress=False,
+        at_conversion=at_conversion,
     )
     return record_from(
         a,

@@ -12,7 +12,13 @@ Layer rule: imports :mod:`feasibly.library`, :mod:`feasibly.units` and
 :mod:`feasibly.conditions` below it; never uncertainty, equilibrium, records or widgets.
 """
 
-from .assessment import Assessment, assess
+from .assessment import (
+    NO_UNCERTAINTY,
+    Assessment,
+    assess,
+    conditions_label,
+    read_at_conversion,
+)
 from .properties import (
     StandardProperties,
     crossover_temperatures,
@@ -40,6 +46,7 @@ from .safety import (
 __all__ = [
     "DEFERRAL",
     "EXOTHERM_J_PER_G",
+    "NO_UNCERTAINTY",
     "PRESSURE_CAUTION_PA",
     "Assessment",
     "Caution",
@@ -48,12 +55,14 @@ __all__ = [
     "StandardProperties",
     "assess",
     "cautions_for",
+    "conditions_label",
     "crossover_temperatures",
     "describe_compound",
     "parse_equation",
     "pressure_caution",
     "quotient_at_conversion",
     "reaction_quotient",
+    "read_at_conversion",
     "resolve_species",
     "split_phase_label",
     "standard_properties",

@@ -6,6 +6,7 @@ unit-aware entry point that reads user quantities through :mod:`feasibly.units`.
 
 from __future__ import annotations
 
+import itertools
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from typing import Any
@@ -21,10 +22,10 @@ from ..conditions import (
     read_standard_pressure,
     read_temperatures,
 )
-from ..units import to_pascal
 from ..errors import FeasiblyError, UnitError
 from ..library.catalogue import Library, default_library
 from ..library.cp_models import T_REF, R
+from ..units import to_pascal
 from .properties import (
     _LN10,
     StandardProperties,
@@ -41,6 +42,7 @@ __all__ = [
     "Assessment",
     "assess",
     "conditions_label",
+    "read_at_conversion",
 ]
 
 #: Said wherever a call is shown without a Monte Carlo run behind it.
@@ -48,6 +50,28 @@ NO_UNCERTAINTY = (
     "No uncertainty analysis was made: this call uses the nominal data only and says nothing "
     "about how sure it is (run with Monte Carlo trials for that)."
 )
+
+
+def read_at_conversion(at_conversion: Mapping[str, Any]) -> dict[str, Any]:
+    """Feed, key, required conversion and total pressure (``P`` with a unit, or ``P_Pa``)."""
+    if not isinstance(at_conversion, Mapping) or not {"feed", "key", "required"} <= set(
+        at_conversion
+    ):
+        raise UnitError(
+            at_conversion,
+            "required conversion",
+            "give feed, key, required and the total pressure P together",
+        )
+    if "P_Pa" in at_conversion:
+        P = float(at_conversion["P_Pa"])
+    else:
+        P = float(np.squeeze(to_pascal(at_conversion.get("P", "1 bar"))))
+    return {
+        "feed": {k: float(v) for k, v in read_feed(at_conversion["feed"]).items()},
+        "key": str(at_conversion["key"]),
+        "required": read_conversion(at_conversion["required"]),
+        "P_Pa": P,
+    }
 
 
 def conditions_label(
@@ -140,7 +164,7 @@ class Assessment(TableExport):
         edges = [lo, *self.crossover_call_K, hi]
         T, neg = self.standard.T, self.favourable
         spans = []
-        for a, b in zip(edges[:-1], edges[1:], strict=True):
+        for a, b in itertools.pairwise(edges):
             inside = (T >= a) & (T <= b)
             mid = 0.5 * (a + b)
             # The sign between two crossovers is that of the grid point nearest the middle.
@@ -283,12 +307,7 @@ def assess(
             return reaction_quotient(rxn, pressures, p_std, t)[0]
 
     elif at_conversion is not None:
-        conv_in = {
-            "feed": {k: float(v) for k, v in read_feed(at_conversion["feed"]).items()},
-            "key": str(at_conversion["key"]),
-            "required": read_conversion(at_conversion["required"]),
-            "P_Pa": float(np.squeeze(to_pascal(at_conversion["P"]))),
-        }
+        conv_in = read_at_conversion(at_conversion)
 
         def ln_q(t: np.ndarray) -> np.ndarray:
             assert conv_in is not None

@@ -183,7 +183,7 @@ def parse_equation(text: str) -> list[tuple[Fraction, str, str | None, str | Non
 
     def _hide(m: re.Match[str]) -> str:
         named.append(m.group(0))
-        return "{%d}" % (len(named) - 1)
+        return f"{{{len(named) - 1}}}"
 
     masked = _BRACED.sub(_hide, text.strip())
     if any(c in "{}" for c in re.sub(r"\{\d+\}", "", masked)):

@@ -33,7 +33,12 @@ from ..conditions import (
 from ..errors import InvalidInput, InvalidUncertainty, UnitError
 from ..library.catalogue import Library, default_library
 from ..library.cp_models import R
-from ..thermo import reaction_quotient
+from ..thermo import (
+    conditions_label,
+    quotient_at_conversion,
+    reaction_quotient,
+    read_at_conversion,
+)
 from ..thermo.reaction import Reaction
 from ..units import to_energy_per_mol
 from ._quantiles import row_statistics
@@ -115,6 +120,7 @@ class UncertainAssessment(TableExport):
         library: Library,
         adaptive: AdaptiveReport | None = None,
         crossing_range: tuple[float, float] | None = None,
+        at_conversion: Mapping[str, Any] | None = None,
     ) -> None:
         self.reaction = reaction
         self.samples = samples
@@ -128,6 +134,7 @@ class UncertainAssessment(TableExport):
         self.library = library
         self.adaptive = adaptive
         self.crossing_range = crossing_range
+        self.at_conversion = dict(at_conversion) if at_conversion else None
         self.model = self._model(T)
         thr = threshold(T)
         self.G = summarise(self.model, samples, "G", thr)
@@ -145,12 +152,19 @@ class UncertainAssessment(TableExport):
         return summarise(self.model, self.samples, "S")
 
     # --- evaluation -----------------------------------------------------------------------------
+    def _ln_q(self, T: np.ndarray) -> np.ndarray | None:
+        """ln Q at the user's conditions (partial pressures or a required conversion), or None."""
+        return _ln_q(
+            self.reaction, self.partial_pressures_Pa, self.at_conversion, self.standard_pressure, T
+        )
+
+    @property
+    def conditions(self) -> str:
+        """The user's conditions in words; empty at standard state."""
+        return conditions_label(self.partial_pressures_Pa, self.at_conversion)
+
     def _model(self, T: np.ndarray) -> LinearModel:
-        lnQ = None
-        if self.partial_pressures_Pa:
-            lnQ, _ = reaction_quotient(
-                self.reaction, self.partial_pressures_Pa, self.standard_pressure, T
-            )
+        lnQ = self._ln_q(T)
         return linear_model(self.reaction, T, self.samples, self.standard_pressure, lnQ)
 
     @property
@@ -175,10 +189,8 @@ class UncertainAssessment(TableExport):
         """Summary of log10 K° = −ΔrG°/(RT ln 10) (standard state; no partial pressures)."""
         scale = -1.0 / (R * self.T * _LN10)
         shift = 0.0
-        if self.partial_pressures_Pa:
-            lnQ, _ = reaction_quotient(
-                self.reaction, self.partial_pressures_Pa, self.standard_pressure, self.T
-            )
+        lnQ = self._ln_q(self.T)
+        if lnQ is not None:
             shift = R * self.T * lnQ
         g = self.G
         return {
@@ -526,6 +538,7 @@ def assess_uncertainty(
     max_trials: int = ADAPTIVE_MAX_TRIALS,
     progress: bool | None = None,
     draws: SampleSet | None = None,
+    at_conversion: Mapping[str, Any] | None = None,
 ) -> UncertainAssessment:
     """Monte Carlo feasibility of a reaction: P(ΔrG < threshold), verdict and window over T.
 
@@ -536,7 +549,9 @@ def assess_uncertainty(
     replace library values or uncertainties; ``correlations`` maps pairs of inputs
     ``((id, quantity), (id, quantity))`` to correlation coefficients. ``method="mc-per-species"``
     draws each input from its own stream keyed by the seed and the input, so the same species
-    draws the same values in every call with that seed.
+    draws the same values in every call with that seed. ``at_conversion`` (feed, key, required
+    conversion, total pressure ``P``) puts the call on ΔrG at the composition that conversion
+    gives, as in :func:`feasibly.thermo.assess`.
 
     ``draws`` evaluates the reaction on given draws instead (e.g. a table's shared draws holding
     every input of the reaction); ``samples``, ``seed`` and ``method`` are then those of the
@@ -553,12 +568,13 @@ def assess_uncertainty(
     p_std = read_standard_pressure(standard_pressure)
     thr_fn, thr_text = _threshold_fn(threshold, required_K)
     pressures = read_partial_pressures(partial_pressures)
-    if pressures and required_K is not None:
+    conv_in = read_at_conversion(at_conversion) if at_conversion is not None else None
+    if (pressures or conv_in) and required_K is not None:
         raise UnitError(
             required_K,
             "criterion",
             "a required K refers to the standard state; "
-            "with partial pressures give a ΔrG threshold instead",
+            "with partial pressures or a required conversion give a ΔrG threshold instead",
         )
     inputs = build_inputs(uncertain_species(rxn), overrides)
     corr = correlation_matrix(inputs, correlations)
@@ -597,6 +613,7 @@ def assess_uncertainty(
             library,
             None,
             crossing_range,
+            conv_in,
         )
     show = progress if progress is not None else (adaptive or n0 * temps.size >= _PROGRESS_WORK)
     bar = _Progress(max_trials if adaptive else n0, bool(show))
@@ -606,9 +623,7 @@ def assess_uncertainty(
     if adaptive:
 
         def one(s: SampleSet) -> Summary:
-            lnQ = None
-            if pressures:
-                lnQ, _ = reaction_quotient(rxn, pressures, p_std, temps)
+            lnQ = _ln_q(rxn, pressures, conv_in, p_std, temps)
             return summarise(linear_model(rxn, temps, s, p_std, lnQ), s, "G", thr_fn(temps))
 
         drawn, report = _adaptive(drawn, one, block, max_trials, bar)
@@ -626,4 +641,20 @@ def assess_uncertainty(
         library,
         report,
         crossing_range,
+        conv_in,
     )
+
+
+def _ln_q(
+    rxn: Reaction,
+    pressures: Mapping[str, float],
+    at_conversion: Mapping[str, Any] | None,
+    p_std: float,
+    T: np.ndarray,
+) -> np.ndarray | None:
+    if pressures:
+        return reaction_quotient(rxn, pressures, p_std, T)[0]
+    if at_conversion:
+        c = at_conversion
+        return quotient_at_conversion(rxn, c["feed"], c["key"], c["required"], c["P_Pa"], p_std, T)
+    return None
