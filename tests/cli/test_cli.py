@@ -300,3 +300,36 @@ def test_required_conversion_from_the_command_line(capsys: pytest.CaptureFixture
     assert code == 0 and "Equilibrium conversion of CH4 at 5 bar" in out
     code, _, err = run(capsys, *argv[:-7])  # --feed without the rest
     assert code == 2 and "together" in err
+
+
+def test_assess_leads_with_the_call_at_the_users_conditions(
+    capsys: pytest.CaptureFixture[str],
+) -> None:
+    # CaCO3 at 1123 K under 0.15 bar CO2: ΔrG < 0 although ΔrG° > 0 (see tests/reference/).
+    argv = ["assess", "CaCO3 -> CaO + CO2", "--T", "1123", "K", "--p", "CO2=0.15", "bar"]
+    code, out, err = run(capsys, *argv)
+    assert code == 0, err
+    first = out.splitlines()[:4]
+    assert first[0].startswith("━━ The call ━━")
+    assert "p(CO2) = 0.15 bar" in first[1]
+    assert first[2].split()[1] == "favourable" and "ΔrG = -11.44 kJ/mol" in first[2]
+    assert "No uncertainty analysis was made" in first[3]
+    assert out.index("The call") < out.index("The numbers behind it") < out.index("ΔrH° kJ/mol")
+    lines = out.splitlines()
+    header = next(i for i, x in enumerate(lines) if x.rstrip().endswith("ΔrG < 0?"))
+    assert lines[header + 1].split()[-1] == "yes"
+    code, out, _ = run(capsys, *argv, "--json")
+    doc = json.loads(out)
+    assert doc["rows"][0]["call"] == "favourable" and doc["call_basis"]["quantity"] == "ΔrG"
+
+
+def test_assess_call_with_samples_names_probability_and_leading_input(
+    capsys: pytest.CaptureFixture[str],
+) -> None:
+    argv = ["assess", "MgCO3 -> MgO + CO2", "--T", "800", "K", "--samples", "4096", "--seed", "1"]
+    code, out, err = run(capsys, *argv)
+    assert code == 0, err
+    head = out.split("The numbers behind it")[0]
+    assert "feasible at 800.0 K at 95% confidence" in head
+    assert "P(feasible) = " in head and "from 4,096 trials" in head
+    assert "leading input" in head and "No uncertainty analysis" not in head

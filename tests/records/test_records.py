@@ -505,3 +505,55 @@ def test_required_conversion_travels_and_verifies(tmp_path: Path) -> None:
     result = verify_record(doc)
     assert not result.identical
     assert any("conversion" in d.field for d in result.differences)
+
+
+def test_record_of_a_call_at_required_conversion_verifies_and_says_so() -> None:
+    # Ammonia at 200 bar: the standard values say "not favourable" over 600–800 K, while the
+    # equilibrium conversion is 24–70 %; the record's call must be on the user's conditions.
+    from feasibly import assess
+    from feasibly.equilibrium import conversion_assessment
+
+    conv_in = {"feed": "N2:1, H2:3", "key": "N2", "required": "20%", "P": "200 bar"}
+    a = assess("N2 + 3 H2 -> 2 NH3", T_range=("600 K", "800 K"), points=3, at_conversion=conv_in)
+    conv = conversion_assessment(
+        a.reaction, (a.standard.T, "K"), "N2:1, H2:3", "N2", "20%", "200 bar"
+    )
+    inputs = {
+        "feed": {"N2": 1.0, "H2": 3.0},
+        "key": "N2",
+        "required": 0.2,
+        "P_Pa": 2e7,
+        "samples": None,
+        "seed": None,
+        "confidence": 0.95,
+    }
+    rec = record_from(a, conversion=conv, conversion_inputs=inputs)
+    jsonschema.Draft202012Validator(SCHEMA).validate(rec)
+    assert rec["conditions"]["call_at_required_conversion"] is True
+    summary = rec["results"]["summary"]
+    assert summary["verdict"] == "favourable"
+    assert "20% conversion of N2" in summary["headline"] and "200 bar" in summary["headline"]
+    assert "No uncertainty analysis was made" in summary["headline"]
+    assert verify_record(rec).identical
+    # A call at a required conversion cannot be recorded beside another conversion's inputs.
+    with pytest.raises(RecordError, match="required conversion"):
+        record_from(a, conversion=conv, conversion_inputs={**inputs, "required": 0.3})
+
+
+def test_species_identity_travels_in_the_record() -> None:
+    rec = make_record("{calcium carbonate} -> CaO + {124-38-9}", T="1000 K")
+    used = rec["results"]["assessment"]["species_as_used"]
+    assert used[0] == {
+        "written": "{calcium carbonate}",
+        "formula": "CaCO3",
+        "name": "calcium carbonate",
+        "cas": "471-34-1",
+    }
+    assert used[2]["written"] == "{124-38-9}" and used[2]["name"] == "carbon dioxide"
+    assert verify_record(rec).identical
+
+
+def test_report_names_each_species_as_used() -> None:
+    html = record_html(make_record("{calcium carbonate} -> CaO + CO2", T="1000 K"))
+    assert "CaCO3 = calcium carbonate (CAS 471-34-1), written {calcium carbonate}" in html
+    assert "CO2 = carbon dioxide (CAS 124-38-9)" in html

@@ -128,3 +128,83 @@ def test_cautions() -> None:
     assert any("process-safety review" in n for n in burn.notes)
     crack = assess(CRACK, T="1000 K")
     assert "gas evolution" in {c.kind for c in crack.cautions}
+
+
+# --- the call at the user's conditions --------------------------------------------------------
+def test_call_at_required_conversion_agrees_with_the_equilibrium_solver() -> None:
+    # Two routes that share no code: the sign of ΔrG at the composition of the required
+    # conversion (this module) and the equilibrium extent solved by feasibly.equilibrium.
+    from feasibly.equilibrium import equilibrium_extent
+
+    temps = np.linspace(500.0, 900.0, 17)
+    a = assess(
+        "N2 + 3 H2 -> 2 NH3",
+        T=(temps, "K"),
+        at_conversion={"feed": "N2:1, H2:3", "key": "N2", "required": "20%", "P": "200 bar"},
+    )
+    x = equilibrium_extent("N2 + 3 H2 -> 2 NH3", (temps, "K"), "200 bar", "N2:1, H2:3", key="N2")
+    assert x.conversion is not None
+    assert a.favourable.tolist() == (x.conversion > 0.2).tolist()
+    assert a.favourable.any() and not a.favourable.all()
+    # The standard values alone say "not favourable" everywhere above ~460 K.
+    assert not (a.standard.dG[temps > 500] < 0).any()
+    assert a.call_symbol == "ΔrG" and "200 bar" in a.conditions
+
+
+def test_crossover_at_required_conversion_is_where_the_conversion_equals_it() -> None:
+    from feasibly.equilibrium import equilibrium_extent
+
+    a = assess(
+        "N2 + 3 H2 -> 2 NH3",
+        T_range=("500 K", "900 K"),
+        points=5,
+        at_conversion={"feed": "N2:1, H2:3, Ar:0.2", "key": "N2", "required": 0.2, "P": "200 bar"},
+    )
+    assert a.crossover_at_conditions_K is not None
+    (t,) = a.crossover_at_conditions_K
+    x = equilibrium_extent(
+        "N2 + 3 H2 -> 2 NH3", (t, "K"), "200 bar", "N2:1, H2:3, Ar:0.2", key="N2"
+    )
+    assert x.conversion is not None
+    # Brent's method stops at 1e-6 K; the conversion changes by ~2e-3 per K here.
+    assert float(x.conversion[0]) == pytest.approx(0.2, abs=1e-6)
+    assert a.window() == [(500.0, t)]
+
+
+def test_unreachable_conversion_is_never_favourable() -> None:
+    # 100 % of N2 from a feed short of H2 would need more H2 than there is.
+    a = assess(
+        "N2 + 3 H2 -> 2 NH3",
+        T="500 K",
+        at_conversion={"feed": "N2:1, H2:2", "key": "N2", "required": "100%", "P": "200 bar"},
+    )
+    assert np.isinf(a.dG_call[0]) and not a.favourable[0]
+    assert a.to_dict()["rows"][0]["dG_actual_J_per_mol"] is None
+
+
+def test_partial_pressures_and_required_conversion_are_exclusive() -> None:
+    with pytest.raises(UnitError, match="not both"):
+        assess(
+            "CaCO3 -> CaO + CO2",
+            T="1000 K",
+            partial_pressures={"CO2": "0.1 bar"},
+            at_conversion={"feed": "CaCO3:1", "key": "CaCO3", "required": 0.5, "P": "1 bar"},
+        )
+
+
+def test_window_at_partial_pressure_starts_at_its_crossover() -> None:
+    a = assess(
+        "CaCO3 -> CaO + CO2",
+        T_range=("900 K", "1200 K"),
+        points=7,
+        partial_pressures={"CO2": "0.15 bar"},
+    )
+    assert a.crossover_at_conditions_K is not None and a.crossover_K is not None
+    assert a.window() == [(a.crossover_at_conditions_K[0], 1200.0)]
+    # Lower CO2 pressure: decomposition sets in below the standard-state crossover.
+    assert a.crossover_at_conditions_K[0] < a.crossover_K[0]
+    doc = a.to_dict()
+    assert doc["window_K"] == [[a.crossover_at_conditions_K[0], 1200.0]]
+    assert [r["call"] for r in doc["rows"]] == [
+        "favourable" if g < 0 else "not favourable" for g in a.dG_call
+    ]

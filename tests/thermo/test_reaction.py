@@ -229,3 +229,75 @@ def test_arbitrary_unicode_raises_only_documented_errors(text: str) -> None:
         Reaction.parse(text, balance=True)
     except FeasiblyError:
         pass
+
+
+# --- identity: a formula, name or CAS number is exactly one compound, or refused -----------------
+@pytest.mark.parametrize(
+    ("equation", "written", "other"),
+    [
+        # Ethyl acetate is not in the library; 1,4-dioxane (c-C4H8O2) shares C4H8O2.
+        ("CH3COOH + C2H5OH -> CH3COOC2H5 + H2O", "CH3COOC2H5", "c-C4H8O2 (1,4-dioxane"),
+        # Methyl formate is not in the library; acetic acid shares C2H4O2.
+        ("HCOOCH3 -> CO + CH3OH", "HCOOCH3", "CH3COOH (acetic acid, CAS 64-19-7"),
+    ],
+)
+def test_a_structural_formula_never_becomes_another_isomer(
+    equation: str, written: str, other: str
+) -> None:
+    with pytest.raises(UnknownSpecies) as info:
+        Reaction.parse(equation)
+    msg = str(info.value)
+    assert info.value.query == written
+    assert other in msg  # the candidate is named, with name and CAS, as a different compound
+    assert "may be another isomer" in msg and "missing from the data" in msg
+
+
+def test_a_molecular_formula_of_several_isomers_lists_them_all(lib: Library) -> None:
+    with pytest.raises(UnknownSpecies) as info:
+        Reaction.parse("C2H6O -> C2H4 + H2O", library=lib)
+    assert info.value.suggestions == ["C2H5OH", "CH3OCH3"]
+    assert "C2H5OH (ethanol, CAS 64-17-5; phases g, l)" in str(info.value)
+    assert "CH3OCH3 (dimethyl ether, CAS 115-10-6; phases g)" in str(info.value)
+
+
+@pytest.mark.parametrize(
+    "equation",
+    [
+        "{ethanol} -> C2H4 + H2O",
+        "{Ethanol}(g) -> C2H4 + H2O",
+        "{64-17-5} -> {ethylene} + {water}",
+        "{ethyl alcohol} -> {74-85-1}+{7732-18-5}",
+    ],
+)
+def test_names_and_cas_numbers_in_braces(equation: str) -> None:
+    rxn = Reaction.parse(equation)
+    ids = {t.formula: t.identity() for t in rxn.terms}
+    # Ethanol's CAS number, 64-17-5, is the one the data library carries for C2H5OH.
+    assert ids["C2H5OH"]["name"] == "ethanol" and ids["C2H5OH"]["cas"] == "64-17-5"
+
+
+def test_named_species_keep_their_phase_label_and_coefficient() -> None:
+    rxn = Reaction.parse("2 {methanol}(l) + 3 O2 -> 2 CO2 + 4 {water}(g)")
+    assert str(rxn) == "2 CH3OH(l) + 3 O2 -> 2 CO2 + 4 H2O(g)"
+    assert rxn.terms[0].text == "{methanol}"
+
+
+@pytest.mark.parametrize(
+    ("equation", "error", "fragment"),
+    [
+        ("{methyl formate} -> CO + CH3OH", UnknownSpecies, "No compound of the data library"),
+        ("{64-17-4} -> C2H4 + H2O", UnknownSpecies, "check digit"),
+        ("{} -> C2H4 + H2O", UnknownSpecies, "braces are empty"),
+        ("{ethanol -> C2H4 + H2O", ReactionSyntaxError, "no partner"),
+        ("2{ethanol}x -> C2H4 + H2O", ReactionSyntaxError, "stands alone"),
+    ],
+)
+def test_bad_named_species(equation: str, error: type, fragment: str) -> None:
+    with pytest.raises(error, match=fragment):
+        Reaction.parse(equation)
+
+
+def test_exact_formulas_still_resolve_and_carry_name_and_cas() -> None:
+    rxn = Reaction.parse("CaCO3 -> CaO + CO2")
+    # CAS numbers as the data library records them (from the chemicals identifier database).
+    assert [t.identity()["cas"] for t in rxn.terms] == ["471-34-1", "1305-78-8", "124-38-9"]

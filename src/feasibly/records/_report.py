@@ -432,6 +432,19 @@ def render_html(doc: Mapping[str, Any]) -> str:
         f"{c['T_K']:.1f} K.</p>"
         for c in a.get("phase_changes", [])
     )
+    used = a.get("species_as_used", [])
+    identities = ""
+    if used:
+        identities = (
+            "<p class='muted' id='species-as-used'>Species as used: "
+            + "; ".join(
+                f"{_e(u['formula'])} = {_e(u['name'] or 'unnamed')} "
+                f"(CAS {_e(u['cas'] or 'not recorded')})"
+                + (f", written {_e(u['written'])}" if u["written"] != u["formula"] else "")
+                for u in used
+            )
+            + "</p>"
+        )
     env = doc["environment"]
     data = doc["data"]
     integrity = doc["integrity"]
@@ -448,7 +461,7 @@ def render_html(doc: Mapping[str, Any]) -> str:
         f"<title>Decision record: {_e(rxn['balanced'])}</title>",
         f"<style>{_CSS}</style></head><body>",
         "<header><h1>Feasibility decision record</h1>",
-        f"<p class='equation' id='equation'>{_e(rxn['pretty'])}</p>{entered}",
+        f"<p class='equation' id='equation'>{_e(rxn['pretty'])}</p>{entered}{identities}",
         f"<p class='muted'>Made {_e(doc['created'])}"
         + "".join(f" · {k}: {_e(v) or '—'}" for k, v in people)
         + "</p></header>",
