@@ -124,6 +124,18 @@ def _reaction_inputs(
                 key, "key reactant", "the feed holds none of it; conversion is undefined"
             )
     plan = rxn.phase_plan(T)
+    for t, idx in zip(rxn.terms, plan, strict=True):
+        used = t.scale_array()[idx]
+        if np.any(used != 1.0):
+            k = int(np.argmax(used != 1.0))
+            raise UnitError(
+                t.label(),
+                "species of the equilibrium",
+                f"at {T[k]:.0f} K the stable form of {t.label()} is "
+                f"{t.candidates[idx[k]].id}, another molecule; for the equilibrium conversion "
+                "write the equation with that molecule (with its phase), or a range where the "
+                "element keeps its own formula",
+            )
     gas = np.stack(
         [
             np.array([sp.phase == "g" for sp in t.candidates])[idx]

@@ -96,9 +96,10 @@ def standard_properties(
             if not np.any(mask):
                 continue
             Tm = T[mask]
-            dH[mask] += term.nu * sp.enthalpy(Tm)
-            dS[mask] += term.nu * sp.entropy(Tm)
-            dCp[mask] += term.nu * sp.cp(Tm)
+            nu = term.nu * term.scale(k)
+            dH[mask] += nu * sp.enthalpy(Tm)
+            dS[mask] += nu * sp.entropy(Tm)
+            dCp[mask] += nu * sp.cp(Tm)
             for i in np.nonzero(mask)[0]:
                 phases[i].append(sp.id)
     dn = rxn.gas_change(T)
@@ -167,6 +168,13 @@ def reaction_quotient(
     for term, idx in zip(rxn.terms, plan, strict=True):
         is_gas = np.array([sp.phase == "g" for sp in term.candidates])[idx]
         p = pressures.get(term.label(), pressures.get(term.formula))
+        if p is not None and np.any(term.scale_array()[idx] != 1.0):
+            raise UnitError(
+                term.label(),
+                "gas",
+                "a partial pressure was given for an element whose stable form here is another "
+                "molecule (e.g. S2(g) for S); write that molecule with its phase in the equation",
+            )
         if p is None:
             if np.any(is_gas):
                 assumed.append(term.label())
@@ -245,13 +253,19 @@ def quotient_at_conversion(
         ],
         axis=1,
     )
-    n_gas = gas @ n + inert
+    # Molecules of the form used per amount of the term (S2(g) standing for S: 1/2).
+    scale = np.stack([t.scale_array()[idx] for t, idx in zip(rxn.terms, plan, strict=True)], axis=1)
+    n = n * scale
+    nu = nu * scale
+    n_gas = np.sum(gas * n, axis=1) + inert
     out = np.zeros(T.shape)
     with np.errstate(divide="ignore", invalid="ignore"):
-        for j in range(nu.size):
-            y = np.where(gas[:, j], n[j] / np.where(n_gas > 0, n_gas, 1.0), 1.0)
-            term = nu[j] * np.log(np.where(gas[:, j], y * total_pressure / standard_pressure, 1.0))
+        for j in range(len(rxn.terms)):
+            y = np.where(gas[:, j], n[:, j] / np.where(n_gas > 0, n_gas, 1.0), 1.0)
+            term = nu[:, j] * np.log(
+                np.where(gas[:, j], y * total_pressure / standard_pressure, 1.0)
+            )
             # A condensed reactant used up ends the reaction: no further extent is possible.
-            term = np.where(~gas[:, j] & (n[j] <= 0) & (nu[j] < 0), np.inf, term)
+            term = np.where(~gas[:, j] & (n[:, j] <= 0) & (nu[:, j] < 0), np.inf, term)
             out = out + np.where(np.isnan(term), np.inf, term)
     return out

@@ -95,6 +95,17 @@ class ReactionTerm:
     phase: str | None
     form: str | None
     candidates: tuple[Species, ...]
+    #: Formula units of each candidate per formula unit of the term: 1 for the term's own
+    #: entries, 1/2 for S2(g) standing for S, 1/8 for S8(g). Empty means all 1.
+    scales: tuple[float, ...] = ()
+
+    def scale(self, k: int) -> float:
+        """Amount of candidate ``k`` per amount of this term (1 unless an allotrope)."""
+        return self.scales[k] if self.scales else 1.0
+
+    def scale_array(self) -> np.ndarray:
+        """:meth:`scale` of every candidate, as an array."""
+        return np.array([self.scale(k) for k in range(len(self.candidates))])
 
     @property
     def nu(self) -> float:
@@ -355,6 +366,25 @@ def resolve_species(
     return hits[0].formula, tuple(chosen)
 
 
+def _allotropes(library: Library, own: Sequence[Species]) -> list[tuple[Species, float]]:
+    """Other molecular forms of an element written without a phase: S2(g) and S8(g) for S.
+
+    Only for a one-element neutral formula that has a condensed entry (so it names the element
+    as a substance, like S, P or C, not a radical like O or H). Each comes with the amount of
+    it per amount of the term (1/2 for S2 standing for S), so its G° is compared per atom.
+    """
+    first = own[0]
+    if len(first.elements) != 1 or first.charge or all(sp.phase == "g" for sp in own):
+        return []
+    ((element, count),) = first.elements.items()
+    out = []
+    for sp in library:
+        if sp.formula == first.formula or sp.charge or set(sp.elements) != {element}:
+            continue
+        out.append((sp, count / sp.elements[element]))
+    return sorted(out, key=lambda x: x[0].id)
+
+
 def _as_fraction(x: float) -> Fraction:
     return Fraction(x).limit_denominator(10**6)
 
@@ -415,7 +445,15 @@ class Reaction:
         terms = []
         for coef, formula, phase, form, sign in raw:
             lib_formula, candidates = resolve_species(library, formula, phase, form, text)
-            terms.append(ReactionTerm(coef * sign, formula, lib_formula, phase, form, candidates))
+            scales: tuple[float, ...] = ()
+            if phase is None and form is None:
+                extra = _allotropes(library, candidates)
+                if extra:
+                    scales = (1.0,) * len(candidates) + tuple(x for _, x in extra)
+                    candidates = candidates + tuple(sp for sp, _ in extra)
+            terms.append(
+                ReactionTerm(coef * sign, formula, lib_formula, phase, form, candidates, scales)
+            )
         merged: dict[tuple[str, str | None, str | None], ReactionTerm] = {}
         for t in terms:
             key = (t.formula, t.phase, t.form)
@@ -512,7 +550,7 @@ class Reaction:
         g = reduce(math.gcd, ints)
         coefs = [Fraction(i // g) for i in ints]
         terms = [
-            ReactionTerm(c * s, t.text, t.formula, t.phase, t.form, t.candidates)
+            ReactionTerm(c * s, t.text, t.formula, t.phase, t.form, t.candidates, t.scales)
             for c, s, t in zip(coefs, sides, self.terms, strict=True)
         ]
         return Reaction(terms, self.text, self.library)
@@ -566,7 +604,7 @@ class Reaction:
             for k, sp in enumerate(t.candidates):
                 mask = sp.covers(T)
                 if np.any(mask):
-                    g[k, mask] = sp.gibbs(T[mask])
+                    g[k, mask] = t.scale(k) * sp.gibbs(T[mask])
             best = np.argmin(g, axis=0)
             uncovered = ~np.isfinite(np.min(g, axis=0))
             if np.any(uncovered):
@@ -615,21 +653,21 @@ class Reaction:
         for term, idx in zip(self.terms, plan, strict=True):
             if term.phase is None and term.form is None:
                 continue
-            others = [
-                sp for sp in self.library.by_formula(term.formula) if sp not in term.candidates
-            ]
+            own = self.library.by_formula(term.formula)
+            others = [(sp, 1.0) for sp in own if sp not in term.candidates]
+            others += _allotropes(self.library, own)
             if not others:
                 continue
             used_g = np.array(
                 [term.candidates[k].gibbs(np.array([x]))[0] for k, x in zip(idx, T, strict=True)]
             )
-            for sp in others:
+            for sp, scale in others:
                 mask = sp.covers(T)
                 if not np.any(mask):
                     continue
                 lower = np.zeros(T.shape, dtype=bool)
                 # 1 J/mol: below any data uncertainty; avoids flagging coexistence at a transition.
-                lower[mask] = sp.gibbs(T[mask]) < used_g[mask] - 1.0
+                lower[mask] = scale * sp.gibbs(T[mask]) < used_g[mask] - 1.0
                 if np.any(lower):
                     k = int(np.argmax(lower))
                     out.append((term.candidates[idx[k]].id, float(T[k]), sp.id))
@@ -641,7 +679,7 @@ class Reaction:
         total = np.zeros(T.shape)
         for term, idx in zip(self.terms, self.phase_plan(T), strict=True):
             is_gas = np.array([sp.phase == "g" for sp in term.candidates])
-            total += term.nu * is_gas[idx]
+            total += term.nu * (is_gas * term.scale_array())[idx]
         return total
 
     def species_used(self) -> list[Species]:

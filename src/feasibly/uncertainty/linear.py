@@ -178,7 +178,7 @@ def linear_model(
         for k, sp in enumerate(term.candidates):
             mask = idx == k
             if np.any(mask):
-                deviation_rows(sp, T[mask], rxn, keys, aH, aS, term.nu, mask)
+                deviation_rows(sp, T[mask], rxn, keys, aH, aS, term.nu * term.scale(k), mask)
     aG = aH - T[:, None] * aS
     G0 = std.dG + (R * T * lnQ if lnQ is not None else 0.0)
     return LinearModel(T, std.dH, std.dS, G0, aH, aS, aG)
