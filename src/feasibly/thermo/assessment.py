@@ -26,6 +26,7 @@ from ..errors import FeasiblyError, UnitError
 from ..library.catalogue import Library, default_library
 from ..library.cp_models import T_REF, R
 from ..units import to_pascal
+from .missing_phases import missing_stable_phases
 from .properties import (
     _LN10,
     StandardProperties,
@@ -334,6 +335,7 @@ def assess(
     lo_T, hi_T = float(temps.min()), float(temps.max())
     changes = rxn.phase_changes(lo_T, hi_T) if hi_T > lo_T else []
     meta = rxn.metastable(temps)
+    notes.extend(missing_stable_phases(rxn, temps))
     cautions = cautions_for(rxn, temps, std.dH, library, pressures)
     if cautions:
         notes.append(DEFERRAL)
