@@ -557,3 +557,64 @@ def test_report_names_each_species_as_used() -> None:
     html = record_html(make_record("{calcium carbonate} -> CaO + CO2", T="1000 K"))
     assert "CaCO3 = calcium carbonate (CAS 471-34-1), written {calcium carbonate}" in html
     assert "CO2 = carbon dioxide (CAS 124-38-9)" in html
+
+
+def test_cli_record_conversion_uses_the_calls_draws_and_overrides(tmp_path: Path) -> None:
+    path = tmp_path / "reforming.json"
+    argv = [
+        "assess",
+        "CH4 + H2O -> CO + 3 H2",
+        "--T-range",
+        "880",
+        "960",
+        "K",
+        "--points",
+        "3",
+        "--feed",
+        "CH4:1, H2O:3",
+        "--require-conversion",
+        "60%",
+        "--key",
+        "CH4",
+        "--P",
+        "5",
+        "bar",
+        "--samples",
+        "2048",
+        "--seed",
+        "9",
+        "--override",
+        "CH4(g):dHf = -72.0 ± 0.5 kJ/mol; invented for this test",
+        "--record",
+        str(path),
+    ]
+    assert main(argv) == 0
+    rec = json.loads(path.read_text())
+    conv_in = rec["conversion"]
+    assert conv_in["shared_draws"] is True
+    assert (
+        (conv_in["samples"], conv_in["seed"])
+        == (2048, 9)
+        == (
+            rec["uncertainty"]["samples"],
+            rec["uncertainty"]["seed"],
+        )
+    )
+    assert rec["uncertainty"]["overrides"][0]["target"] == "CH4(g)"
+    assert rec["results"]["conversion"]["trials"] == 2048
+    assert verify_record(path).identical
+
+
+def test_a_record_refuses_conversion_bands_from_other_draws() -> None:
+    from feasibly import assess, assess_uncertainty
+    from feasibly.equilibrium import conversion_assessment
+
+    a = assess("CH4 + H2O -> CO + 3 H2", T_range=("880 K", "960 K"), points=3)
+    u = assess_uncertainty(a.reaction, T_range=("880 K", "960 K"), points=3, samples=1024, seed=1)
+    own = conversion_assessment(
+        a.reaction, (a.standard.T, "K"), "CH4:1, H2O:3", "CH4", "60%", "5 bar", samples=1024, seed=2
+    )
+    inputs = {"feed": {"CH4": 1.0, "H2O": 3.0}, "key": "CH4", "required": 0.6, "P_Pa": 5e5}
+    inputs |= {"samples": 1024, "seed": 2, "confidence": 0.95}
+    with pytest.raises(RecordError, match="one set of draws"):
+        record_from(a, u, conversion=own, conversion_inputs=inputs)

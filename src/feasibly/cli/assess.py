@@ -166,10 +166,10 @@ def _cmd_assess(args: argparse.Namespace) -> int:
             args.key,
             args.require_conversion,
             _quantity_text(args.P, "pressure") if args.P else "1 bar",
-            samples=args.samples,
-            seed=args.seed,
             confidence=args.confidence,
             library=lib,
+            # The call's own draws, overrides and correlations: one set behind every number.
+            sample_set=uncertain.samples if uncertain is not None else None,
         )
     if args.record:
         conv_kwargs: dict[str, Any] = {}
@@ -181,9 +181,10 @@ def _cmd_assess(args: argparse.Namespace) -> int:
                     "key": args.key,
                     "required": conversion["required_conversion"],
                     "P_Pa": conversion["P_Pa"],
-                    "samples": args.samples,
-                    "seed": args.seed,
+                    "samples": uncertain.trials if uncertain is not None else None,
+                    "seed": uncertain.samples.seed if uncertain is not None else None,
                     "confidence": args.confidence,
+                    "shared_draws": uncertain is not None,
                 },
             }
         record = record_from(

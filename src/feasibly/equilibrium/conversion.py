@@ -32,14 +32,20 @@ from ..conditions import (
     read_states,
     read_trials,
 )
-from ..errors import EquilibriumNotConverged, InvalidInput, UnitError, UnknownSpecies
+from ..errors import (
+    EquilibriumNotConverged,
+    InvalidInput,
+    InvalidUncertainty,
+    UnitError,
+    UnknownSpecies,
+)
 from ..library.catalogue import Library, default_library
 from ..library.cp_models import R
 from ..thermo import standard_properties
 from ..thermo.reaction import Reaction, resolve_species
 from ..uncertainty.inputs import Correlations, Method, Override, build_inputs, correlation_matrix
 from ..uncertainty.linear import block_rows, level_window, linear_model, uncertain_species
-from ..uncertainty.sampling import draw_samples
+from ..uncertainty.sampling import SampleSet, draw_samples
 from ._common import (
     _P_STD,
     BAND_PROBS,
@@ -274,6 +280,7 @@ def conversion_bands(
     correlations: Correlations | None = None,
     balance: bool = False,
     method: Method = "mc",
+    sample_set: SampleSet | None = None,
 ) -> ConversionBands:
     """Conversion of ``key`` over ``samples`` draws of the data: 2.5/50/97.5 % and P(≥ required).
 
@@ -281,6 +288,10 @@ def conversion_bands(
     draws per species-phase), and the equilibrium extent is solved for every draw at once.
     ``method`` is a sampling method of :func:`~feasibly.uncertainty.draw_samples` ("mc" or
     "mc-per-species"; Sobol points are not used for these bands).
+    ``sample_set`` is the draws of the call this conversion belongs to (its overrides and
+    correlations included); with it, no new draws are made and ``samples``, ``seed``,
+    ``method``, ``overrides`` and ``correlations`` must be left out. The nominal conversion is
+    at the library values moved by any override of a value (the centre of the draws).
     """
     library = library or default_library()
     rxn = reaction if isinstance(reaction, Reaction) else Reaction.parse(reaction, library, balance)
@@ -290,21 +301,37 @@ def conversion_bands(
     req = None if required is None else read_conversion(required)
     nu, gas, n0, inert, k = _reaction_inputs(rxn, nominal.feed, key, T_K)
     assert k is not None
-    inputs = build_inputs(uncertain_species(rxn), overrides)
-    # The sampled states are held per temperature block; the work grows with trials × T.
-    read_trials(samples, "samples", "conversion_bands", len(inputs), T_K.size)
-    if method not in ("mc", "mc-per-species"):
-        raise InvalidInput(
-            "method", "conversion_bands", "'mc' or 'mc-per-species' (plain Monte Carlo)", method
+    if sample_set is not None:
+        if seed is not None or overrides or correlations:
+            raise InvalidUncertainty(
+                "conversion_bands: with the call's sample_set, leave out seed, overrides and "
+                "correlations (they are those of the sample set)"
+            )
+        drawn = sample_set
+        seed = drawn.seed
+    else:
+        inputs = build_inputs(uncertain_species(rxn), overrides)
+        # The sampled states are held per temperature block; the work grows with trials × T.
+        read_trials(samples, "samples", "conversion_bands", len(inputs), T_K.size)
+        if method not in ("mc", "mc-per-species"):
+            raise InvalidInput(
+                "method", "conversion_bands", "'mc' or 'mc-per-species' (plain Monte Carlo)", method
+            )
+        drawn = draw_samples(
+            inputs,
+            samples,
+            method=method,
+            seed=seed,
+            correlation=correlation_matrix(inputs, correlations),
         )
-    drawn = draw_samples(
-        inputs,
-        samples,
-        method=method,
-        seed=seed,
-        correlation=correlation_matrix(inputs, correlations),
-    )
     model = linear_model(rxn, T_K, drawn)
+    shift = np.array([inp.shift for inp in drawn.inputs])
+    conv_nominal = nominal.conversion
+    if np.any(shift != 0):
+        # An override of a value moves the centre of the draws: the nominal moves with it.
+        ln_k0 = -(model.G0 + model.aG @ shift) / (R * T_K)
+        xi0, _ = _extent_states(nu, gas, n0, inert, ln_k0, np.log(P_Pa / _P_STD), T_K, P_Pa)
+        conv_nominal = -nu[k] * xi0 / n0[k]
     q = np.empty((3, T_K.size))
     p = np.empty(T_K.size)
     ln_p = np.log(P_Pa / _P_STD)
@@ -322,7 +349,7 @@ def conversion_bands(
     return ConversionBands(
         T_K,
         P_Pa,
-        nominal.conversion,
+        conv_nominal,
         q[0],
         q[1],
         q[2],
@@ -360,15 +387,24 @@ def conversion_assessment(
     confidence: float = 0.95,
     library: Library | None = None,
     method: Method = "mc",
+    sample_set: SampleSet | None = None,
 ) -> dict[str, Any]:
     """Required conversion as a feasibility criterion: JSON-ready rows per T and the window.
 
-    Without ``samples`` the rows give the nominal conversion and whether it meets the requirement
-    (the probability fields are None) and the window is where the nominal value meets it.
+    Without ``samples`` or ``sample_set`` the rows give the nominal conversion and whether it
+    meets the requirement (the probability fields are None) and the window is where the nominal
+    value meets it. ``sample_set`` (the call's own draws, e.g. ``UncertainAssessment.samples``)
+    makes the bands and P(meets) from exactly the draws, overrides and correlations of the call;
+    ``samples`` alone draws a new set (a conversion call of its own).
     """
     req = read_conversion(required)
     confidence = read_confidence(confidence, "conversion_assessment")
-    if samples is None:
+    if sample_set is not None and samples is not None and samples != sample_set.n:
+        raise InvalidUncertainty(
+            f"conversion_assessment: samples={samples} differs from the {sample_set.n} trials of "
+            "the call's sample set; leave samples out"
+        )
+    if samples is None and sample_set is None:
         x = equilibrium_extent(reaction, temps, P, feed, key=key, library=library)
         assert x.conversion is not None
         conv = x.conversion
@@ -390,18 +426,25 @@ def conversion_assessment(
         window = conversion_window(x.T, conv, min(req, 1.0 - 1e-12))
         T_K, P_Pa, trials = x.T, x.P, 0
     else:
-        bands = conversion_bands(
-            reaction,
-            temps,
-            P,
-            feed,
-            key,
-            req,
-            samples=samples,
-            seed=seed,
-            library=library,
-            method=method,
-        )
+        if sample_set is not None:
+            bands = conversion_bands(
+                reaction, temps, P, feed, key, req, library=library, sample_set=sample_set
+            )
+        else:
+            assert samples is not None
+            bands = conversion_bands(
+                reaction,
+                temps,
+                P,
+                feed,
+                key,
+                req,
+                samples=samples,
+                seed=seed,
+                library=library,
+                method=method,
+            )
+        seed = bands.seed
         assert bands.p_meets is not None and bands.p_meets_se is not None
         rows = [
             {
@@ -425,6 +468,7 @@ def conversion_assessment(
         "confidence": confidence,
         "trials": trials,
         "seed": seed,
+        "shared_draws": sample_set is not None,
         "model": "ideal-gas mixture + pure condensed phases at unit activity; standard state 1 bar",
         "rows": rows,
         "window": window,

@@ -330,6 +330,28 @@ def record_from(
                 "field conversion: the call was made at a required conversion; give that "
                 "conversion result and the same inputs"
             )
+    if conversion is not None and conversion_inputs is not None:
+        shared = bool(conversion.get("shared_draws"))
+        if shared != bool(conversion_inputs.get("shared_draws", False)):
+            problems.append(
+                "field conversion.shared_draws: say whether the conversion used the call's draws"
+            )
+        if shared and (
+            u is None
+            or conversion.get("trials") != u.trials
+            or conversion.get("seed") != u.samples.seed
+            or conversion_inputs.get("samples") != u.trials
+            or conversion_inputs.get("seed") != u.samples.seed
+        ):
+            problems.append(
+                "field conversion: it says it used the call's draws, but its trials or seed are "
+                "not those of the call"
+            )
+        if not shared and u is not None and conversion.get("trials"):
+            problems.append(
+                "field conversion: its Monte Carlo bands come from draws of their own; a record "
+                "holds one set of draws (pass sample_set=the call's samples)"
+            )
     if (conversion is None) != (conversion_inputs is None):
         problems.append("field conversion: give the conversion result and its inputs together")
     if conversion is not None and conversion.get("T_K") != [float(t) for t in a.standard.T]:

@@ -113,9 +113,16 @@ def _rerun(doc: Mapping[str, Any]) -> dict[str, Any]:
         library=lib,
         balance=rxn["balance"],
     )
-    conv: dict[str, Any] = {}
-    if conv_in is not None:
-        conv = {
+
+    def conversion_of(u: Any) -> dict[str, Any]:
+        if conv_in is None:
+            return {}
+        shared = bool(conv_in.get("shared_draws"))
+        if shared and u is None:
+            raise RecordError(
+                "record", ["field conversion.shared_draws: true, but the record has no draws"]
+            )
+        return {
             "conversion_inputs": conv_in,
             "conversion": conversion_assessment(
                 a.reaction,
@@ -124,15 +131,17 @@ def _rerun(doc: Mapping[str, Any]) -> dict[str, Any]:
                 conv_in["key"],
                 conv_in["required"],
                 (conv_in["P_Pa"], "Pa"),
-                samples=conv_in["samples"],
-                seed=conv_in["seed"],
+                samples=None if shared else conv_in["samples"],
+                seed=None if shared else conv_in["seed"],
                 confidence=conv_in["confidence"],
                 library=lib,
+                sample_set=u.samples if shared else None,
             ),
         }
+
     unc = doc["uncertainty"]
     if unc is None:
-        return record_from(a, None, balance=rxn["balance"], **conv)
+        return record_from(a, None, balance=rxn["balance"], **conversion_of(None))
     crit = unc["criterion"]
     overrides = [
         Override(
@@ -180,7 +189,7 @@ def _rerun(doc: Mapping[str, Any]) -> dict[str, Any]:
         required_K=crit.get("required_K"),
         max_trials=max_trials if adaptive else None,
         sensitivity_at=(unc["sensitivity_T_K"], "K"),
-        **conv,
+        **conversion_of(u),
     )
 
 
