@@ -151,16 +151,41 @@ class AmbiguousBalance(FeasiblyError, ValueError):
 class OutsideDataRange(FeasiblyError, ValueError):
     """A temperature lies outside the range in which a species' data is valid."""
 
-    def __init__(self, species: str, T_K: float, T_min: float, T_max: float) -> None:
+    def __init__(
+        self,
+        species: str,
+        T_K: float,
+        T_min: float,
+        T_max: float,
+        phase_given: bool | None = None,
+    ) -> None:
         self.species = species
         self.T_K = T_K
         self.T_min = T_min
         self.T_max = T_max
+        # True: the equation fixed the phase; False: it did not (every phase was tried);
+        # None: not known where the error was raised.
+        self.phase_given = phase_given
+        if phase_given is False:
+            advice = (
+                "Choose a temperature inside that range (or narrow the temperature window to "
+                "it), or supply data for that range in a species file: no phase of it in the "
+                "data covers this temperature."
+            )
+        elif phase_given:
+            advice = (
+                "Choose a temperature inside that range, give the species without a phase so "
+                "that the stable phase is used, or supply heat-capacity data for that range in "
+                "a species file."
+            )
+        else:
+            advice = (
+                "Choose a temperature inside that range, or supply heat-capacity data for that "
+                "range in a species file."
+            )
         msg = (
             f"{species} has data from {_fmt(T_min)} K to {_fmt(T_max)} K; "
-            f"{_fmt(T_K)} K is outside. "
-            "Choose a temperature inside that range, give the species without a phase so that the "
-            "stable phase is used, or supply heat-capacity data for that range in a species file."
+            f"{_fmt(T_K)} K is outside. " + advice
         )
         super().__init__(msg)
 

@@ -123,7 +123,7 @@ def curves(result: UncertainAssessment) -> Curves:
         p_feasible=np.asarray(result.p_feasible, dtype=float),
         confidence=float(result.confidence),
         threshold_kJ=float(thr[0]) / 1000,
-        standard_state=not result.partial_pressures_Pa,
+        standard_state=not (result.partial_pressures_Pa or result.at_conversion),
         crossing_edges_K=edges,
         crossing_percent=percent,
         crossing_none_percent=float(none),

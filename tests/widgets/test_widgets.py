@@ -8,6 +8,9 @@ pytest.importorskip("ipywidgets", reason="widgets need the widgets extra (ipywid
 pytest.importorskip("plotly", reason="widgets need the widgets extra (plotly)")
 pytest.importorskip("anywidget", reason="plotly's FigureWidget needs anywidget")
 
+import json
+
+import ipywidgets
 import traitlets
 
 from feasibly import figures
@@ -215,14 +218,17 @@ def test_bad_equation_is_shown_inline_and_the_last_result_kept(sheet, counters):
     sheet.reaction.equation = "MgCO3 -> MgO"
     assert "not balanced" in sheet.reaction._feedback.value
     assert sheet.result is shown and counters["sample"] == 0
-    assert "last good result" in sheet._status.value
+    assert "STALE" in sheet._status.value and sheet.stale
+    assert sheet.panel.layout.opacity == "0.45"
 
 
-def test_kernel_error_is_shown_inline_and_the_last_result_kept(sheet):
+def test_kernel_error_is_shown_inline_and_the_last_result_marked_stale(sheet):
     shown = sheet.result
-    sheet.T_window = (500.0, 1500.0)  # MgCO3 data end at 1000 K: the kernel refuses
-    assert "MgCO3" in sheet.error and "1000 K" in sheet.error
-    assert "1000 K" in sheet._feedback.value and sheet.result is shown
+    sheet.T_window = (1100.0, 1500.0)  # MgCO3 data end at 1000 K: nothing of it is covered
+    assert "1000 K" in sheet.error and "1000 K" in sheet._feedback.value
+    assert sheet.result is shown and sheet.stale and "STALE" in sheet._status.value
+    # No phase was given, so the advice is not to give the species without one.
+    assert "without a phase" not in sheet.error and "narrow the temperature window" in sheet.error
 
 
 def test_pressures_reach_the_kernel(sheet):
@@ -278,5 +284,93 @@ def test_required_conversion_in_the_worksheet(sheet):
     assert res["key"] == key and res["required_conversion"] == 0.3
     assert [r["T_K"] for r in res["rows"]] == sheet.panel.result.T.tolist()
     assert "conversion of" in target._out.value
-    target.feed = "nonsense"  # a bad feed: message inline, last good result kept
-    assert target.error and target.result is res
+    # The call is now on ΔrG at the composition of 30 % conversion, from the call's own draws.
+    assert sheet.result.at_conversion is not None and "30% conversion" in sheet.result.conditions
+    assert res["shared_draws"] and res["trials"] == sheet.result.trials
+    target.feed = "nonsense"  # a bad feed: message inline, the old answer cleared, stale marked
+    assert sheet.error and target.result == {} and sheet.stale
+    assert "No conversion result" in target._out.value
+
+
+# --- controls, stale results, and the record of what is on screen -----------------------------
+def test_readme_example_works_in_the_main_worksheet(counters):
+    # The README's MgCO3 -> MgO + CO2 (data to 1000 K) typed into the main worksheet, whose
+    # window is 600–1100 K: the window is fitted to the data and said so; no error.
+    ws = FeasibilityWorksheet(
+        "C3H8 -> C3H6 + H2", T="900 K", T_window=("600 K", "1100 K"), samples=N
+    )
+    ws.reaction.equation = "MgCO3 -> MgO + CO2"
+    assert ws.error == "" and not ws.stale
+    assert ws.result.reaction.equation() == "MgCO3 -> MgO + CO2"
+    assert ws.result.T[0] == 600.0 and ws.result.T[-1] == 1000.0
+    assert "fitted to the data" in ws.window_note and "600–1000 K" in ws._status.value
+
+
+def test_window_confidence_and_trials_controls(sheet, counters):
+    lo_box, hi_box = sheet._window_boxes
+    assert (lo_box.value, hi_box.value) == (500.0, 900.0)
+    hi_box.value = 800.0
+    assert sheet.T_window == (500.0, 800.0) and sheet.result.T[-1] == 800.0
+    conf, trials = sheet._settings.children[2:]
+    trials.value = 1024
+    assert sheet.result.trials == 1024
+    conf.value = 0.9
+    assert sheet.result.confidence == 0.9
+    assert counters["sample"] == 3  # one new set of draws per change
+    conf.value = 1.0  # not a confidence level: refused inline, the result marked stale
+    assert "confidence" in sheet.error and sheet.stale
+
+
+def test_one_total_pressure(sheet):
+    boxes = [c for c in sheet.conversion.children if isinstance(c, ipywidgets.Text)]
+    assert [b.description for b in boxes] == ["feed (mol)", "key", "needed"]
+    sheet.conditions.total_pressure = "5 bar"
+    assert sheet.conversion.pressure == "5 bar"
+
+
+def test_override_is_marked_and_reaches_call_conversion_and_record(sheet, tmp_path):
+    from feasibly.records import verify_record
+
+    p_before = sheet.panel.probability
+    inp = sheet.override_input
+    inp.target, inp.quantity = "MgCO3(cr)", "dHf"
+    inp.value, inp.uncertainty, inp.reason = "-1105", "1", "invented for this test"
+    sheet.apply_override()
+    assert [o.target for o in sheet.result.overrides] == ["MgCO3(cr)"]
+    assert "override active" in sheet._overrides_shown.value
+    assert sheet.panel.probability != p_before
+    target = sheet.conversion
+    target.feed, target.key, target.required = "MgCO3:1, N2:4", "MgCO3", "30%"
+    sheet.temperature.value = 700.0
+    out = tmp_path / "on-screen.json"
+    sheet.export.path = str(out)
+    assert sheet.export.export() == [str(out), str(out.with_suffix(".html"))]
+    rec = json.loads(out.read_text())
+    assert rec["uncertainty"]["overrides"][0]["target"] == "MgCO3(cr)"
+    assert rec["uncertainty"]["sensitivity_T_K"] == 700.0  # the selected temperature
+    assert rec["conversion"]["required"] == 0.3 and rec["conversion"]["shared_draws"]
+    assert rec["conditions"]["call_at_required_conversion"] is True
+    assert verify_record(out).identical
+    sheet.clear_overrides()
+    assert sheet.result.overrides == [] and sheet._overrides_shown.value == ""
+
+
+def test_record_button_refuses_a_stale_result(sheet, tmp_path):
+    sheet.export.path = str(tmp_path / "stale.json")
+    sheet.reaction.equation = "MgCO3 -> MgO"  # unbalanced: the result on screen is now stale
+    assert sheet.export.export() == []
+    assert "earlier inputs" in sheet.export.error and not (tmp_path / "stale.json").exists()
+
+
+def test_builder_shows_name_and_cas_of_each_species(sheet):
+    shown = sheet.reaction._shown.value
+    assert "MgCO3 = magnesium carbonate (CAS 546-93-0)" in shown
+
+
+def test_isomer_is_refused_with_described_candidates():
+    from feasibly.widgets import ReactionBuilder
+
+    b = ReactionBuilder("HCOOCH3 -> CO + CH3OH")
+    assert not b.balanced and "may be another isomer" in b.error
+    assert b.suggestions == ["CH3COOH"]
+    assert "acetic acid" in b._fix.children[0].description

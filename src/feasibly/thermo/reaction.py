@@ -596,8 +596,14 @@ class Reaction:
         T = np.atleast_1d(np.asarray(T, dtype=float))
         plan = []
         for t in self.terms:
+            fixed = t.phase is not None or t.form is not None
             if len(t.candidates) == 1:
-                t.candidates[0].check_range(T)
+                try:
+                    t.candidates[0].check_range(T)
+                except OutsideDataRange as exc:
+                    raise OutsideDataRange(
+                        exc.species, exc.T_K, exc.T_min, exc.T_max, phase_given=fixed
+                    ) from None
                 plan.append(np.zeros(T.shape, dtype=np.intp))
                 continue
             g = np.full((len(t.candidates), *T.shape), np.inf)
@@ -611,7 +617,14 @@ class Reaction:
                 bad = float(T[uncovered][0])
                 lo = min(sp.T_range[0] for sp in t.candidates)
                 hi = max(sp.T_range[1] for sp in t.candidates)
-                raise OutsideDataRange(t.label() + " (all allowed phases)", bad, lo, hi)
+                raise OutsideDataRange(
+                    t.label()
+                    + (" (the phases allowed)" if fixed else " (every phase in the data)"),
+                    bad,
+                    lo,
+                    hi,
+                    phase_given=fixed,
+                )
             plan.append(best)
         return plan
 

@@ -14,12 +14,13 @@ from ..errors import FeasiblyError
 from ..library.catalogue import Library
 from ..thermo.reaction import Reaction
 from ..uncertainty.linear import window_phrase
+from ..uncertainty.sampling import SampleSet
 from ._common import error_html, guarded, note_html
 
 __all__ = ["ConversionTarget"]
 
-# Trials of the equilibrium bands: the extent solve is per trial and temperature, so fewer than
-# the ΔrG draws; 4000 gives P(meets) near 95 % to about ±0.35 % (binomial standard error).
+# Trials of the equilibrium bands when used on its own (no call's draws to share): the extent
+# solve is per trial and temperature; 4000 gives P(meets) near 95 % to about ±0.35 %.
 _SAMPLES = 4000
 
 
@@ -40,8 +41,12 @@ class ConversionTarget(w.VBox):
     error = Unicode("", help="why the last evaluation failed, '' when it did not")
     result = Dict(help="conversion_assessment output (not synced)").tag(sync=False)
 
-    def __init__(self, **kwargs: Any) -> None:
+    def __init__(self, embedded: bool = False, **kwargs: Any) -> None:
+        """``embedded``: a worksheet owns it; the worksheet's total pressure is the only one
+        shown, and the worksheet re-evaluates (with the call's own draws) when an input changes.
+        """
         super().__init__(**kwargs)
+        self._embedded = embedded
         style = {"description_width": "80px"}
         boxes = {
             "feed": w.Text(
@@ -61,26 +66,48 @@ class ConversionTarget(w.VBox):
         for name, box in boxes.items():
             w.link((self, name), (box, "value"))
         self._out = w.HTML()
-        self._context: tuple[Reaction, np.ndarray, int, float, Library] | None = None
+        self._context: tuple[Reaction, np.ndarray, int, float, Library, SampleSet | None] | None = (
+            None
+        )
+        shown = [b for n, b in boxes.items() if not (embedded and n == "pressure")]
         self.children = [
             w.HTML(
                 "<b>Required conversion</b> (equilibrium of this reaction: ideal gases, "
-                "pure condensed phases)"
+                "pure condensed phases"
+                + ("; at the total pressure under Conditions)" if embedded else ")")
             ),
-            *boxes.values(),
+            *shown,
             self._out,
         ]
-        self.observe(self._changed, names=["feed", "key", "required", "pressure"])
+        if not embedded:
+            self.observe(self._changed, names=["feed", "key", "required", "pressure"])
 
     @property
     def active(self) -> bool:
         return bool(self.feed.strip() and self.key.strip() and self.required.strip())
 
     def evaluate(
-        self, reaction: Reaction, temps: np.ndarray, seed: int, confidence: float, library: Library
+        self,
+        reaction: Reaction,
+        temps: np.ndarray,
+        seed: int,
+        confidence: float,
+        library: Library,
+        sample_set: SampleSet | None = None,
     ) -> None:
-        """Recompute for the reaction and temperatures on screen (no-op when inactive)."""
-        self._context = (reaction, np.asarray(temps, dtype=float), seed, confidence, library)
+        """Recompute for the reaction and temperatures on screen (no-op when inactive).
+
+        ``sample_set``: the draws of the call on screen; the bands then use exactly those draws,
+        overrides and correlations.
+        """
+        self._context = (
+            reaction,
+            np.asarray(temps, dtype=float),
+            seed,
+            confidence,
+            library,
+            sample_set,
+        )
         self._changed(None)
 
     @guarded
@@ -91,7 +118,7 @@ class ConversionTarget(w.VBox):
                 "needed to use it as the criterion."
             )
             return
-        rxn, temps, seed, confidence, lib = self._context
+        rxn, temps, seed, confidence, lib, drawn = self._context
         try:
             res = conversion_assessment(
                 rxn,
@@ -100,18 +127,25 @@ class ConversionTarget(w.VBox):
                 self.key.strip(),
                 self.required,
                 self.pressure,
-                samples=_SAMPLES,
-                seed=seed,
+                samples=None if drawn is not None else _SAMPLES,
+                seed=None if drawn is not None else seed,
                 confidence=confidence,
                 library=lib,
+                sample_set=drawn,
             )
         except FeasiblyError as exc:
             self.error = str(exc)
-            self._out.value = error_html(self.error) + self._table(self.result)
+            self.result = {}  # a failed input never leaves an old answer to be recorded
+            self._out.value = error_html(self.error)
             return
         self.error = ""
         self.result = res
         self._out.value = self._table(res)
+
+    def invalidate(self, reason: str) -> None:
+        """The call it belongs to could not be made: drop the old answer and say why."""
+        self.result = {}
+        self._out.value = error_html(f"No conversion result for the inputs shown: {reason}")
 
     @staticmethod
     def _table(res: dict[str, Any]) -> str:

@@ -172,7 +172,10 @@ class FeasibilityPanel(w.VBox):
             "<div class='feasibly-verdict' "
             f"style='border-left:6px solid {colour};padding:4px 10px;font-size:15px'>"
             f"<b>{html.escape(self.summary)}</b><br><span style='font-size:12px'>"
-            f"median {g} = {snap.median_kJ:.1f} kJ/mol, 95 % interval {snap.lo95_kJ:.1f} to "
+            + html.escape(
+                f"{g} at {r.conditions}; " if r.conditions else "ΔrG° at standard state; "
+            )
+            + f"median {g} = {snap.median_kJ:.1f} kJ/mol, 95 % interval {snap.lo95_kJ:.1f} to "
             f"{snap.hi95_kJ:.1f} kJ/mol; {r.trials:,} trials, seed {r.samples.seed}; "
             f"Monte Carlo standard error of P: {se}</span></div>"
         )

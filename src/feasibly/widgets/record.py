@@ -36,9 +36,21 @@ class RecordExport(w.VBox):
     written: List[str] = List(help="paths written by the last export")
     error = Unicode("", help="why the last export failed, '' when it did not")
 
-    def __init__(self, source: Callable[[], UncertainAssessment | None], **kwargs: Any) -> None:
+    def __init__(
+        self,
+        source: Callable[[], UncertainAssessment | None],
+        stale: Callable[[], str] | None = None,
+        context: Callable[[], dict[str, Any]] | None = None,
+        **kwargs: Any,
+    ) -> None:
+        """``stale()`` returns why the result on screen no longer matches the inputs ('' when
+        it does): the button then refuses. ``context()`` returns what else is on screen and
+        goes into the record: ``selected_T_K``, and ``conversion`` with ``conversion_inputs``.
+        """
         super().__init__(**kwargs)
         self._source = source
+        self._stale = stale or (lambda: "")
+        self._context = context or dict
         style = {"description_width": "70px"}
         fields = [
             w.Text(description="author", style=style),
@@ -68,11 +80,18 @@ class RecordExport(w.VBox):
         """Write the record of the result on screen; returns the paths ([] on failure)."""
         u = self._source()
         self.written = []
+        why_stale = self._stale()
         if u is None:
             self.error = "Nothing to record yet: no result on screen."
+        elif why_stale:
+            self.error = (
+                "Not written: the result on screen is from earlier inputs, not the ones shown "
+                f"now ({why_stale}). Fix the input, or undo the change, then write the record."
+            )
         else:
             try:
                 lo, hi = float(u.T[0]), float(u.T[-1])
+                ctx = self._context()
                 a = assess(
                     u.reaction,
                     T_range=((lo, "K"), (hi, "K")),
@@ -80,9 +99,23 @@ class RecordExport(w.VBox):
                     partial_pressures={k: (v, "Pa") for k, v in u.partial_pressures_Pa.items()},
                     standard_pressure=(u.standard_pressure, "Pa"),
                     library=u.library,
+                    at_conversion=u.at_conversion,
                 )
+                extra: dict[str, Any] = {}
+                if ctx.get("conversion"):
+                    extra = {
+                        "conversion": ctx["conversion"],
+                        "conversion_inputs": ctx["conversion_inputs"],
+                    }
+                t_sel = ctx.get("selected_T_K")
                 record = record_from(
-                    a, u, author=self.author, reviewer=self.reviewer, rationale=self.rationale
+                    a,
+                    u,
+                    author=self.author,
+                    reviewer=self.reviewer,
+                    rationale=self.rationale,
+                    sensitivity_at=(t_sel, "K") if t_sel is not None else None,
+                    **extra,
                 )
                 json_path = Path(self.path)
                 paths = write_record(
