@@ -143,10 +143,10 @@ def summary(a: Assessment, u: UncertainAssessment | None) -> dict[str, str]:
         verdict = "favourable in part of the range"
         window = a.window()
         if window:
-            lo, hi = float(a.standard.T[0]), float(a.standard.T[-1])
+            t_lo, t_hi = float(a.standard.T[0]), float(a.standard.T[-1])
             spans = " and ".join(
-                f"from {x:.0f} K{' (range start)' if x <= lo else ''} to "
-                f"{y:.0f} K{' (range end)' if y >= hi else ''}"
+                f"from {x:.0f} K{' (range start)' if x <= t_lo else ''} to "
+                f"{y:.0f} K{' (range end)' if y >= t_hi else ''}"
                 for x, y in window
             )
             headline = f"{sym} < 0{at} {spans}."

@@ -164,7 +164,7 @@ class Assessment(TableExport):
         lo, hi = self.T_range_K
         edges = [lo, *self.crossover_call_K, hi]
         T, neg = self.standard.T, self.favourable
-        spans = []
+        spans: list[tuple[float, float]] = []
         for a, b in itertools.pairwise(edges):
             inside = (T >= a) & (T <= b)
             mid = 0.5 * (a + b)
