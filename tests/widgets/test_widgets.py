@@ -374,3 +374,17 @@ def test_isomer_is_refused_with_described_candidates():
     assert not b.balanced and "may be another isomer" in b.error
     assert b.suggestions == ["CH3COOH"]
     assert "acetic acid" in b._fix.children[0].description
+
+
+def test_phase_notes_show_metastable_and_missing_phases(counters):
+    pytest.importorskip("chemicals")
+    ws = FeasibilityWorksheet(
+        "2 H2S + SO2 -> 3 S(l) + 2 H2O", T="1000 K", T_window=("900 K", "1100 K"), samples=N
+    )
+    assert "S(l) is metastable" in ws._phase_notes.value and "S2(g)" in ws._phase_notes.value
+    ws.reaction.equation = "CH3COOH -> CH4 + CO2"
+    ws.T_window = (300.0, 500.0)
+    assert (
+        "stable liquid" in ws._phase_notes.value
+        and "missing from the data" in ws._phase_notes.value
+    )

@@ -13,6 +13,7 @@ from ..conditions import read_feed as parse_feed_text
 from ..conditions import read_temperature
 from ..errors import FeasiblyError, InvalidInput, OutsideDataRange
 from ..library.catalogue import Library, default_library
+from ..thermo.missing_phases import missing_stable_phases
 from ..thermo.reaction import Reaction
 from ..uncertainty import assess_uncertainty
 from ._common import error_html, guarded, note_html, static_copy_wanted
@@ -99,6 +100,7 @@ class FeasibilityWorksheet(w.VBox):
         self._status = w.HTML()
         self._feedback = w.HTML()
         self._settings = self._settings_box()
+        self._phase_notes = w.HTML()
         self.override_input = UncertaintyInput(library=self.library)
         self._overrides_shown = w.HTML()
         apply_b = w.Button(description="apply override", icon="check")
@@ -129,6 +131,7 @@ class FeasibilityWorksheet(w.VBox):
             self._overrides_shown,
             self._feedback,
             self._status,
+            self._phase_notes,
             self.panel,
             w.Accordion(
                 children=[self.conversion, overrides_box, self.export, self.files],
@@ -193,6 +196,21 @@ class FeasibilityWorksheet(w.VBox):
     def clear_overrides(self) -> None:
         """Remove every override: the call goes back to the library's values."""
         self.overrides = []
+
+    @staticmethod
+    def _notes_html(rxn: Reaction, T: np.ndarray) -> str:
+        """Phase notes for the temperatures on screen: metastable phases named in the
+        equation, and stable phases missing from the data."""
+        notes = [
+            f"{used} is metastable at {t:.0f} K ({stable} has lower G°); it is used because the "
+            "equation names that phase."
+            for used, t, stable in rxn.metastable(T)
+        ]
+        notes += missing_stable_phases(rxn, T)
+        if not notes:
+            return ""
+        items = "".join(f"<li>{html.escape(n)}</li>" for n in notes)
+        return note_html(f"<b>Phases</b><ul style='margin:2px 0'>{items}</ul>", raw=True)
 
     def _stale_reason(self) -> str:
         if self.panel.result is None:
@@ -338,6 +356,7 @@ class FeasibilityWorksheet(w.VBox):
             return
         self.resamples += 1
         self.error = ""
+        self._phase_notes.value = self._notes_html(rxn, result.T)
         with self.panel.hold():
             self.temperature.set_range(rxn.valid_range())
             if self.panel.result is None and self._requested_T is not None:
