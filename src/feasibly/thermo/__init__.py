@@ -4,6 +4,8 @@
 - :mod:`~feasibly.thermo.properties` — ΔrX°(T), K, crossover temperatures, the reaction quotient;
 - :mod:`~feasibly.thermo.assessment` — the unit-aware screen of one reaction at the conditions
   given;
+- :mod:`~feasibly.thermo.missing_phases` — where the stable phase of a species at T is missing
+  from the data (tabulated melting and boiling points);
 - :mod:`~feasibly.thermo.energy` — stream enthalpies and the adiabatic temperature (no
   uncertainty; :mod:`feasibly.heat` adds it);
 - :mod:`~feasibly.thermo.safety` — plain-language cautions.

@@ -118,7 +118,7 @@ def reaction_streams(
         _, found = resolve_species(rxn.library, formula, phase, form, name)
         inerts.append(StreamItem(name, tuple(found), float(amount)))
     for j, t in enumerate(rxn.terms):
-        inlet.append(StreamItem(t.label(), tuple(t.candidates), float(amounts[j])))
+        inlet.append(StreamItem(t.label(), t.own_candidates(), float(amounts[j])))
     out_amounts = amounts + np.array([t.nu for t in rxn.terms]) * extent
     if np.any(out_amounts < -1e-12 * max(1.0, float(np.max(amounts)))):
         short = [rxn.terms[j].label() for j in np.nonzero(out_amounts < 0)[0]]
@@ -129,7 +129,7 @@ def reaction_streams(
             extent,
         )
     outlet = [
-        StreamItem(t.label(), tuple(t.candidates), max(float(n), 0.0))
+        StreamItem(t.label(), t.own_candidates(), max(float(n), 0.0))
         for t, n in zip(rxn.terms, out_amounts, strict=True)
     ]
     return inlet + inerts, outlet + inerts

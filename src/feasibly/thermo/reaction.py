@@ -103,6 +103,11 @@ class ReactionTerm:
         """Amount of candidate ``k`` per amount of this term (1 unless an allotrope)."""
         return self.scales[k] if self.scales else 1.0
 
+    def own_candidates(self) -> tuple[Species, ...]:
+        """The candidates of the term's own formula (its allotropes of other molecularity left
+        out): what a stream of this species, counted in its own formula units, may be."""
+        return tuple(sp for k, sp in enumerate(self.candidates) if self.scale(k) == 1.0)
+
     def scale_array(self) -> np.ndarray:
         """:meth:`scale` of every candidate, as an array."""
         return np.array([self.scale(k) for k in range(len(self.candidates))])
