@@ -333,3 +333,24 @@ def test_assess_call_with_samples_names_probability_and_leading_input(
     assert "feasible at 800.0 K at 95% confidence" in head
     assert "P(feasible) = " in head and "from 4,096 trials" in head
     assert "leading input" in head and "No uncertainty analysis" not in head
+
+
+def test_assess_call_at_required_conversion_leads_and_agrees_with_the_conversion(
+    capsys: pytest.CaptureFixture[str],
+) -> None:
+    # Ammonia at 200 bar: ΔrG° > 0 over 600–800 K, yet the equilibrium conversion of N2 is
+    # 24–70 %; the call is on ΔrG at the composition of the 20 % required.
+    argv = ["assess", "N2 + 3 H2 -> 2 NH3", "--T-range", "600", "800", "K", "--points", "3"]
+    argv += ["--feed", "N2:1, H2:3", "--require-conversion", "20%", "--key", "N2"]
+    argv += ["--P", "200", "bar"]
+    code, out, err = run(capsys, *argv)
+    assert code == 0, err
+    head = out.split("The numbers behind it")[0]
+    assert "20% conversion of N2 from feed N2:1, H2:3 at 200 bar" in head
+    assert "favourable (ΔrG < 0) from the start of the range to the end of the range" in head
+    code, out, _ = run(capsys, *argv, "--json")
+    doc = json.loads(out)
+    calls = [r["call"] for r in doc["rows"]]
+    meets = [r["meets_required"] for r in doc["conversion"]["rows"]]
+    assert calls == ["favourable" if m else "not favourable" for m in meets]
+    assert all(r["dG_J_per_mol"] > 0 for r in doc["rows"])
