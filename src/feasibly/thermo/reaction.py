@@ -328,6 +328,9 @@ def resolve_species(
     """
     named = _BRACED.fullmatch(formula.strip())
     hits = _resolve_named(library, named.group(1)) if named else library.by_formula(formula)
+    if not hits and not named and (library.by_name(formula) or library.by_cas(formula)):
+        # A bare name or CAS number ("water") names one compound, as in braces.
+        hits = _resolve_named(library, formula)
     if not hits:
         try:
             parse_formula(formula)
