@@ -166,3 +166,8 @@ def test_beyond_the_data_range_is_refused() -> None:
 def test_invalid_input_is_the_family() -> None:
     with pytest.raises(InvalidInput):
         heat_duty(CALCINE, "1173 K", "CaCO3:1", conversion=0)
+
+
+def test_an_endothermic_step_has_no_adiabatic_temperature() -> None:
+    with pytest.raises(InvalidInput, match="takes in 178"):
+        adiabatic_temperature(CALCINE, "CaCO3:1", "298.15 K")

@@ -150,7 +150,9 @@ def _cmd_assess(args: argparse.Namespace) -> int:
             "--threshold, --require-K, --override and --correlate need --samples N (or --adaptive)",
         )
     conversion = None
-    if args.feed or args.require_conversion or args.key:
+    # --feed alone is the feed of a heat balance (--heat); with a required conversion it is also
+    # the feed of the conversion criterion.
+    if args.require_conversion or args.key or (args.feed and not args.heat):
         if not (args.feed and args.require_conversion and args.key):
             raise UnitError(
                 None,
@@ -216,8 +218,15 @@ def _cmd_assess(args: argparse.Namespace) -> int:
                 uncertain, args.export, "monte-carlo", T_K=t_one, figures_too=not args.no_figures
             )
         print("exported: " + ", ".join(str(p) for p in written_files), file=sys.stderr)
+    heat = _heat(args, result, uncertain, T) if args.heat else None
     if args.json:
         doc = result.to_dict()
+        if heat is not None:
+            for row, duty in zip(doc["rows"], heat["duties"], strict=True):
+                row["duty_J_per_mol"] = duty.J_per_mol_reaction
+                if duty.interval is not None:
+                    row["duty_J_per_mol_interval_95"] = list(duty.interval)
+            doc["heat"] = {k: v for k, v in heat.items() if k != "duties"}
         if uncertain is not None:
             extra = uncertain.to_dict()
             for row, urow in zip(doc["rows"], extra.pop("rows"), strict=True):
@@ -233,7 +242,70 @@ def _cmd_assess(args: argparse.Namespace) -> int:
             _print_uncertainty(uncertain)
         if conversion is not None:
             _print_conversion(conversion)
+        if heat is not None:
+            _print_heat(heat)
     return EXIT_OK
+
+
+def _heat(args: argparse.Namespace, result: Any, uncertain: Any, T: Any) -> dict[str, Any]:
+    """Heat duty at each temperature and the adiabatic temperature, from the call's draws."""
+    from ..heat import adiabatic_temperature, heat_duty
+
+    if not args.feed:
+        raise InvalidInput("--heat", "", "used with --feed (the amounts fed, e.g. CaCO3:1)", None)
+    feed_T = _quantity_text(args.feed_T, "temperature") if args.feed_T else None
+    conv: dict[str, Any] = {}
+    if args.require_conversion and args.key:
+        conv = {"conversion": args.require_conversion, "key": args.key}
+    P = _quantity_text(args.P, "pressure") if args.P else "1 bar"
+    duties = [
+        heat_duty(
+            result.reaction, (float(t), "K"), args.feed, T_feed=feed_T, P=P, call=uncertain, **conv
+        )
+        for t in result.standard.T
+    ]
+    t_in = feed_T if feed_T is not None else (float(result.standard.T[0]), "K")
+    out: dict[str, Any] = {
+        "duties": duties,
+        "basis": "per mole of reaction as written; feed "
+        + ("at " + " ".join(args.feed_T) if args.feed_T else "at the reaction temperature"),
+        "conversion": duties[0].conversion,
+        "adiabatic_T_K": None,
+    }
+    try:
+        hot = adiabatic_temperature(result.reaction, args.feed, t_in, call=uncertain, **conv)
+    except InvalidInput as exc:  # an endothermic step has no adiabatic temperature to quote
+        reason = exc.expected.replace("a step that releases heat: this one", "this step")
+        out["adiabatic_note"] = f"No adiabatic temperature: {reason}."
+        return out
+    out["adiabatic_T_K"] = hot.T_K
+    out["adiabatic_T_feed_K"] = hot.T_feed_K
+    out["adiabatic_note"] = hot.notes[0]
+    if hot.interval is not None:
+        out["adiabatic_T_K_interval_95"] = list(hot.interval)
+    return out
+
+
+def _print_heat(heat: dict[str, Any]) -> None:
+    print(f"\nHeat duty ({heat['basis']}; + means heat in):")
+    for d in heat["duties"]:
+        band = ""
+        if d.interval is not None:
+            band = f"  (95 %: {d.interval[0] / 1e3:,.1f} to {d.interval[1] / 1e3:,.1f})"
+        per_kg = (
+            f"; {d.J_per_kg_product / 1e6:,.2f} MJ per kg {d.product}" if d.J_per_kg_product else ""
+        )
+        print(f"  {d.T_K:8.1f} K: {d.J_per_mol_reaction / 1e3:,.1f} kJ/mol{band}{per_kg}")
+    if heat["adiabatic_T_K"] is None:
+        print(heat["adiabatic_note"])
+        return
+    line = f"Adiabatic outlet temperature, feed at {heat['adiabatic_T_feed_K']:.1f} K: "
+    line += f"{heat['adiabatic_T_K']:.0f} K"
+    if "adiabatic_T_K_interval_95" in heat:
+        lo, hi = heat["adiabatic_T_K_interval_95"]
+        line += f" (95 %: {lo:.0f} to {hi:.0f} K)"
+    print(line)
+    print("  " + heat["adiabatic_note"])
 
 
 def _passphrase(key_path: str) -> bytes | None:
@@ -333,6 +405,20 @@ def register(sub: Any) -> None:
         help="conversion of --key that you need, e.g. 90%% or 0.9",
     )
     e.add_argument("--key", help="the reactant whose conversion counts, e.g. CH4")
+    h = a.add_argument_group("heat (needs --feed)")
+    h.add_argument(
+        "--heat",
+        action="store_true",
+        help="heat duty at each temperature and the adiabatic temperature of the feed, with "
+        "their 95 %% intervals when sampled (JSON: duty_J_per_mol per row, heat.adiabatic_T_K)",
+    )
+    h.add_argument(
+        "--feed-T",
+        nargs="+",
+        dest="feed_T",
+        metavar="T",
+        help="temperature the feed enters at, e.g. 25 degC (default: the reaction temperature)",
+    )
     x = a.add_argument_group("exports")
     x.add_argument(
         "--export",

@@ -115,6 +115,16 @@ def adiabatic_temperature(
         extent = x * amounts_of(rxn, amounts)[j] / -rxn.terms[j].nu
     inlet, outlet = reaction_streams(rxn, amounts, extent)
     h_in = float(stream_enthalpy(inlet, t_in)[0])
+    h_out_at_feed = float(stream_enthalpy(outlet, t_in)[0])
+    if h_out_at_feed > h_in:
+        raise InvalidInput(
+            "equation",
+            "adiabatic_temperature",
+            "a step that releases heat: this one takes in "
+            f"{(h_out_at_feed - h_in) / 1000:,.1f} kJ for this feed at {t_in:.2f} K, so without "
+            "heat input it cools and stops short of that conversion",
+            rxn.equation(),
+        )
     T_ad = _nominal_adiabatic(outlet, h_in)
     result = AdiabaticTemperature(rxn.equation(), t_in, x, extent, T_ad, rise_K=T_ad - t_in)
     result.notes.append(
