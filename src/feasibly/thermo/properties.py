@@ -188,7 +188,6 @@ def standard_properties(
     dH = np.zeros(T.shape)
     dS = np.zeros(T.shape)
     dCp = np.zeros(T.shape)
-    phases: list[list[str]] = [[] for _ in range(T.size)]
     for term, idx in zip(rxn.terms, plan, strict=True):
         for k, sp in enumerate(term.candidates):
             mask = idx == k
@@ -204,16 +203,14 @@ def standard_properties(
         np.array([sp.id for sp in t.candidates], dtype=object)[k]
         for t, k in zip(rxn.terms, plan, strict=True)
     ]
-    phases = (
-        list(zip(*(i.ravel().tolist() for i in ids), strict=True))
-        if ids
-        else [() for _ in range(T.size)]
+    phases: tuple[tuple[str, ...], ...] = (
+        tuple(zip(*(i.ravel().tolist() for i in ids), strict=True)) if ids else ((),) * T.size
     )
     dn = rxn.gas_change(T)
     if standard_pressure != STANDARD_PRESSURE_PA:
         dS = dS - dn * R * math.log(standard_pressure / STANDARD_PRESSURE_PA)
     dG = dH - T * dS
-    return StandardProperties(T, dH, dS, dG, dCp, dn, standard_pressure, tuple(phases))
+    return StandardProperties(T, dH, dS, dG, dCp, dn, standard_pressure, phases)
 
 
 def crossover_temperatures(
