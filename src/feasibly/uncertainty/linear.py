@@ -27,7 +27,13 @@ from ..errors import InvalidInput, InvalidUncertainty
 from ..library.cp_models import T_REF, R
 from ..library.species import Species
 from ..thermo.reaction import Reaction
-from ._quantiles import block_rows, streamed_statistics
+from ._quantiles import (
+    block_rows,
+    run_parallel,
+    single_threaded_blas,
+    streamed_statistics,
+    workers,
+)
 from .sampling import SampleSet
 
 __all__ = [
@@ -194,7 +200,19 @@ def sample_moments(samples: SampleSet) -> tuple[np.ndarray, np.ndarray]:
         x = samples.values
         n = x.shape[1]
         xbar = x.mean(axis=1)
-        second = (x @ x.T) / n
+        # x xᵀ in one slice of trials per worker thread, each on single-threaded BLAS: a k × k
+        # result from k × N draws, where BLAS's own threads stall on a shared machine.
+        threads = max(1, min(workers(), n // 4096))
+        edges = np.linspace(0, n, threads + 1).astype(int)
+        parts = np.empty((threads, x.shape[0], x.shape[0]))
+
+        def gram(t: int) -> None:
+            part = x[:, edges[t] : edges[t + 1]]
+            np.matmul(part, part.T, out=parts[t])
+
+        with single_threaded_blas():
+            run_parallel(gram, threads)
+        second = parts.sum(axis=0) / n
         cov = (second - np.outer(xbar, xbar)) * (n / (n - 1))
         samples._moments = (xbar, np.atleast_2d(cov))
     return samples._moments
@@ -250,16 +268,18 @@ def summarise(
         )
     nominal, coef = model._pick(which)
     n = samples.n
-    xbar, cov = sample_moments(samples)
-    mean = nominal + coef @ xbar
-    var = np.einsum("ij,jk,ik->i", coef, cov, coef)
-    u = np.sqrt(np.clip(var, 0.0, None))
-    tail = (1.0 - coverage) / 2.0
-    probs = (tail, 0.5, 1.0 - tail)
-    thr = np.broadcast_to(np.asarray(threshold, dtype=float), model.T.shape).copy()
-    q, e, below = streamed_statistics(
-        coef, nominal, samples.values, mean, u, probs, thr, scale=np.sqrt(np.diag(cov))
-    )
+    # Every matrix step here is small or runs in our own worker threads: BLAS on one thread.
+    with single_threaded_blas():
+        xbar, cov = sample_moments(samples)
+        mean = nominal + coef @ xbar
+        var = np.einsum("ij,jk,ik->i", coef, cov, coef)
+        u = np.sqrt(np.clip(var, 0.0, None))
+        tail = (1.0 - coverage) / 2.0
+        probs = (tail, 0.5, 1.0 - tail)
+        thr = np.broadcast_to(np.asarray(threshold, dtype=float), model.T.shape).copy()
+        q, e, below = streamed_statistics(
+            coef, nominal, samples.values, mean, u, probs, thr, scale=np.sqrt(np.diag(cov))
+        )
     p = below / n
     return Summary(
         mean,
