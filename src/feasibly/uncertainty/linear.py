@@ -361,22 +361,26 @@ def crossings(
     n = samples.n
     first = np.full(n, np.nan)
     count = np.zeros(n, dtype=np.int64)
-    prev = None
+    prev: np.ndarray | None = None
     chunk = chunk or block_rows(n)
     for start in range(0, T.size, chunk):
         block = model.values("G", samples, slice(start, min(start + chunk, T.size)))
         block -= thr[start : start + block.shape[0], None]
-        for i in range(block.shape[0]):
-            cur = block[i]
-            k = start + i
-            if prev is not None:
-                flip = (prev < 0) != (cur < 0)
-                if np.any(flip):
-                    new = flip & np.isnan(first)
-                    frac = prev[new] / (prev[new] - cur[new])
-                    first[new] = T[k - 1] + frac * (T[k] - T[k - 1])
-                    count += flip
-            prev = cur
+        # Whole blocks at once: the previous block's last row, then this block's rows; a sign
+        # flip between rows j and j + 1 is a crossing between grid points k0 + j and k0 + j + 1.
+        rows = block if prev is None else np.vstack([prev[None, :], block])
+        k0 = start if prev is None else start - 1
+        negative = rows < 0
+        flip = negative[1:] != negative[:-1]
+        count += flip.sum(axis=0)
+        new = np.flatnonzero(flip.any(axis=0) & np.isnan(first))
+        if new.size:
+            j = np.argmax(flip[:, new], axis=0)  # each trial's first flip in this block
+            a, b = rows[j, new], rows[j + 1, new]
+            k = k0 + j + 1
+            frac = a / (a - b)
+            first[new] = T[k - 1] + frac * (T[k] - T[k - 1])
+        prev = block[-1]
     return first, count
 
 
