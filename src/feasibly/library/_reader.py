@@ -667,8 +667,6 @@ class PendingEntry:
     :class:`~feasibly.errors.DataFileError` (entry and field named) as reading it eagerly.
     """
 
-    __slots__ = ("_built", "_context", "_raw", "_span", "cas", "formula", "id", "index", "names")
-
     def __init__(
         self,
         index: int,
