@@ -15,7 +15,9 @@ Each change is timed two ways, alternately, over --rounds rounds:
   rebuild    the same change, then the figure built anew and pushed into the widget as the
              worksheet did before in-place updates (feasibility_figure + _draw): the
              difference is what in-place updating saves
-Prints min/median/max of each (ms) and of the ratio rebuild / in place.
+Prints min/median/max of each (ms) and of the ratio rebuild / in place, in wall time and in the
+process's CPU time (all its threads): on a machine shared with other work the wall time of a
+change stretches with the load, its CPU time much less.
 Run by hand:  PYTHONPATH=src python benchmarks/bench_worksheet.py [--rounds N]
 """
 
@@ -75,28 +77,30 @@ def main() -> None:
         "in place and rebuild alternating"
     )
 
-    def measure(name: str, change: Callable[[], None], rebuild: bool) -> float:
-        t0 = time.perf_counter()
+    def measure(name: str, change: Callable[[], None], rebuild: bool) -> tuple[float, float]:
+        t0, c0 = time.perf_counter(), time.process_time()
         change()
         if rebuild and name != "temperature":  # a temperature change never rebuilt the figure
             _rebuild(ws)
-        dt = time.perf_counter() - t0
+        dt, dc = time.perf_counter() - t0, time.process_time() - c0
         assert ws.error == "" and ws.panel.error == "", (ws.error, ws.panel.error)
-        return dt
+        return dt, dc
 
     def run(label: str) -> None:
         for name, change in changes.items():
             change(), change()  # warm-up, both directions
-            inplace: list[float] = []
-            rebuilt: list[float] = []
+            inplace: list[tuple[float, float]] = []
+            rebuilt: list[tuple[float, float]] = []
             for r in range(args.rounds):
                 for rebuild in (False, True) if r % 2 == 0 else (True, False):
                     (rebuilt if rebuild else inplace).append(measure(name, change, rebuild))
             print(f"  {label}{name}")
-            print("    " + time_line("in place", inplace))
-            if name != "temperature":
-                print("    " + time_line("rebuild ", rebuilt))
-                print("    " + ratio_line("rebuild / in place", rebuilt, inplace))
+            for k, clock in enumerate(("wall", "CPU ")):
+                a, b = [t[k] for t in inplace], [t[k] for t in rebuilt]
+                print("    " + time_line(f"in place, {clock}", a))
+                if name != "temperature":
+                    print("    " + time_line(f"rebuild,  {clock}", b))
+                    print("    " + ratio_line(f"rebuild / in place, {clock}", b, a))
 
     run("")
     ws.conversion.feed = "MgCO3:1, N2:4"
