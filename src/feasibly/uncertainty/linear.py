@@ -361,23 +361,30 @@ def crossings(
     n = samples.n
     first = np.full(n, np.nan)
     count = np.zeros(n, dtype=np.int64)
-    prev: np.ndarray | None = None
+    prev: np.ndarray | None = None  # the previous block's last row
     chunk = chunk or block_rows(n)
     for start in range(0, T.size, chunk):
         block = model.values("G", samples, slice(start, min(start + chunk, T.size)))
         block -= thr[start : start + block.shape[0], None]
-        # Whole blocks at once: the previous block's last row, then this block's rows; a sign
-        # flip between rows j and j + 1 is a crossing between grid points k0 + j and k0 + j + 1.
-        rows = block if prev is None else np.vstack([prev[None, :], block])
-        k0 = start if prev is None else start - 1
-        negative = rows < 0
+        negative = block < 0
+        # Whole blocks at once: first the step from the previous block's last row into this
+        # block (grid points start − 1 → start), then the steps inside the block (a sign flip
+        # between rows j and j + 1 is a crossing between grid points start + j and start + j + 1).
+        if prev is not None:
+            edge = (prev < 0) != negative[0]
+            count += edge
+            new = np.flatnonzero(edge & np.isnan(first))
+            if new.size:
+                a, b = prev[new], block[0, new]
+                frac = a / (a - b)
+                first[new] = T[start - 1] + frac * (T[start] - T[start - 1])
         flip = negative[1:] != negative[:-1]
         count += flip.sum(axis=0)
         new = np.flatnonzero(flip.any(axis=0) & np.isnan(first))
         if new.size:
             j = np.argmax(flip[:, new], axis=0)  # each trial's first flip in this block
-            a, b = rows[j, new], rows[j + 1, new]
-            k = k0 + j + 1
+            a, b = block[j, new], block[j + 1, new]
+            k = start + j + 1
             frac = a / (a - b)
             first[new] = T[k - 1] + frac * (T[k] - T[k - 1])
         prev = block[-1]
