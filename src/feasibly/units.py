@@ -84,6 +84,8 @@ _EXAMPLES = {
 
 def _unit(text: Any, value: Any, kind: str) -> pint.Unit:
     """The unit named by ``text`` (one unit expression, no number), or a UnitError."""
+    import pint
+
     if isinstance(text, pint.Unit):
         return text
     if not isinstance(text, str):
@@ -104,7 +106,7 @@ def _unit(text: Any, value: Any, kind: str) -> pint.Unit:
             f"(no spaces, commas or lists inside the number), e.g. {_EXAMPLES.get(kind, _ANY)}",
         )
     try:
-        unit = ureg.parse_units(name)
+        unit = _registry().parse_units(name)
     except Exception as exc:
         raise UnitError(
             value, kind, f"unit {excerpt(name)} not understood ({type(exc).__name__})"
@@ -144,31 +146,36 @@ _EXACT: dict[str, dict[str, tuple[float, float]]] = {
     },
     "molar energy": {"J/mol": (1.0, 0.0), "kJ/mol": (1000.0, 0.0)},
 }
-_NUMBER_UNIT = re.compile(r"\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(\S+)\s*")
 
 
 def _exact(value: Any, kind: str) -> np.ndarray | None:
-    """SI floats for a common spelling of ``kind``, or None to let pint read ``value``."""
+    """SI floats for a common spelling of ``kind``, or None to let pint read ``value``.
+
+    The same grammar as the pint path (one number, then one unit; the same aliases, length
+    limit and magnitude checks), so both give the same numbers and the same refusals.
+    """
     table = _EXACT[kind]
     if isinstance(value, str):
-        text = _TRAILING_UNIT.sub(lambda m: " " + _ALIASES[m.group(1)], value.strip())
-        m = _NUMBER_UNIT.fullmatch(text)
-        if m is None or m.group(2) not in table:
+        if len(value) > MAX_QUANTITY_CHARS:
             return None
-        magnitude: Any = float(m.group(1))
-        unit = m.group(2)
+        text = value.strip()
+        number = _NUMBER.match(text)
+        if number is None:
+            return None
+        name = text[number.end() :].strip()
+        name = _ALIASES.get(name, name)
+        if name not in table:
+            return None
+        x = np.asarray(float(number.group()))
     elif isinstance(value, tuple) and len(value) == 2 and isinstance(value[1], str):
-        unit = _ALIASES.get(value[1].strip(), value[1].strip())
-        if unit not in table:
+        name = value[1].strip()
+        name = _ALIASES.get(name, name)
+        if name not in table:
             return None
-        magnitude = value[0]
+        x = _magnitude(value[0], value, kind)
     else:
         return None
-    try:
-        x = np.asarray(magnitude, dtype=float)
-    except (ValueError, TypeError):
-        return None  # pint's path reports it
-    factor, offset = table[unit]
+    factor, offset = table[name]
     if factor != 1.0:
         x = x * factor
     if offset != 0.0:
@@ -268,16 +275,17 @@ def to_energy_per_mol(value: Any) -> np.ndarray:
     >>> float(to_energy_per_mol("-4 kJ/mol"))
     -4000.0
     """
-    exact = _exact(value, "molar energy")
-    if exact is not None:
-        return exact
-    import pint
+    energy = _exact(value, "molar energy")
+    if energy is None:
+        import pint
 
-    q = _as_quantity(value, "molar energy")
-    try:
-        energy = np.asarray(q.to("J/mol").magnitude, dtype=float)
-    except pint.errors.DimensionalityError:
-        raise UnitError(value, "molar energy", f"{q.units} is not an energy per amount") from None
+        q = _as_quantity(value, "molar energy")
+        try:
+            energy = np.asarray(q.to("J/mol").magnitude, dtype=float)
+        except pint.errors.DimensionalityError:
+            raise UnitError(
+                value, "molar energy", f"{q.units} is not an energy per amount"
+            ) from None
     if not np.all(np.isfinite(energy)) or np.any(np.abs(energy) > MAX_MOLAR_ENERGY_J):
         raise UnitError(
             value,
