@@ -288,7 +288,8 @@ def curves_patch(c: Curves, temperature_unit: str = "K") -> dict[str, Any]:
         "layout": {
             "title": {"text": c.equation},
             "xaxis3": {"title": {"text": f"{g} (kJ/mol)"}},
-            "yaxis": {"title": {"text": f"{g} (kJ/mol)"}},
+            # The ΔrG axis of the first panel: plotly's overlaying axis (yaxis2), see _GIBBS_AXIS.
+            ("yaxis2" if _GIBBS_AXIS else "yaxis"): {"title": {"text": f"{g} (kJ/mol)"}},
         },
     }
 

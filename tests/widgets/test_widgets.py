@@ -414,6 +414,6 @@ def test_equation_and_pressure_changes_update_the_figure_in_place(sheet, monkeyp
     assert builds == [] and sheet.panel.figure is fig
     assert all(a is b for a, b in zip(fig.data, traces, strict=True))
     assert list(fig.data[median].y) == pytest.approx(list(sheet.result.G.median / 1000))
-    assert "ΔrG (kJ/mol)" in fig.layout.yaxis.title.text  # ΔrG° became ΔrG
+    assert "ΔrG (kJ/mol)" in fig.layout.yaxis2.title.text  # ΔrG° became ΔrG (overlaying axis)
     sheet.temperature.unit = "°C"  # a new display unit redraws every axis
     assert len(builds) == 1 and sheet.panel.figure is fig
