@@ -198,11 +198,11 @@ class Library(ProxyPickling):
 
     def by_name(self, name: str) -> list[Species]:
         """Entries with this name (any case; runs of spaces and underscores read as one space)."""
-        return list(self._by_name.get(_norm(name), []))
+        return [self._get(k) for k in self._by_name.get(_norm(name), [])]
 
     def by_cas(self, cas: str) -> list[Species]:
         """Entries with this CAS registry number."""
-        return list(self._by_cas.get(cas.strip(), []))
+        return [self._get(k) for k in self._by_cas.get(cas.strip(), [])]
 
     def same_composition(self, formula: str) -> list[Species]:
         """Entries with the same elements and charge as ``formula`` (isomers included)."""
