@@ -1,8 +1,10 @@
-"""Build hook: compile feasibly's C kernels (``src/feasibly/uncertainty/_scan.c``) into the wheel.
+"""Build hook: compile feasibly's C kernels (``src/feasibly/uncertainty/_scan.c``) into the wheel,
+and write the index of the species file (``src/feasibly/library/_index.py``) beside it.
 
 hatchling runs this when it builds a wheel (``[tool.hatch.build.targets.wheel.hooks.custom]`` in
 pyproject.toml). ``python hatch_build.py`` compiles the same library into the source tree, for
-running the tests against ``src/`` (``bin/build-kernel`` does that).
+running the tests against ``src/`` (``bin/build-kernel`` does that), and writes the index into
+``src/feasibly/_data/`` (ignored by git; a stale index is recognised by its byte hash and ignored).
 
 Without a C compiler the wheel is built without the library and feasibly's summaries select with
 numpy instead: the same numbers, a few times slower (``feasibly.uncertainty._scan.compiled()``
@@ -11,6 +13,8 @@ says which).
 
 from __future__ import annotations
 
+import importlib.util
+import json
 import os
 import shlex
 import subprocess
@@ -25,6 +29,28 @@ LIBRARY = "uncertainty/_lib/libfeasibly_scan.so"
 # -ffp-contract=off: no fused multiply-add, so the C kernel and the numpy kernel agree to the bit
 # (the tests compare them). No -ffast-math: comparisons with ±inf and NaN must keep IEEE meaning.
 FLAGS = ["-O3", "-std=c11", "-fPIC", "-shared", "-ffp-contract=off", "-Wall", "-Werror"]
+
+
+INDEXER = HERE / "src" / "feasibly" / "library" / "_index.py"
+SPECIES = HERE / "data" / "species-library.json"
+
+
+def write_index(target_dir: Path) -> Path:
+    """Write the species index for ``data/species-library.json`` into ``target_dir``.
+
+    Raises ValueError when the file's content hash does not hold (the index is then not written
+    and feasibly reads the whole file, reporting the problem).
+    """
+    spec = importlib.util.spec_from_file_location("_feasibly_index", INDEXER)
+    assert spec is not None and spec.loader is not None
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    index = module.build_index(SPECIES.read_bytes())
+    target_dir.mkdir(parents=True, exist_ok=True)
+    target = target_dir / module.INDEX_NAME
+    # Compact separators: the index is read at every start-up.
+    target.write_text(json.dumps(index, separators=(",", ":"), ensure_ascii=True), "utf-8")
+    return target
 
 
 def compile_kernel(target: Path) -> None:
@@ -44,7 +70,15 @@ class KernelBuildHook(BuildHookInterface):  # type: ignore[misc,valid-type]
     """Adds the compiled kernels to the wheel, which then is tagged for this platform."""
 
     def initialize(self, version: str, build_data: dict) -> None:  # type: ignore[type-arg]
-        if self.target_name != "wheel" or sys.platform == "win32":
+        if self.target_name != "wheel":
+            return
+        try:
+            index = write_index(Path(self.directory) / "index-build")
+        except ValueError as exc:
+            self.app.display_warning(f"feasibly: species index not written ({exc})")
+        else:
+            build_data["force_include"][str(index)] = f"feasibly/_data/{index.name}"
+        if sys.platform == "win32":
             return
         target = Path(self.directory) / "kernel-build" / Path(LIBRARY).name
         try:
@@ -63,3 +97,4 @@ if __name__ == "__main__":
     out = HERE / "src" / "feasibly" / LIBRARY
     compile_kernel(out)
     print(f"compiled {out.relative_to(HERE)}")
+    print(f"wrote {write_index(HERE / 'src' / 'feasibly' / '_data').relative_to(HERE)}")

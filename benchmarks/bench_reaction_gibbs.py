@@ -1,30 +1,35 @@
 #!/usr/bin/env python
-"""Benchmark: ΔrG° over 1000 temperatures for a 6-species reaction, feasibly vs Cantera.
+"""Benchmark: ΔrG° over 1000 temperatures for a 6-species reaction, feasibly vs numpy and Cantera.
 
 Reaction: 2 CH4 + O2 + CO2 -> 3 CO + 3 H2 + H2O (partial-oxidation/dry-reforming mix; six distinct
 gas species, every one valid 200–6000 K with one NASA-7 break at 1000 K). T = 300…3000 K.
 
-Routes timed in the same run (best of N repeats with timeit):
-  feasibly   feasibly.standard_properties(rxn, T) (reaction parse done once, outside the timing)
+Routes, interleaved over --rounds rounds (each round times every route in turn):
+  feasibly   feasibly.standard_properties(rxn, T).dG (reaction parse done once, outside the timing;
+             the call also returns ΔrH°, ΔrS°, ΔrCp° and the phases used)
+  numpy      plain vectorised numpy on the same NASA-7 coefficients: per species, pick each T's
+             interval, evaluate H/RT and S/R, then Σν G (coefficient arrays prepared outside)
   ct-loop    Cantera species built from the library's own coefficients (tests/reference/_refs.py),
              Σν (thermo.h(T) − T thermo.s(T)) looping over T and species in Python
   ct-array   Cantera's vectorised route: ct.Solution(thermo="ideal-gas", species=...) with a
              SolutionArray of 1000 states; standard_gibbs_RT · R T, then Σν
 
-Also prints the max |ΔrG°(feasibly) − ΔrG°(Cantera)| so speed is never bought with wrong answers.
-Run by hand:  python benchmarks/bench_reaction_gibbs.py  [--repeat N]
+Prints min/median/max of the per-round ratios and the max |ΔrG°(feasibly) − ΔrG°(other)| so speed
+is never bought with wrong answers.
+Run by hand:  python benchmarks/bench_reaction_gibbs.py  [--rounds N]
 """
 
 from __future__ import annotations
 
 import argparse
 import importlib.util
-import timeit
 from pathlib import Path
 
 import numpy as np
+from _rounds import interleave, ratio_line, time_line
 
 import feasibly
+from feasibly.library import R
 
 EQUATION = "2 CH4(g) + O2(g) + CO2(g) -> 3 CO(g) + 3 H2(g) + H2O(g)"
 NU = {"CH4(g)": -2, "O2(g)": -1, "CO2(g)": -1, "CO(g)": 3, "H2(g)": 3, "H2O(g)": 1}
@@ -40,7 +45,8 @@ def _refs():
 
 def main() -> None:
     ap = argparse.ArgumentParser()
-    ap.add_argument("--repeat", type=int, default=7, help="timeit repeats (best is reported)")
+    ap.add_argument("--rounds", type=int, default=9, help="interleaved rounds (at least 5)")
+    ap.add_argument("--number", type=int, default=20, help="calls per route per round")
     args = ap.parse_args()
 
     import cantera as ct
@@ -53,6 +59,31 @@ def main() -> None:
 
     def run_feasibly() -> np.ndarray:
         return feasibly.standard_properties(rxn, T).dG
+
+    # Plain numpy on the same coefficients: everything that does not depend on T is prepared here.
+    plain = []
+    for sid, n in NU.items():
+        m = lib[sid].cp_model
+        h_ref, s_ref = m.absolute_298()
+        plain.append(
+            (
+                float(n),
+                np.asarray(m.breaks[1:-1]),
+                m.coeffs,
+                lib[sid].dHf.value - h_ref,
+                lib[sid].S298.value - s_ref,
+            )
+        )
+
+    def run_numpy() -> np.ndarray:
+        total = np.zeros(T.size)
+        logT = np.log(T)
+        for n, inner, c, off_h, off_s in plain:
+            a = c[np.searchsorted(inner, T, side="left")].T
+            h_rt = a[0] + T * (a[1] / 2 + T * (a[2] / 3 + T * (a[3] / 4 + T * a[4] / 5))) + a[5] / T
+            s_r = a[0] * logT + T * (a[1] + T * (a[2] / 2 + T * (a[3] / 3 + T * a[4] / 4))) + a[6]
+            total += n * (R * T * (h_rt - s_r) + off_h - T * off_s)
+        return total
 
     def run_ct_loop() -> np.ndarray:
         out = np.empty(T.size)
@@ -75,33 +106,31 @@ def main() -> None:
         g_rt = arr.standard_gibbs_RT  # (n_T, n_species), dimensionless
         return (g_rt @ nu_vec) * (ct.gas_constant / 1000.0) * T
 
-    results = {"feasibly": run_feasibly(), "ct-loop": run_ct_loop(), "ct-array": run_ct_array()}
-    times = {}
-    for name, fn in (
-        ("feasibly", run_feasibly),
-        ("ct-loop", run_ct_loop),
-        ("ct-array", run_ct_array),
-    ):
-        timer = timeit.Timer(fn)
-        n, _ = timer.autorange()
-        best = min(timer.repeat(repeat=args.repeat, number=n)) / n
-        times[name] = best
+    results = {
+        "feasibly": run_feasibly(),
+        "numpy": run_numpy(),
+        "ct-loop": run_ct_loop(),
+        "ct-array": run_ct_array(),
+    }
+    # The Python loop over Cantera is ~1000× slower: one call per round keeps the run short.
+    fast = interleave(
+        {"feasibly": run_feasibly, "numpy": run_numpy, "ct-array": run_ct_array},
+        args.rounds,
+        args.number,
+    )
+    loop = interleave({"feasibly": run_feasibly, "ct-loop": run_ct_loop}, args.rounds, 1)
 
     print(f"reaction: {rxn.equation()}   ({T.size} temperatures, {T[0]:g}–{T[-1]:g} K)")
     print(f"feasibly {feasibly.__version__}, cantera {ct.__version__}, numpy {np.__version__}")
-    for name, t in times.items():
-        print(f"  {name:9s} {t * 1e3:9.3f} ms per call (best of {args.repeat})")
-    print(f"  ratio ct-loop / feasibly  = {times['ct-loop'] / times['feasibly']:8.2f}")
-    ratio = times["ct-array"] / times["feasibly"]
-    print(f"  ratio ct-array / feasibly = {ratio:8.2f}")
-    ref = results["ct-loop"]
-    print(
-        f"  max |ΔrG° feasibly − ct-loop|  = {np.max(np.abs(results['feasibly'] - ref)):.3e} J/mol"
-    )
-    print(
-        f"  max |ΔrG° feasibly − ct-array| = "
-        f"{np.max(np.abs(results['feasibly'] - results['ct-array'])):.3e} J/mol"
-    )
+    for name, t in fast.items():
+        print("  " + time_line(f"{name:9s} per call", t))
+    print("  " + time_line(f"{'ct-loop':9s} per call", loop["ct-loop"]))
+    print("  " + ratio_line("numpy / feasibly   ", fast["numpy"], fast["feasibly"]))
+    print("  " + ratio_line("ct-array / feasibly", fast["ct-array"], fast["feasibly"]))
+    print("  " + ratio_line("ct-loop / feasibly ", loop["ct-loop"], loop["feasibly"]))
+    for other in ("numpy", "ct-loop", "ct-array"):
+        diff = np.max(np.abs(results["feasibly"] - results[other]))
+        print(f"  max |ΔrG° feasibly − {other}| = {diff:.3e} J/mol")
 
 
 if __name__ == "__main__":

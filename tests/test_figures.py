@@ -127,3 +127,27 @@ def test_sweep_and_route_figures():
     r = figures.route_figure([("A", [0.5], 0.5, 0.5), ("B", [0.6, 0.7], 0.35, 0.42)])
     assert [t.name for t in r.data][-2:] == ["all steps (shared draws)", "all steps if independent"]
     assert r.layout.yaxis.title.text == "probability (%)"
+
+
+def test_patching_a_figure_gives_the_figure_of_the_new_result() -> None:
+    # curves_patch + snapshot_patch on a figure drawn for one result must give exactly the
+    # figure drawn for the other: the widgets update in place instead of rebuilding.
+    import json
+
+    a = assess_uncertainty("MgCO3 -> MgO + CO2", T_range=("500 K", "900 K"), samples=2048, seed=1)
+    b = assess_uncertainty(
+        "CaCO3 -> CaO + CO2",
+        T_range=("600 K", "1100 K"),
+        samples=2048,
+        seed=2,
+        partial_pressures={"CO2": "0.1 bar"},
+        confidence=0.9,
+    )
+    ca, cb = figures.curves(a), figures.curves(b)
+    sa, sb = figures.snapshot(a, 700.0), figures.snapshot(b, 900.0)
+    for unit in ("K", "°C"):
+        fig = figures.feasibility_figure(ca, sa, unit)
+        figures.apply_patch(fig, figures.curves_patch(cb, unit))
+        figures.apply_patch(fig, figures.snapshot_patch(cb, sb, unit))
+        want = figures.feasibility_figure(cb, sb, unit)
+        assert json.loads(fig.to_json()) == json.loads(want.to_json())

@@ -27,51 +27,111 @@ Layer rule: a wing imports its own modules and the wings on lower levels only, a
 plotting code. ``tests/test_layers.py`` checks both.
 """
 
+import importlib
+from typing import TYPE_CHECKING, Any
+
 from .__about__ import __version__
-from .equilibrium.conversion import (
-    ConversionBands,
-    Equilibrium,
-    ExtentEquilibrium,
-    conversion_assessment,
-    conversion_bands,
-    equilibrate,
-    equilibrium_extent,
-)
-from .errors import (
-    AmbiguousBalance,
-    DataFileError,
-    EquilibriumNotConverged,
-    ExportError,
-    FeasiblyError,
-    InvalidInput,
-    InvalidTemperature,
-    InvalidUncertainty,
-    OutsideDataRange,
-    ReactionSyntaxError,
-    RecordError,
-    UnbalancedReaction,
-    UnitError,
-    UnknownSpecies,
-)
-from .library.catalogue import Library, default_library, standard_uncertainty
-from .library.formula import parse_formula, pretty_formula
-from .library.species import Species
-from .records import (
-    VerifyResult,
-    load_record,
-    make_record,
-    record_from,
-    sign_record,
-    verify_record,
-    write_record,
-)
-from .thermo.assessment import Assessment, assess
-from .thermo.properties import StandardProperties, crossover_temperatures, standard_properties
-from .thermo.reaction import Reaction
-from .thermo.safety import Caution
-from .uncertainty import Route, UncertainAssessment, assess_route, assess_uncertainty
-from .uncertainty.inputs import Override, parse_override
-from .units import Q_, ureg
+
+if TYPE_CHECKING:
+    from .equilibrium.conversion import (
+        ConversionBands,
+        Equilibrium,
+        ExtentEquilibrium,
+        conversion_assessment,
+        conversion_bands,
+        equilibrate,
+        equilibrium_extent,
+    )
+    from .errors import (
+        AmbiguousBalance,
+        DataFileError,
+        EquilibriumNotConverged,
+        ExportError,
+        FeasiblyError,
+        InvalidInput,
+        InvalidTemperature,
+        InvalidUncertainty,
+        OutsideDataRange,
+        ReactionSyntaxError,
+        RecordError,
+        UnbalancedReaction,
+        UnitError,
+        UnknownSpecies,
+    )
+    from .library.catalogue import Library, default_library, standard_uncertainty
+    from .library.formula import parse_formula, pretty_formula
+    from .library.species import Species
+    from .records import (
+        VerifyResult,
+        load_record,
+        make_record,
+        record_from,
+        sign_record,
+        verify_record,
+        write_record,
+    )
+    from .thermo.assessment import Assessment, assess
+    from .thermo.properties import StandardProperties, crossover_temperatures, standard_properties
+    from .thermo.reaction import Reaction
+    from .thermo.safety import Caution
+    from .uncertainty import Route, UncertainAssessment, assess_route, assess_uncertainty
+    from .uncertainty.inputs import Override, parse_override
+    from .units import Q_, ureg
+
+
+#: Where each public name lives; the module is imported on first access (PEP 562), so
+#: ``import feasibly`` and ``feasibly --version`` do not load scipy, pint or the data.
+_LAZY = {
+    "AmbiguousBalance": ".errors",
+    "Assessment": ".thermo.assessment",
+    "Caution": ".thermo.safety",
+    "ConversionBands": ".equilibrium.conversion",
+    "DataFileError": ".errors",
+    "Equilibrium": ".equilibrium.conversion",
+    "EquilibriumNotConverged": ".errors",
+    "ExportError": ".errors",
+    "ExtentEquilibrium": ".equilibrium.conversion",
+    "FeasiblyError": ".errors",
+    "InvalidInput": ".errors",
+    "InvalidTemperature": ".errors",
+    "InvalidUncertainty": ".errors",
+    "Library": ".library.catalogue",
+    "OutsideDataRange": ".errors",
+    "Override": ".uncertainty.inputs",
+    "Q_": ".units",
+    "Reaction": ".thermo.reaction",
+    "ReactionSyntaxError": ".errors",
+    "RecordError": ".errors",
+    "Route": ".uncertainty",
+    "Species": ".library.species",
+    "StandardProperties": ".thermo.properties",
+    "UnbalancedReaction": ".errors",
+    "UncertainAssessment": ".uncertainty",
+    "UnitError": ".errors",
+    "UnknownSpecies": ".errors",
+    "VerifyResult": ".records",
+    "assess": ".thermo.assessment",
+    "assess_route": ".uncertainty",
+    "assess_uncertainty": ".uncertainty",
+    "conversion_assessment": ".equilibrium.conversion",
+    "conversion_bands": ".equilibrium.conversion",
+    "crossover_temperatures": ".thermo.properties",
+    "default_library": ".library.catalogue",
+    "equilibrate": ".equilibrium.conversion",
+    "equilibrium_extent": ".equilibrium.conversion",
+    "load_record": ".records",
+    "make_record": ".records",
+    "parse_formula": ".library.formula",
+    "parse_override": ".uncertainty.inputs",
+    "pretty_formula": ".library.formula",
+    "record_from": ".records",
+    "sign_record": ".records",
+    "standard_properties": ".thermo.properties",
+    "standard_uncertainty": ".library.catalogue",
+    "ureg": ".units",
+    "verify_record": ".records",
+    "write_record": ".records",
+}
 
 __all__ = [
     "Q_",
@@ -125,3 +185,17 @@ __all__ = [
     "verify_record",
     "write_record",
 ]
+
+
+def __getattr__(name: str) -> Any:
+    try:
+        module = _LAZY[name]
+    except KeyError:
+        raise AttributeError(f"module 'feasibly' has no attribute {name!r}") from None
+    value = getattr(importlib.import_module(module, __name__), name)
+    globals()[name] = value  # later look-ups skip this function
+    return value
+
+
+def __dir__() -> list[str]:
+    return sorted(set(globals()) | set(__all__))

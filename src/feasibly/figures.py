@@ -250,6 +250,60 @@ def snapshot_patch(c: Curves, s: Snapshot, temperature_unit: str = "K") -> dict[
     }
 
 
+def curves_patch(c: Curves, temperature_unit: str = "K") -> dict[str, Any]:
+    """What changes with a new result (equation, pressures, sampling): the curve traces by
+    index, the titles that name ΔrG or ΔrG°, and the main title.
+
+    ``{"traces": {index: properties}, "titles": {annotation index: text}, "layout": {...}}``,
+    like :func:`snapshot_patch`; together they turn a figure drawn for one result into the
+    figure of another (same display unit) inside one ``batch_update``, with no rebuild.
+    """
+    u = temperature_unit
+    g = _gibbs_symbol(c)
+    T = from_kelvin(c.T_K, u)
+    thr = c.threshold_kJ
+    zero_name = f"{g} = {thr:g} kJ/mol" if thr else f"{g} = 0"
+    mid = 0.5 * (c.crossing_edges_K[1:] + c.crossing_edges_K[:-1])
+    i = TRACES.index
+    return {
+        "traces": {
+            i("95 % upper"): {"x": T, "y": c.hi95},
+            i("95 % interval"): {"x": T, "y": c.lo95},
+            i("68 % upper"): {"x": T, "y": c.hi68},
+            i("68 % interval"): {"x": T, "y": c.lo68},
+            i("median"): {"x": T, "y": c.median, "name": f"median {g}"},
+            i("zero line"): {"x": [T[0], T[-1]], "y": [thr, thr], "name": zero_name},
+            i("crossover temperature"): {"x": from_kelvin(mid, u), "y": c.crossing_percent},
+            i("P(feasible)"): {"x": T, "y": 100 * c.p_feasible},
+            i("confidence level"): {
+                "x": [T[0], T[-1], None, T[0], T[-1]],
+                "y": [100 * c.confidence] * 2 + [None] + [100 * (1 - c.confidence)] * 2,
+                "name": (
+                    f"confidence level {100 * c.confidence:g} % / {100 * (1 - c.confidence):g} %"
+                ),
+            },
+            i("zero line (histogram)"): {"x": [thr, thr], "name": zero_name + " (histogram)"},
+        },
+        "titles": {0: f"{g} against temperature"},
+        "layout": {
+            "title": {"text": c.equation},
+            "xaxis3": {"title": {"text": f"{g} (kJ/mol)"}},
+            # The ΔrG axis of the first panel: plotly's overlaying axis (yaxis2), see _GIBBS_AXIS.
+            ("yaxis2" if _GIBBS_AXIS else "yaxis"): {"title": {"text": f"{g} (kJ/mol)"}},
+        },
+    }
+
+
+def apply_patch(fig: Any, patch: dict[str, Any]) -> None:
+    """Apply a :func:`curves_patch` or :func:`snapshot_patch` to ``fig`` (call inside a
+    ``batch_update`` for a FigureWidget, so the browser gets one message)."""
+    for index, props in patch["traces"].items():
+        fig.data[index].update(props)
+    for index, text in patch["titles"].items():
+        fig.layout.annotations[index].text = text
+    fig.update_layout(patch["layout"])
+
+
 def feasibility_figure(
     c: Curves,
     s: Snapshot,
@@ -474,12 +528,7 @@ def feasibility_figure(
     )
     for ann in fig.layout.annotations:  # subplot titles a little smaller than the main title
         ann.font = {"size": 12}
-    patch = snapshot_patch(c, s, u)
-    for index, props in patch["traces"].items():
-        fig.data[index].update(props)
-    for index, text in patch["titles"].items():
-        fig.layout.annotations[index].text = text
-    fig.update_layout(patch["layout"])
+    apply_patch(fig, snapshot_patch(c, s, u))
     return fig
 
 

@@ -10,13 +10,15 @@ from __future__ import annotations
 
 import re
 from functools import cache
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
-import pint
 
 from ._limits import MAX_QUANTITY_CHARS
 from .errors import InvalidTemperature, UnitError, excerpt
+
+if TYPE_CHECKING:
+    import pint
 
 __all__ = [
     "MAX_MOLAR_ENERGY_J",
@@ -34,13 +36,27 @@ __all__ = [
 
 @cache
 def _registry() -> pint.UnitRegistry:
+    # pint and its registry load on first use (about 0.4 s): the common spellings below are
+    # converted without it, so a command-line screen never pays for the registry.
+    import pint
+
     reg: pint.UnitRegistry = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
     reg.formatter.default_format = "~P"
     return reg
 
 
-ureg = _registry()
-Q_ = ureg.Quantity
+def __getattr__(name: str) -> Any:
+    # ``ureg`` and ``Q_`` are module attributes built on first access (PEP 562).
+    if name == "ureg":
+        return _registry()
+    if name == "Q_":
+        return _registry().Quantity
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+
+
+if TYPE_CHECKING:
+    ureg: pint.UnitRegistry
+    Q_: Any
 
 # Temperature spellings chemists type that pint does not read as intended ("C" alone is coulomb).
 _ALIASES = {"°C": "degC", "°F": "degF", "℃": "degC", "C": "degC", "F": "degF", "°K": "K"}
@@ -68,6 +84,8 @@ _EXAMPLES = {
 
 def _unit(text: Any, value: Any, kind: str) -> pint.Unit:
     """The unit named by ``text`` (one unit expression, no number), or a UnitError."""
+    import pint
+
     if isinstance(text, pint.Unit):
         return text
     if not isinstance(text, str):
@@ -88,7 +106,7 @@ def _unit(text: Any, value: Any, kind: str) -> pint.Unit:
             f"(no spaces, commas or lists inside the number), e.g. {_EXAMPLES.get(kind, _ANY)}",
         )
     try:
-        unit = ureg.parse_units(name)
+        unit = _registry().parse_units(name)
     except Exception as exc:
         raise UnitError(
             value, kind, f"unit {excerpt(name)} not understood ({type(exc).__name__})"
@@ -113,7 +131,62 @@ def _magnitude(magnitude: Any, value: Any, kind: str) -> np.ndarray:
     return arr
 
 
+#: Spellings converted without pint, as (factor, offset): SI = value * factor + offset, with
+#: the factor and offset applied only where they are not 1 and 0. These are the operations pint
+#: itself performs for these units (tests/test_units.py compares both to the bit).
+_EXACT: dict[str, dict[str, tuple[float, float]]] = {
+    "temperature": {"K": (1.0, 0.0), "kelvin": (1.0, 0.0), "degC": (1.0, 273.15)},
+    "pressure": {
+        "Pa": (1.0, 0.0),
+        "kPa": (1000.0, 0.0),
+        "MPa": (1e6, 0.0),
+        "bar": (100000.0, 0.0),
+        "mbar": (100.0, 0.0),
+        "atm": (101325.0, 0.0),
+    },
+    "molar energy": {"J/mol": (1.0, 0.0), "kJ/mol": (1000.0, 0.0)},
+}
+
+
+def _exact(value: Any, kind: str) -> np.ndarray | None:
+    """SI floats for a common spelling of ``kind``, or None to let pint read ``value``.
+
+    The same grammar as the pint path (one number, then one unit; the same aliases, length
+    limit and magnitude checks), so both give the same numbers and the same refusals.
+    """
+    table = _EXACT[kind]
+    if isinstance(value, str):
+        if len(value) > MAX_QUANTITY_CHARS:
+            return None
+        text = value.strip()
+        number = _NUMBER.match(text)
+        if number is None:
+            return None
+        name = text[number.end() :].strip()
+        name = _ALIASES.get(name, name)
+        if name not in table:
+            return None
+        x = np.asarray(float(number.group()))
+    elif isinstance(value, tuple) and len(value) == 2 and isinstance(value[1], str):
+        name = value[1].strip()
+        name = _ALIASES.get(name, name)
+        if name not in table:
+            return None
+        x = _magnitude(value[0], value, kind)
+    else:
+        return None
+    factor, offset = table[name]
+    if factor != 1.0:
+        x = x * factor
+    if offset != 0.0:
+        x = x + offset
+    return x
+
+
 def _as_quantity(value: Any, kind: str) -> pint.Quantity:
+    import pint
+
+    Q_ = _registry().Quantity
     if isinstance(value, pint.Quantity):
         return Q_(_magnitude(value.magnitude, value, kind), value.units)
     if isinstance(value, tuple) and len(value) == 2:
@@ -147,14 +220,19 @@ def to_kelvin(value: Any) -> np.ndarray:
 
     >>> float(to_kelvin("25 degC"))
     298.15
+    >>> from feasibly.units import Q_
     >>> to_kelvin(Q_([300, 400], "K")).tolist()
     [300.0, 400.0]
     """
-    q = _as_quantity(value, "temperature")
-    try:
-        kelvin = np.asarray(q.to("K").magnitude, dtype=float)
-    except pint.errors.DimensionalityError:
-        raise UnitError(value, "temperature", f"{q.units} is not a temperature unit") from None
+    kelvin = _exact(value, "temperature")
+    if kelvin is None:
+        import pint
+
+        q = _as_quantity(value, "temperature")
+        try:
+            kelvin = np.asarray(q.to("K").magnitude, dtype=float)
+        except pint.errors.DimensionalityError:
+            raise UnitError(value, "temperature", f"{q.units} is not a temperature unit") from None
     if not np.all(np.isfinite(kelvin)):
         raise InvalidTemperature(value, "not a finite number")
     if np.any(kelvin <= 0.0):
@@ -170,11 +248,15 @@ def to_pascal(value: Any) -> np.ndarray:
     >>> float(to_pascal("1 bar"))
     100000.0
     """
-    q = _as_quantity(value, "pressure")
-    try:
-        pa = np.asarray(q.to("Pa").magnitude, dtype=float)
-    except pint.errors.DimensionalityError:
-        raise UnitError(value, "pressure", f"{q.units} is not a pressure unit") from None
+    pa = _exact(value, "pressure")
+    if pa is None:
+        import pint
+
+        q = _as_quantity(value, "pressure")
+        try:
+            pa = np.asarray(q.to("Pa").magnitude, dtype=float)
+        except pint.errors.DimensionalityError:
+            raise UnitError(value, "pressure", f"{q.units} is not a pressure unit") from None
     if not np.all(np.isfinite(pa)) or np.any(pa <= 0.0):
         raise UnitError(value, "pressure", "pressures must be positive and finite")
     if np.any(pa < MIN_PRESSURE_PA) or np.any(pa > MAX_PRESSURE_PA):
@@ -193,11 +275,17 @@ def to_energy_per_mol(value: Any) -> np.ndarray:
     >>> float(to_energy_per_mol("-4 kJ/mol"))
     -4000.0
     """
-    q = _as_quantity(value, "molar energy")
-    try:
-        energy = np.asarray(q.to("J/mol").magnitude, dtype=float)
-    except pint.errors.DimensionalityError:
-        raise UnitError(value, "molar energy", f"{q.units} is not an energy per amount") from None
+    energy = _exact(value, "molar energy")
+    if energy is None:
+        import pint
+
+        q = _as_quantity(value, "molar energy")
+        try:
+            energy = np.asarray(q.to("J/mol").magnitude, dtype=float)
+        except pint.errors.DimensionalityError:
+            raise UnitError(
+                value, "molar energy", f"{q.units} is not an energy per amount"
+            ) from None
     if not np.all(np.isfinite(energy)) or np.any(np.abs(energy) > MAX_MOLAR_ENERGY_J):
         raise UnitError(
             value,
@@ -221,5 +309,5 @@ def from_kelvin(T_K: Any, unit: str) -> np.ndarray:
         raise UnitError(
             unit, "display unit of temperature", f"use one of {', '.join(TEMPERATURE_UNITS)}"
         )
-    q = Q_(np.asarray(T_K, dtype=float), "K")
+    q = _registry().Quantity(np.asarray(T_K, dtype=float), "K")
     return np.asarray(q.to(TEMPERATURE_UNITS[unit]).magnitude, dtype=float)

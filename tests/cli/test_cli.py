@@ -354,3 +354,36 @@ def test_assess_call_at_required_conversion_leads_and_agrees_with_the_conversion
     meets = [r["meets_required"] for r in doc["conversion"]["rows"]]
     assert calls == ["favourable" if m else "not favourable" for m in meets]
     assert all(r["dG_J_per_mol"] > 0 for r in doc["rows"])
+
+
+def _modules_after(*argv: str) -> set[str]:
+    code = (
+        "import sys, contextlib, io\n"
+        "from feasibly.cli import main\n"
+        "with contextlib.redirect_stdout(io.StringIO()):\n"
+        "    try:\n"
+        f"        main({list(argv)!r})\n"
+        "    except SystemExit:\n"
+        "        pass\n"
+        "from feasibly.library import default_library\n"
+        "from feasibly.library._reader import PendingEntry\n"
+        "lib = sys.modules['feasibly.library.catalogue'].default_library\n"
+        "built = sum(not isinstance(e, PendingEntry) for e in lib()._entries.values())\n"
+        "print(built)\n"
+        "print(' '.join(sys.modules))\n"
+    )
+    out = subprocess.run(
+        [sys.executable, "-c", code], capture_output=True, text=True, check=True
+    ).stdout.splitlines()
+    return {f"built={out[0]}", *out[1].split()}
+
+
+def test_version_and_a_plain_screen_load_no_scipy_pint_or_plotly() -> None:
+    # Start-up: these take most of a second to import and a plain screen needs none of them.
+    heavy = {"scipy", "scipy.stats", "scipy.optimize", "pint", "plotly"}
+    assert not heavy & _modules_after("--version")
+    loaded = _modules_after("assess", "CO + H2O -> CO2 + H2", "--T", "900", "K")
+    assert not heavy & loaded
+    # Only the entries the equation can use are built (CO, H2O, CO2, H2 in their phases).
+    built = int(next(m for m in loaded if m.startswith("built="))[6:])
+    assert 4 <= built <= 12

@@ -208,3 +208,83 @@ def test_tampered_hash_is_detected() -> None:
     tampered["species"][0]["dHf_298"]["value"] = -74000.0
     with pytest.raises(DataFileError, match="changed after it was hashed"):
         Library.from_text(json.dumps(tampered), "tampered.json")
+
+
+# --- the prebuilt index of the shipped file (feasibly.library._index) ---------------------------
+
+
+def _shipped_bytes() -> bytes:
+    from feasibly._files import data_bytes
+
+    return data_bytes("species-library.json")
+
+
+def test_index_reads_every_entry_back_as_the_full_reader_does() -> None:
+    from feasibly.library._index import build_index, read_index
+    from feasibly.library._reader import _from_index, _parse_document, _read_species
+
+    data = _shipped_bytes()
+    text = data.decode("utf-8")
+    index = read_index(data, json.dumps(build_index(data)))
+    assert index is not None
+    pending, meta = _from_index(index, text, "species-library.json", "library")
+    eager, eager_meta = _read_species(
+        _parse_document(text, "species-library.json"), "species-library.json", "library", True
+    )
+    assert meta == eager_meta
+    assert [p.id for p in pending] == [sp.id for sp in eager]
+    for p, sp in zip(pending, eager, strict=True):
+        built = p.build()
+        assert (built.formula, built.names, built.cas) == (sp.formula, sp.names, sp.cas)
+        assert (p.formula, p.names, p.cas) == (sp.formula, sp.names, sp.cas)
+        assert built.provenance() == sp.provenance()
+        assert dict(built.raw) == dict(sp.raw)
+
+
+def test_every_shipped_entry_validates(lib: Library) -> None:
+    # Entries are validated on first use; this builds all of them, so a bad one fails here.
+    assert len(list(lib)) == len(lib)
+
+
+def test_stale_or_foreign_index_is_ignored() -> None:
+    from feasibly.library._index import build_index, read_index
+
+    data = _shipped_bytes()
+    index = json.dumps(build_index(data))
+    assert read_index(data + b" ", index) is None  # the file changed after the index was built
+    assert read_index(data, "{not json") is None
+    assert read_index(data, json.dumps({"format": "other"})) is None
+    assert read_index(data, None) is None
+
+
+def test_index_is_not_built_for_a_tampered_file() -> None:
+    from feasibly.library._index import build_index
+
+    doc = json.loads(_shipped_bytes())
+    doc["species"][0]["dHf_298"]["value"] += 1.0  # content no longer matches content_sha256
+    with pytest.raises(ValueError, match="content_sha256"):
+        build_index(json.dumps(doc).encode())
+
+
+def test_a_bad_entry_is_reported_with_entry_and_field_when_first_used() -> None:
+    from feasibly.library._index import build_index, read_index
+    from feasibly.library._reader import _from_index
+
+    bad = _good_entry()
+    bad["S_298"]["u"] = -1.0
+    species = [_good_entry() | {"formula": "C2H6", "T_range_K": [300.0, 600.0]}, bad]
+    species[0]["id"] = "C2H6(g)"
+    doc = {
+        "schema": "feasibly-species",
+        "schema_version": 1,
+        "content_sha256": canonical_hash(species),
+        "species": species,
+    }
+    data = json.dumps(doc, indent=1).encode()
+    index = read_index(data, json.dumps(build_index(data)))
+    assert index is not None
+    pending, _ = _from_index(index, data.decode(), "mine.json", "user")
+    lazy = Library(pending)
+    assert "CH4(g)" in lazy  # look-up needs no validation
+    with pytest.raises(DataFileError, match=r"entry 1 \(CH4\): field S_298.u"):
+        lazy["CH4(g)"]

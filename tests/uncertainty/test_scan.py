@@ -255,3 +255,33 @@ def test_without_the_compiled_kernel_rows_are_formed_and_selected_by_numpy(
     for got, want in zip((s.lo, s.median, s.hi), ref, strict=True):
         np.testing.assert_allclose(got, want, rtol=1e-13, atol=1e-9)
     np.testing.assert_array_equal(s.p_below * samples.n, (g < 0).sum(axis=1))
+
+
+def test_low_rank_keeps_every_direction_its_acceptance_test_needs() -> None:
+    # A rank-5 matrix plus one direction at 1e-14 of the largest entry: above the 16-ulp
+    # acceptance tolerance, so it must be kept (rank 6) rather than cut and then refused.
+    rng = np.random.default_rng(39)  # seeded: the same matrix every run
+    coef = rng.standard_normal((50, 5)) @ rng.standard_normal((5, 20))
+    u, v = rng.standard_normal(50), rng.standard_normal(20)
+    top = np.abs(coef).max()
+    coef = coef + 1e-14 * top * np.outer(u / np.abs(u).max(), v / np.abs(v).max())
+    factors = _selection.low_rank(coef, np.ones(20))
+    assert factors is not None
+    a, b = factors
+    assert a.shape[1] == 6
+    assert np.abs(a @ b - coef).max() <= 16 * np.finfo(float).eps * np.abs(coef).max()
+
+
+def test_single_threaded_blas_nests_and_restores() -> None:
+    from threadpoolctl import threadpool_info
+
+    def blas_threads() -> list[int]:
+        return [i["num_threads"] for i in threadpool_info() if i["user_api"] == "blas"]
+
+    before = blas_threads()
+    with _selection.single_threaded_blas():
+        assert all(n == 1 for n in blas_threads())
+        with _selection.single_threaded_blas():
+            assert all(n == 1 for n in blas_threads())
+        assert all(n == 1 for n in blas_threads())  # the inner exit leaves the outer limit
+    assert blas_threads() == before

@@ -455,3 +455,29 @@ def test_bad_uncertainty_input(make, fragment: str) -> None:
 
 def test_invalid_uncertainty_is_a_value_error() -> None:
     assert issubclass(InvalidUncertainty, ValueError)
+
+
+def test_crossings_match_a_trial_by_trial_scan() -> None:
+    # Reference: each trial's row of ΔrG − threshold scanned in plain Python order, with the
+    # same linear interpolation. The threshold oscillates, so trials cross several times, and
+    # the small chunk puts crossings on block boundaries.
+    from feasibly.uncertainty.linear import crossings, linear_model
+
+    rxn = feasibly.Reaction.parse("CaCO3 -> CaO + CO2")
+    samples = draw_samples(build_inputs(rxn.species_used()), 500, seed=41)
+    T = np.linspace(900.0, 1200.0, 61)
+    model = linear_model(rxn, T, samples)
+    g = model.values("G", samples)
+    thr = np.median(g, axis=1) + 3000.0 * np.sin(T / 7.0)
+    first, count = crossings(model, samples, thr, chunk=7)
+    d = g - thr[:, None]
+    assert count.max() > 1
+    for t in range(samples.n):
+        flips = [k for k in range(1, T.size) if (d[k - 1, t] < 0) != (d[k, t] < 0)]
+        assert count[t] == len(flips)
+        if not flips:
+            assert np.isnan(first[t])
+            continue
+        k = flips[0]
+        frac = d[k - 1, t] / (d[k - 1, t] - d[k, t])
+        assert first[t] == T[k - 1] + frac * (T[k] - T[k - 1])

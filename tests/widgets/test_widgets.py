@@ -388,3 +388,29 @@ def test_phase_notes_show_metastable_and_missing_phases(counters):
         "stable liquid" in ws._phase_notes.value
         and "missing from the data" in ws._phase_notes.value
     )
+
+
+def test_equation_and_pressure_changes_update_the_figure_in_place(sheet, monkeypatch):
+    # No rebuild: the same FigureWidget and the same trace objects, new numbers in them.
+    builds = []
+    real_build = figures.feasibility_figure
+    monkeypatch.setattr(
+        figures, "feasibility_figure", lambda *a, **k: builds.append(1) or real_build(*a, **k)
+    )
+    fig = sheet.panel.figure
+    traces = list(fig.data)
+    median = figures.TRACES.index("median")
+    sheet.reaction.equation = "Mg(OH)2 -> MgO + H2O(g)"
+    assert builds == [] and sheet.panel.figure is fig
+    assert all(a is b for a, b in zip(fig.data, traces, strict=True))
+    assert list(fig.data[median].y) == pytest.approx(list(sheet.result.G.median / 1000))
+    assert fig.layout.title.text == sheet.result.reaction.equation(pretty=True)
+    (gas,) = sheet.conditions.gases
+    sheet.conditions.entries = {gas: "0.01 bar"}
+    assert sheet.result.partial_pressures_Pa == {gas: pytest.approx(1000.0)}
+    assert builds == [] and sheet.panel.figure is fig
+    assert all(a is b for a, b in zip(fig.data, traces, strict=True))
+    assert list(fig.data[median].y) == pytest.approx(list(sheet.result.G.median / 1000))
+    assert "ΔrG (kJ/mol)" in fig.layout.yaxis2.title.text  # ΔrG° became ΔrG (overlaying axis)
+    sheet.temperature.unit = "°C"  # a new display unit redraws every axis
+    assert len(builds) == 1 and sheet.panel.figure is fig

@@ -7,12 +7,23 @@ import io
 import math
 import re
 import sys
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from ..conditions import STANDARD_PRESSURE_PA
 from ..library import Library, default_library
 from ..thermo import NO_UNCERTAINTY, Assessment
-from ..uncertainty import UncertainAssessment, window_phrase
+
+if TYPE_CHECKING:
+    from ..uncertainty import UncertainAssessment
+
+
+def _window_phrase(windows: Any) -> str:
+    # The uncertainty wing (scipy) loads only when a window is printed: a plain screen
+    # starts without it.
+    from ..uncertainty import window_phrase
+
+    return window_phrase(windows)
+
 
 EXIT_OK = 0
 
@@ -143,7 +154,7 @@ def _print_call(a: Assessment, u: UncertainAssessment | None, conv: dict[str, An
             if windows:
                 print(
                     f"  call         feasible at {u.confidence:.0%} confidence "
-                    f"{window_phrase(windows)} ({basis})"
+                    f"{_window_phrase(windows)} ({basis})"
                 )
             else:
                 print(
@@ -172,7 +183,7 @@ def _print_call(a: Assessment, u: UncertainAssessment | None, conv: dict[str, An
         w = conv["window"]
         sampled = conv["trials"] > 0
         how = f"at {conv['confidence']:.0%} confidence" if sampled else "at the nominal data"
-        text = window_phrase(w) if w else "nowhere in this range"
+        text = _window_phrase(w) if w else "nowhere in this range"
         print(f"  conversion   {req:.0%} of {conv['key']} reached {how} {text}")
     print("  This is thermodynamics only: it says nothing about rate, hazards or scale-up.")
     print()
@@ -336,6 +347,8 @@ def _print_conversion(c: dict[str, Any]) -> None:
     for x in rows:
         print("  ".join(v.rjust(w) for v, w in zip(x, widths, strict=True)))
     if c["window"]:
+        from ..uncertainty import window_phrase  # the uncertainty wing loads only when it is used
+
         spans = window_phrase(c["window"])
         where = f"at {c['confidence']:.0%} confidence" if sampled else "at the nominal data"
         print(f"The required conversion is met {where} {spans}.")

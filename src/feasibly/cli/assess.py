@@ -14,12 +14,8 @@ from typing import Any
 
 from .._limits import MAX_POINTS
 from ..conditions import read_mole_fractions
-from ..equilibrium import conversion_assessment, parse_feed
 from ..errors import InvalidInput, UnitError
-from ..images import export_result
-from ..records import record_from, sign_record, write_record
 from ..thermo import assess
-from ..uncertainty import assess_uncertainty, parse_override
 from ._terminal import (
     EXIT_OK,
     _library,
@@ -121,6 +117,10 @@ def _cmd_assess(args: argparse.Namespace) -> int:
         args.seed = secrets.randbits(32)
     uncertain = None
     if args.samples is not None or args.adaptive:
+        # The uncertainty, equilibrium and record wings load only for the options that use them:
+        # a plain screen then starts in a fraction of the time.
+        from ..uncertainty import assess_uncertainty, parse_override
+
         threshold = " ".join(args.threshold) if args.threshold else "0 J/mol"
         uncertain = assess_uncertainty(
             result.reaction,
@@ -161,6 +161,8 @@ def _cmd_assess(args: argparse.Namespace) -> int:
                 '--key together (e.g. --feed "CH4:1, H2O:2" '
                 "--require-conversion 90% --key CH4)",
             )
+        from ..equilibrium import conversion_assessment
+
         conversion = conversion_assessment(
             result.reaction,
             (result.standard.T, "K"),
@@ -174,6 +176,9 @@ def _cmd_assess(args: argparse.Namespace) -> int:
             sample_set=uncertain.samples if uncertain is not None else None,
         )
     if args.record:
+        from ..equilibrium import parse_feed
+        from ..records import record_from, sign_record, write_record
+
         conv_kwargs: dict[str, Any] = {}
         if conversion is not None:
             conv_kwargs = {
@@ -208,6 +213,8 @@ def _cmd_assess(args: argparse.Namespace) -> int:
         if "signature" in record:
             print(f"signed with key {record['signature']['key_fingerprint']}", file=sys.stderr)
     if args.export:
+        from ..images import export_result  # loaded only when exporting
+
         # Tables and figures of the standard screen, and of the Monte Carlo run when there is one.
         written_files = export_result(
             result, args.export, "standard", figures_too=not args.no_figures

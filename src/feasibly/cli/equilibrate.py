@@ -4,12 +4,14 @@ from __future__ import annotations
 
 import argparse
 import json
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from ..conditions import read_temperatures
-from ..equilibrium.conversion import Equilibrium, equilibrate
 from ..errors import UnitError
 from ._terminal import _library
+
+if TYPE_CHECKING:
+    from ..equilibrium import Equilibrium
 
 __all__ = ["register"]
 
@@ -84,6 +86,8 @@ def _run(args: argparse.Namespace) -> int:
     P = _quantity(args.P, "pressure")
     if args.seed is not None and args.samples is None:
         raise UnitError(args.seed, "seed", "--seed needs --samples N")
+    from ..equilibrium import equilibrate  # loaded only when this command runs
+
     eq = equilibrate(
         args.species, T, P, args.feed, library=lib, samples=args.samples, seed=args.seed
     )

@@ -4,7 +4,6 @@ plain JSON or TOML data; nothing in them is executed."""
 
 from __future__ import annotations
 
-import hashlib
 import itertools
 import json
 import math
@@ -18,6 +17,7 @@ import numpy as np
 
 from .._limits import MAX_DATA_FILE_BYTES, MAX_NESTING, nesting_depth
 from ..errors import DataFileError, FeasiblyError, excerpt
+from ._index import canonical_hash, lookup_fields
 from .cp_models import T_REF, ConstantCp, CpModel, MaierKelleyCp, Nasa7
 from .formula import element_table, parse_formula
 from .species import PHASES, SourcedValue, Species
@@ -97,12 +97,6 @@ _MAX_CHARGE = 100
 #: The data's standard state (1 bar); feasibly.conditions.STANDARD_PRESSURE_PA is the same number.
 _STANDARD_PRESSURE_PA = 100000.0
 _REF_STATE_TOL = 1e-6
-
-
-def canonical_hash(species: Any) -> str:
-    """SHA-256 of the canonical JSON form of ``species`` (sorted keys, no spaces, ASCII)."""
-    text = json.dumps(species, sort_keys=True, separators=(",", ":"), ensure_ascii=True)
-    return hashlib.sha256(text.encode("utf-8")).hexdigest()
 
 
 def standard_uncertainty(stated: float, convention: str) -> float:
@@ -577,8 +571,10 @@ def _parse_document(text: str, name: str) -> Any:
     return doc
 
 
-def _read_species(doc: Any, name: str, origin: str, shipped: bool) -> tuple[list[Species], dict]:
-    problems = _Problems()
+def _check_document(
+    doc: Any, name: str, shipped: bool, problems: _Problems
+) -> tuple[list[Any], dict | None, dict | None]:
+    """Top-level checks of a species document; returns its entries, sources and policies."""
     if not isinstance(doc, dict):
         raise DataFileError(name, ["the file must hold a table at the top level"])
     for key in _TOP_REQUIRED - doc.keys():
@@ -620,19 +616,35 @@ def _read_species(doc: Any, name: str, origin: str, shipped: bool) -> tuple[list
         )
     sources = doc.get("sources")
     policies = doc.get("uncertainty_policy")
+    return (
+        species_raw,
+        sources if isinstance(sources, dict) else None,
+        policies if isinstance(policies, dict) else None,
+    )
+
+
+def _meta(doc: dict) -> dict:
+    return {
+        k: doc[k]
+        for k in ("library_version", "content_sha256", "sources", "uncertainty_policy")
+        if k in doc
+    }
+
+
+def _entry_label(raw: Any) -> str:
+    """How an entry is named in a message: its id or formula, quoted at most 40 characters."""
+    label = (raw.get("id") or raw.get("formula")) if isinstance(raw, dict) else None
+    return excerpt(label, 40)[1:-1] if isinstance(label, str) else excerpt(label, 40)
+
+
+def _read_species(doc: Any, name: str, origin: str, shipped: bool) -> tuple[list[Species], dict]:
+    problems = _Problems()
+    species_raw, sources, policies = _check_document(doc, name, shipped, problems)
     out: list[Species] = []
     seen: dict[str, int] = {}
     for i, raw in enumerate(species_raw):
-        label = (raw.get("id") or raw.get("formula")) if isinstance(raw, dict) else None
-        label = excerpt(label, 40)[1:-1] if isinstance(label, str) else excerpt(label, 40)
-        reader = _EntryReader(
-            raw,
-            f"entry {i} ({label})",
-            problems,
-            sources if isinstance(sources, dict) else None,
-            policies if isinstance(policies, dict) else None,
-            origin,
-        )
+        where = f"entry {i} ({_entry_label(raw)})"
+        reader = _EntryReader(raw, where, problems, sources, policies, origin)
         sp = reader.read()
         if sp is None:
             continue
@@ -643,9 +655,101 @@ def _read_species(doc: Any, name: str, origin: str, shipped: bool) -> tuple[list
         out.append(sp)
     if problems.items:
         raise DataFileError(name, problems.items)
-    meta = {
-        k: doc[k]
-        for k in ("library_version", "content_sha256", "sources", "uncertainty_policy")
-        if k in doc
-    }
+    return out, _meta(doc)
+
+
+class PendingEntry:
+    """An entry of a hash-checked document, validated and built into a Species on first use.
+
+    Carries what look-up needs (id, formula, names, CAS), so a call that uses four species
+    builds four. The raw entry is either given or parsed from its span of the file's text (the
+    prebuilt index). A problem in the entry raises the same
+    :class:`~feasibly.errors.DataFileError` (entry and field named) as reading it eagerly.
+    """
+
+    def __init__(
+        self,
+        index: int,
+        context: tuple[str, str, dict | None, dict | None],
+        raw: dict | None = None,
+        *,
+        fields: tuple[str, str, tuple[str, ...], str | None] | None = None,
+        span: tuple[str, int, int] | None = None,
+    ) -> None:
+        self.index = index
+        self._context = context
+        self._raw = raw
+        self._span = span
+        if fields is None:
+            fields = lookup_fields(raw or {})
+        self.id, self.formula, self.names, self.cas = fields
+        self.origin = context[1]  # where the entry came from, as a built Species would say
+        self._built: Species | None = None
+
+    @property
+    def raw(self) -> dict:
+        """The entry as written in the file."""
+        if self._raw is None:
+            assert self._span is not None  # one of raw and span is always given
+            text, start, end = self._span
+            self._raw = json.loads(text[start:end])
+        return self._raw
+
+    def build(self) -> Species:
+        """The validated Species (built once, shared by every library holding this entry)."""
+        if self._built is None:
+            name, origin, sources, policies = self._context
+            problems = _Problems()
+            raw = self.raw
+            where = f"entry {self.index} ({_entry_label(raw)})"
+            sp = _EntryReader(raw, where, problems, sources, policies, origin).read()
+            if problems.items or sp is None:
+                raise DataFileError(name, problems.items or [f"{where}: could not be read"])
+            self._built = sp
+        return self._built
+
+
+def _from_index(index: dict, text: str, name: str, origin: str) -> tuple[list[PendingEntry], dict]:
+    """Pending entries from a prebuilt index whose byte hash matched the file (see _index.py)."""
+    meta = dict(index["meta"])
+    sources, policies = meta.get("sources"), meta.get("uncertainty_policy")
+    context = (
+        name,
+        origin,
+        sources if isinstance(sources, dict) else None,
+        policies if isinstance(policies, dict) else None,
+    )
+    out = [
+        PendingEntry(
+            i,
+            context,
+            fields=(entry_id, formula, tuple(names), cas),
+            span=(text, start, end),
+        )
+        for i, (entry_id, formula, names, cas, start, end) in enumerate(index["entries"])
+    ]
     return out, meta
+
+
+def _index_species(
+    doc: Any, name: str, origin: str, shipped: bool
+) -> tuple[list[PendingEntry], dict]:
+    """Top-level checks and the content hash now; each entry is checked when first used."""
+    problems = _Problems()
+    species_raw, sources, policies = _check_document(doc, name, shipped, problems)
+    out: list[PendingEntry] = []
+    seen: dict[str, int] = {}
+    context = (name, origin, sources, policies)
+    for i, raw in enumerate(species_raw):
+        if not isinstance(raw, dict):
+            problems.add(f"entry {i} (None)", "(entry)", "must be a table of fields")
+            continue
+        entry = PendingEntry(i, context, raw)
+        if entry.id in seen:
+            problems.add(f"entry {i} ({entry.id})", "id", f"duplicate of entry {seen[entry.id]}")
+            continue
+        seen[entry.id] = i
+        out.append(entry)
+    if problems.items:
+        raise DataFileError(name, problems.items)
+    return out, _meta(doc)

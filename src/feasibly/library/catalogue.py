@@ -19,12 +19,16 @@ from pathlib import Path
 from types import MappingProxyType
 from typing import Any
 
-from .._files import data_text
+from .._files import data_bytes, data_text, optional_data_text
 from .._limits import MAX_DATA_FILE_BYTES
 from .._pickling import ProxyPickling
 from ..errors import DataFileError, FeasiblyError, UnknownSpecies
+from ._index import INDEX_NAME, read_index
 from ._reader import (
     COVERAGE_DIVISORS,
+    PendingEntry,
+    _from_index,
+    _index_species,
     _parse_document,
     _read_species,
     canonical_hash,
@@ -56,27 +60,39 @@ class Library(ProxyPickling):
 
     def __init__(
         self,
-        species: Iterable[Species],
+        species: Iterable[Species | PendingEntry],
         meta: Mapping[str, Any] | None = None,
         hazards: Mapping[str, tuple[dict[str, str], ...]] | None = None,
         user_files: tuple[str, ...] = (),
     ) -> None:
-        self._by_id: dict[str, Species] = {}
+        # Entries by id: a Species, or a pending entry of the shipped file that is validated and
+        # built on first use (look-up needs only its id, formula, names and CAS).
+        self._entries: dict[str, Species | PendingEntry] = {}
         for sp in species:
-            self._by_id[sp.id] = sp
+            self._entries[sp.id] = sp
         self.meta = MappingProxyType(dict(meta or {}))
         self._hazards = dict(hazards or {})
         self.user_files = user_files
         #: (id, origin of the entry replaced, origin of the replacement) for each replacement.
         self.replaced: tuple[tuple[str, str, str], ...] = ()
-        self._by_formula: dict[str, list[Species]] = {}
-        self._by_name: dict[str, list[Species]] = {}
-        self._by_cas: dict[str, list[Species]] = {}
-        for sp in self._by_id.values():
-            self._by_formula.setdefault(sp.formula, []).append(sp)
-            self._by_cas.setdefault(sp.cas, []).append(sp) if sp.cas else None
+        self._by_formula: dict[str, list[str]] = {}
+        self._by_name: dict[str, list[str]] = {}
+        self._by_cas: dict[str, list[str]] = {}
+        for sp in self._entries.values():
+            self._by_formula.setdefault(sp.formula, []).append(sp.id)
+            if sp.cas:
+                self._by_cas.setdefault(sp.cas, []).append(sp.id)
             for name in sp.names:
-                self._by_name.setdefault(_norm(name), []).append(sp)
+                self._by_name.setdefault(_norm(name), []).append(sp.id)
+
+    def _get(self, entry_id: str) -> Species:
+        entry = self._entries[entry_id]
+        if isinstance(entry, PendingEntry):
+            entry = self._entries[entry_id] = entry.build()
+        return entry
+
+    def _all(self) -> list[Species]:
+        return [self._get(k) for k in list(self._entries)]
 
     def __reduce__(self) -> Any:
         # The shipped library travels as a reference checked by its content hash (a process pool
@@ -124,23 +140,23 @@ class Library(ProxyPickling):
         """
         extra = list(other)
         files = self.user_files + (other.user_files if isinstance(other, Library) else ())
-        clashes = [sp for sp in extra if sp.id in self._by_id]
+        clashes = [sp for sp in extra if sp.id in self._entries]
         if clashes and not replace_shipped:
             where = files[-1] if files else (extra[0].origin if extra else "species")
             raise DataFileError(
                 where,
                 [
                     f"entry {sp.id}: this id is already in the library "
-                    f"({self._by_id[sp.id].origin}); a species file may add entries but "
+                    f"({self._entries[sp.id].origin}); a species file may add entries but "
                     "replaces one only when asked (replace_shipped=True, or --replace-shipped "
                     "on the command line); otherwise give your entry another form label, "
                     "e.g. (g,mine)"
                     for sp in clashes[:20]
                 ],
             )
-        merged = {**self._by_id, **{sp.id: sp for sp in extra}}
+        merged = {**self._entries, **{sp.id: sp for sp in extra}}
         replaced = self.replaced + tuple(
-            (sp.id, self._by_id[sp.id].origin, sp.origin) for sp in clashes
+            (sp.id, self._entries[sp.id].origin, sp.origin) for sp in clashes
         )
         out = Library(merged.values(), self.meta, self._hazards, files)
         out.replaced = replaced
@@ -148,21 +164,21 @@ class Library(ProxyPickling):
 
     def user_entries(self) -> list[tuple[str, str]]:
         """(id, origin) of every entry that did not come from the shipped library."""
-        return [(sp.id, sp.origin) for sp in self._by_id.values() if sp.origin != "library"]
+        return [(sp.id, sp.origin) for sp in self._entries.values() if sp.origin != "library"]
 
     # --- access -------------------------------------------------------------------------------
     def __len__(self) -> int:
-        return len(self._by_id)
+        return len(self._entries)
 
     def __iter__(self) -> Iterator[Species]:
-        return iter(self._by_id.values())
+        return iter(self._all())
 
     def __contains__(self, key: object) -> bool:
-        return key in self._by_id
+        return key in self._entries
 
     def __getitem__(self, entry_id: str) -> Species:
         try:
-            return self._by_id[entry_id]
+            return self._get(entry_id)
         except KeyError:
             raise UnknownSpecies(entry_id, self.suggest(entry_id)) from None
 
@@ -178,15 +194,15 @@ class Library(ProxyPickling):
 
     def by_formula(self, formula: str) -> list[Species]:
         """All phases of one formula, as written in the library (exact text)."""
-        return list(self._by_formula.get(formula, []))
+        return [self._get(k) for k in self._by_formula.get(formula, [])]
 
     def by_name(self, name: str) -> list[Species]:
         """Entries with this name (any case; runs of spaces and underscores read as one space)."""
-        return list(self._by_name.get(_norm(name), []))
+        return [self._get(k) for k in self._by_name.get(_norm(name), [])]
 
     def by_cas(self, cas: str) -> list[Species]:
         """Entries with this CAS registry number."""
-        return list(self._by_cas.get(cas.strip(), []))
+        return [self._get(k) for k in self._by_cas.get(cas.strip(), [])]
 
     def same_composition(self, formula: str) -> list[Species]:
         """Entries with the same elements and charge as ``formula`` (isomers included)."""
@@ -199,11 +215,11 @@ class Library(ProxyPickling):
         (``CH4O`` for ``CH3OH``) also matches when no entry matches exactly.
         """
         q = query.strip()
-        if q in self._by_id:
-            return [self._by_id[q]]
+        if q in self._entries:
+            return [self._get(q)]
         hits = self._by_formula.get(q) or self._by_cas.get(q) or self._by_name.get(_norm(q))
         if hits:
-            return list(hits)
+            return [self._get(k) for k in hits]
         return self._same_composition(q)
 
     def _same_composition(self, q: str) -> list[Species]:
@@ -211,11 +227,7 @@ class Library(ProxyPickling):
             key = parse_formula(q).key()
         except FeasiblyError:
             return []
-        return [
-            sp
-            for sp in self._by_id.values()
-            if (tuple(sorted(sp.elements.items())), sp.charge) == key
-        ]
+        return [sp for sp in self._all() if (tuple(sorted(sp.elements.items())), sp.charge) == key]
 
     def search(self, text: str, limit: int = 20) -> list[Species]:
         """Ranked matches for free text: exact hits, then prefix and substring hits, then near."""
@@ -233,10 +245,10 @@ class Library(ProxyPickling):
         low = _norm(q)
         add(
             sp
-            for sp in self._by_id.values()
+            for sp in self._all()
             if sp.formula.lower().startswith(low) or sp.id.lower().startswith(low)
         )
-        add(sp for sp in self._by_id.values() if any(low in _norm(n) for n in sp.names))
+        add(sp for sp in self._all() if any(low in _norm(n) for n in sp.names))
         add(s for key in self.suggest(q, limit) for s in self.find(key))
         return ranked[:limit]
 
@@ -244,7 +256,7 @@ class Library(ProxyPickling):
         """Close matches among ids, formulas and names, for error messages."""
         if len(query) > _MAX_SUGGEST_CHARS:
             return []  # nothing in the library is that long; difflib's cost grows with it
-        keys = list(self._by_id) + list(self._by_formula) + list(self._by_name)
+        keys = list(self._entries) + list(self._by_formula) + list(self._by_name)
         low = {k.lower(): k for k in keys}
         hits = difflib.get_close_matches(query.strip().lower(), list(low), n=limit, cutoff=0.6)
         return list(dict.fromkeys(low[h] for h in hits))
@@ -261,7 +273,7 @@ class Library(ProxyPickling):
             return None
         lo, hi = sp.T_range
         t_a = min(max(T_REF, lo), hi)
-        for other in self._by_formula.get(sp.formula, []):
+        for other in self.by_formula(sp.formula):
             if other is sp or other.phase == "g":
                 continue
             olo, ohi = other.T_range
@@ -290,9 +302,20 @@ def _read_hazards(*texts: str) -> dict[str, tuple[dict[str, str], ...]]:
 
 @cache
 def default_library() -> Library:
-    """The shipped species library (read and validated once per process)."""
+    """The shipped species library (read once per process).
+
+    The file's structure and content hash are checked here (or stand checked by the index built
+    with the wheel, when the file's bytes are the ones it was built from); each entry is
+    validated in full when a call first uses it, with the same message naming entry and field.
+    """
     name = "species-library.json"
-    species, meta = _read_species(_parse_document(data_text(name), name), name, "library", True)
+    data = data_bytes(name)
+    text = data.decode("utf-8")
+    index = read_index(data, optional_data_text(INDEX_NAME))
+    if index is not None:
+        species, meta = _from_index(index, text, name, "library")
+    else:
+        species, meta = _index_species(_parse_document(text, name), name, "library", True)
     # hazard-flags.csv is generated by the data build; process-cautions.csv is a curated table
     # (explosive or self-reactive substances, corrosives), each row with its source.
     hazards = _read_hazards(data_text("hazard-flags.csv"), data_text("process-cautions.csv"))

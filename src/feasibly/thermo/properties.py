@@ -6,19 +6,19 @@ unit-aware entry point."""
 from __future__ import annotations
 
 import math
+import weakref
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass
-from typing import Any
+from typing import Any, NamedTuple
 
 import numpy as np
-from scipy.optimize import brentq
 
 from ..conditions import (
     ONE_ATM_PA,
     STANDARD_PRESSURE_PA,
 )
 from ..errors import InvalidTemperature, UnitError
-from ..library.cp_models import R
+from ..library.cp_models import Nasa7, R
 from .reaction import Reaction
 
 __all__ = [
@@ -72,6 +72,97 @@ class StandardProperties:
         return self.dS + self.dS_surroundings
 
 
+class _ReactionPolynomial(NamedTuple):
+    """A reaction whose every term has one NASA-7 entry, folded into one polynomial per segment.
+
+    ΔrH°/RT, ΔrS°/R and ΔrCp°/R are linear in the coefficients, so Σν·a over the terms gives one
+    7-coefficient polynomial per stretch of temperature between the union of all species' breaks.
+    """
+
+    inner: np.ndarray  # the union of the species' inner breaks, K (ascending)
+    h: np.ndarray  # (6, segments): a0, a1/2, a2/3, a3/4, a4/5, a5 (H/RT form)
+    s: np.ndarray  # (6, segments): a0, a1, a2/2, a3/3, a4/4, a6 (S/R form)
+    cp: np.ndarray  # (5, segments): a0 … a4 (Cp/R form)
+    offset_h: float  # Σν (ΔfH°(298.15) − H_poly(298.15)), J/mol
+    offset_s: float  # Σν (S°(298.15) − S_poly(298.15)), J/(mol·K)
+    T_low: float  # the range every species covers, K
+    T_high: float
+    gas_change: float
+    ids: tuple[str, ...]
+
+
+# One folded polynomial per Reaction object (reactions are immutable once parsed).
+_FOLDED: weakref.WeakKeyDictionary[Reaction, _ReactionPolynomial | None] = (
+    weakref.WeakKeyDictionary()
+)
+
+
+def _fold(rxn: Reaction) -> _ReactionPolynomial | None:
+    """The folded polynomial of ``rxn``, or None when a term has several phases or no NASA-7."""
+    if rxn in _FOLDED:
+        return _FOLDED[rxn]
+    folded = None
+    entries = [t.candidates[0] for t in rxn.terms if len(t.candidates) == 1]
+    if len(entries) == len(rxn.terms) and all(isinstance(sp.cp_model, Nasa7) for sp in entries):
+        inner = np.unique(
+            np.concatenate([np.asarray(sp.cp_model.breaks[1:-1]) for sp in entries])  # type: ignore[attr-defined]
+        )
+        edges = np.append(inner, np.inf)
+        a = np.zeros((edges.size, 7))
+        off_h = off_s = dn = 0.0
+        for term, sp in zip(rxn.terms, entries, strict=True):
+            model: Nasa7 = sp.cp_model  # type: ignore[assignment]
+            # A temperature on a break belongs to the lower interval (Nasa7._interval): the
+            # segment (u[s-1], u[s]] sits in the interval holding u[s] with side="left".
+            k = np.searchsorted(np.asarray(model.breaks[1:-1]), edges, side="left")
+            nu = term.nu * term.scale(0)  # amount of the entry per amount of the term
+            a += nu * model.coeffs[k]
+            h_ref, s_ref = model.absolute_298()
+            off_h += nu * (sp.dHf.value - h_ref)
+            off_s += nu * (sp.S298.value - s_ref)
+            dn += nu * (sp.phase == "g")
+        c = a.T
+        folded = _ReactionPolynomial(
+            inner,
+            np.array([c[0], c[1] / 2, c[2] / 3, c[3] / 4, c[4] / 5, c[5]]),
+            np.array([c[0], c[1], c[2] / 2, c[3] / 3, c[4] / 4, c[6]]),
+            np.array(c[:5]),
+            off_h,
+            off_s,
+            max(sp.T_range[0] for sp in entries),
+            min(sp.T_range[1] for sp in entries),
+            dn,
+            tuple(sp.id for sp in entries),
+        )
+    _FOLDED[rxn] = folded
+    return folded
+
+
+# The same relative slack on range ends as Species.covers (a range end typed in °C is inside).
+_RANGE_SLACK = 1e-9
+
+
+def _folded_properties(
+    f: _ReactionPolynomial, T: np.ndarray, standard_pressure: float
+) -> StandardProperties:
+    first, last = np.searchsorted(f.inner, [T.min(), T.max()], side="left")
+    if first == last:  # one segment: its coefficients broadcast as scalars, no gather
+        h, s, cp = f.h[:, first], f.s[:, first], f.cp[:, first]
+    else:
+        seg = np.searchsorted(f.inner, T, side="left")
+        h, s, cp = (np.take(c, seg, axis=1) for c in (f.h, f.s, f.cp))
+    h_rt = h[0] + T * (h[1] + T * (h[2] + T * (h[3] + T * h[4]))) + h[5] / T
+    s_r = s[0] * np.log(T) + T * (s[1] + T * (s[2] + T * (s[3] + T * s[4]))) + s[5]
+    dH = (R * T) * h_rt + f.offset_h
+    dS = R * s_r + f.offset_s
+    dCp = R * (cp[0] + T * (cp[1] + T * (cp[2] + T * (cp[3] + T * cp[4]))))
+    dn = np.full(T.shape, f.gas_change)
+    if standard_pressure != STANDARD_PRESSURE_PA:
+        dS = dS - dn * R * math.log(standard_pressure / STANDARD_PRESSURE_PA)
+    dG = dH - T * dS
+    return StandardProperties(T, dH, dS, dG, dCp, dn, standard_pressure, (f.ids,) * T.size)
+
+
 def standard_properties(
     rxn: Reaction, T: Any, standard_pressure: float = STANDARD_PRESSURE_PA
 ) -> StandardProperties:
@@ -85,11 +176,18 @@ def standard_properties(
     T = np.atleast_1d(np.asarray(T, dtype=float))
     if np.any(~np.isfinite(T)) or np.any(T <= 0):
         raise InvalidTemperature(T, "temperatures must be finite and above 0 K")
+    folded = _fold(rxn)
+    if (
+        folded is not None
+        and T.size
+        and T.min() >= folded.T_low * (1 - _RANGE_SLACK)
+        and T.max() <= folded.T_high * (1 + _RANGE_SLACK)
+    ):
+        return _folded_properties(folded, T, standard_pressure)
     plan = rxn.phase_plan(T)
     dH = np.zeros(T.shape)
     dS = np.zeros(T.shape)
     dCp = np.zeros(T.shape)
-    phases: list[list[str]] = [[] for _ in range(T.size)]
     for term, idx in zip(rxn.terms, plan, strict=True):
         for k, sp in enumerate(term.candidates):
             mask = idx == k
@@ -100,15 +198,19 @@ def standard_properties(
             dH[mask] += nu * sp.enthalpy(Tm)
             dS[mask] += nu * sp.entropy(Tm)
             dCp[mask] += nu * sp.cp(Tm)
-            for i in np.nonzero(mask)[0]:
-                phases[i].append(sp.id)
+    # The ids used at each T, without a Python loop over temperatures.
+    ids = [
+        np.array([sp.id for sp in t.candidates], dtype=object)[k]
+        for t, k in zip(rxn.terms, plan, strict=True)
+    ]
+    phases: tuple[tuple[str, ...], ...] = (
+        tuple(zip(*(i.ravel().tolist() for i in ids), strict=True)) if ids else ((),) * T.size
+    )
     dn = rxn.gas_change(T)
     if standard_pressure != STANDARD_PRESSURE_PA:
         dS = dS - dn * R * math.log(standard_pressure / STANDARD_PRESSURE_PA)
     dG = dH - T * dS
-    return StandardProperties(
-        T, dH, dS, dG, dCp, dn, standard_pressure, tuple(tuple(p) for p in phases)
-    )
+    return StandardProperties(T, dH, dS, dG, dCp, dn, standard_pressure, phases)
 
 
 def crossover_temperatures(
@@ -125,6 +227,8 @@ def crossover_temperatures(
     ΔrG is sampled on a grid fine enough to separate roots (2001 points, plus the range ends),
     then each sign change is refined with Brent's method to 1e-6 K.
     """
+    from scipy.optimize import brentq  # loaded on first use: it costs start-up for every command
+
     grid = np.linspace(T_min, T_max, 2001)
 
     def g_of(t: np.ndarray) -> np.ndarray:

@@ -19,9 +19,11 @@ does it for rows already in memory.
 
 from __future__ import annotations
 
+import contextlib
 import math
 import os
-from collections.abc import Callable
+import threading
+from collections.abc import Callable, Iterator
 from concurrent.futures import ThreadPoolExecutor
 from functools import cache
 from typing import TYPE_CHECKING, Any, NamedTuple
@@ -32,7 +34,14 @@ from scipy import special
 if TYPE_CHECKING:
     from ._scan import Kernels
 
-__all__ = ["low_rank", "row_statistics", "streamed_statistics", "workers"]
+__all__ = [
+    "low_rank",
+    "row_statistics",
+    "run_parallel",
+    "single_threaded_blas",
+    "streamed_statistics",
+    "workers",
+]
 
 # Bracket half-width in units of the expected spacing of the needed ranks: 1.5 gives room for a
 # normal-approximation guess to be off by about one standard error of the quantile, which is what
@@ -222,17 +231,22 @@ def low_rank(coef: np.ndarray, scale: np.ndarray) -> tuple[np.ndarray, np.ndarra
     top = float(np.max(np.abs(scaled))) if scaled.size else 0.0
     if rows < 2 or k < 4 or not math.isfinite(top) or top == 0.0:
         return None
-    q, r, piv = linalg.qr(scaled, mode="economic", pivoting=True)
-    diag = np.abs(np.diag(r))
-    # Directions below 1e-13 of the largest are rounding noise of the exactly dependent columns.
-    rank = int(np.count_nonzero(diag > 1e-13 * diag[0]))
-    if rank > (3 * k) // 4:
-        return None
-    a = q[:, :rank]
-    b_scaled = np.empty((rank, k))
-    b_scaled[:, piv] = r[:rank]
     # Accept only a factorisation within 16 rounding errors of the largest contribution.
-    if float(np.max(np.abs(a @ b_scaled - scaled))) > 16 * np.finfo(float).eps * top:
+    tolerance = 16 * np.finfo(float).eps * top
+    with single_threaded_blas():  # a few-kB problem: BLAS threads would only wait for each other
+        q, r, piv = linalg.qr(scaled, mode="economic", pivoting=True)
+        diag = np.abs(np.diag(r))
+        # The rank is cut where the acceptance test below can pass: with column pivoting every
+        # entry of the dropped part Q[:, r:] R[r:, r:] is at most |R[r, r]|, so directions up to
+        # half the tolerance may go and the other half is left for the rounding of the rest.
+        rank = int(np.count_nonzero(diag > 0.5 * tolerance))
+        if rank > (3 * k) // 4:
+            return None
+        a = q[:, :rank]
+        b_scaled = np.empty((rank, k))
+        b_scaled[:, piv] = r[:rank]
+        residual = float(np.max(np.abs(a @ b_scaled - scaled)))
+    if residual > tolerance:
         return None
     return np.ascontiguousarray(a), b_scaled / np.where(scale > 0, scale, 1.0)
 
@@ -394,8 +408,8 @@ def _stream_rows(
                 np.matmul(right, x[:, a:b], out=z8[:k])
             run()
 
-    with _single_threaded_blas():
-        _run(scan_chunks, threads)
+    with single_threaded_blas():
+        run_parallel(scan_chunks, threads)
 
     # Exact order statistics inside each bracket: the kept values of all threads side by side,
     # sorted per row (numpy's vectorised sort), and the needed ranks read off.
@@ -431,16 +445,40 @@ def _blas_controller() -> Any:
     return ThreadpoolController()  # finding the BLAS libraries takes milliseconds: do it once
 
 
-def _single_threaded_blas() -> Any:
-    """Context in which BLAS uses one thread (our worker threads are the parallelism)."""
-    return _blas_controller().limit(limits=1, user_api="blas")
+_guard_lock = threading.Lock()
+_guard_depth = 0
 
 
-def _run(job: Callable[[int], None], threads: int) -> None:
+@contextlib.contextmanager
+def single_threaded_blas() -> Iterator[None]:
+    """Context in which BLAS uses one thread: our worker threads are the parallelism, and on a
+    shared machine a multi-threaded BLAS call on a small matrix can stall for a second while its
+    threads wait for a core. Nested uses cost nothing: only the outermost sets and restores."""
+    global _guard_depth
+    with _guard_lock:
+        _guard_depth += 1
+        limiter = _blas_controller().limit(limits=1, user_api="blas") if _guard_depth == 1 else None
+    try:
+        yield
+    finally:
+        with _guard_lock:
+            _guard_depth -= 1
+            if limiter is not None:
+                limiter.restore_original_limits()
+
+
+@cache
+def _pool() -> ThreadPoolExecutor:
+    # One pool for the life of the process: starting threads per call costs milliseconds, which
+    # at N = 10^4 trials is a large part of a summary.
+    return ThreadPoolExecutor(workers(), thread_name_prefix="feasibly-scan")
+
+
+def run_parallel(job: Callable[[int], None], threads: int) -> None:
     """``job(t)`` for t in range(threads), in parallel threads when there is more than one."""
     if threads == 1:
         job(0)
         return
-    with ThreadPoolExecutor(threads) as pool:
-        for f in [pool.submit(job, t) for t in range(threads)]:
-            f.result()
+    pool = _pool()
+    for f in [pool.submit(job, t) for t in range(threads)]:
+        f.result()

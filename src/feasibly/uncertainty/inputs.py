@@ -27,7 +27,7 @@ from .._limits import MAX_OVERRIDE_CHARS
 from ..errors import InvalidUncertainty, UnitError, excerpt
 from ..library.catalogue import standard_uncertainty
 from ..library.species import Species
-from ..units import Q_, to_energy_per_mol
+from ..units import to_energy_per_mol
 
 __all__ = [
     "QUANTITIES",
@@ -118,6 +118,8 @@ class Override:
 
 def _to_si(quantity: str, value: Any, what: str) -> float:
     """A user value for one quantity in SI (J/mol, J/(mol·K), or a pure number for cp)."""
+    from ..units import Q_  # the unit registry loads only when an override needs it
+
     if quantity == "dHf":
         return float(np.squeeze(to_energy_per_mol(value)))
     if quantity == "S298":

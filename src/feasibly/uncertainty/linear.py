@@ -27,7 +27,13 @@ from ..errors import InvalidInput, InvalidUncertainty
 from ..library.cp_models import T_REF, R
 from ..library.species import Species
 from ..thermo.reaction import Reaction
-from ._quantiles import block_rows, streamed_statistics
+from ._quantiles import (
+    block_rows,
+    run_parallel,
+    single_threaded_blas,
+    streamed_statistics,
+    workers,
+)
 from .sampling import SampleSet
 
 __all__ = [
@@ -194,7 +200,19 @@ def sample_moments(samples: SampleSet) -> tuple[np.ndarray, np.ndarray]:
         x = samples.values
         n = x.shape[1]
         xbar = x.mean(axis=1)
-        second = (x @ x.T) / n
+        # x xᵀ in one slice of trials per worker thread, each on single-threaded BLAS: a k × k
+        # result from k × N draws, where BLAS's own threads stall on a shared machine.
+        threads = max(1, min(workers(), n // 4096))
+        edges = np.linspace(0, n, threads + 1).astype(int)
+        parts = np.empty((threads, x.shape[0], x.shape[0]))
+
+        def gram(t: int) -> None:
+            part = x[:, edges[t] : edges[t + 1]]
+            np.matmul(part, part.T, out=parts[t])
+
+        with single_threaded_blas():
+            run_parallel(gram, threads)
+        second = parts.sum(axis=0) / n
         cov = (second - np.outer(xbar, xbar)) * (n / (n - 1))
         samples._moments = (xbar, np.atleast_2d(cov))
     return samples._moments
@@ -250,16 +268,18 @@ def summarise(
         )
     nominal, coef = model._pick(which)
     n = samples.n
-    xbar, cov = sample_moments(samples)
-    mean = nominal + coef @ xbar
-    var = np.einsum("ij,jk,ik->i", coef, cov, coef)
-    u = np.sqrt(np.clip(var, 0.0, None))
-    tail = (1.0 - coverage) / 2.0
-    probs = (tail, 0.5, 1.0 - tail)
-    thr = np.broadcast_to(np.asarray(threshold, dtype=float), model.T.shape).copy()
-    q, e, below = streamed_statistics(
-        coef, nominal, samples.values, mean, u, probs, thr, scale=np.sqrt(np.diag(cov))
-    )
+    # Every matrix step here is small or runs in our own worker threads: BLAS on one thread.
+    with single_threaded_blas():
+        xbar, cov = sample_moments(samples)
+        mean = nominal + coef @ xbar
+        var = np.einsum("ij,jk,ik->i", coef, cov, coef)
+        u = np.sqrt(np.clip(var, 0.0, None))
+        tail = (1.0 - coverage) / 2.0
+        probs = (tail, 0.5, 1.0 - tail)
+        thr = np.broadcast_to(np.asarray(threshold, dtype=float), model.T.shape).copy()
+        q, e, below = streamed_statistics(
+            coef, nominal, samples.values, mean, u, probs, thr, scale=np.sqrt(np.diag(cov))
+        )
     p = below / n
     return Summary(
         mean,
@@ -341,22 +361,33 @@ def crossings(
     n = samples.n
     first = np.full(n, np.nan)
     count = np.zeros(n, dtype=np.int64)
-    prev = None
+    prev: np.ndarray | None = None  # the previous block's last row
     chunk = chunk or block_rows(n)
     for start in range(0, T.size, chunk):
         block = model.values("G", samples, slice(start, min(start + chunk, T.size)))
         block -= thr[start : start + block.shape[0], None]
-        for i in range(block.shape[0]):
-            cur = block[i]
-            k = start + i
-            if prev is not None:
-                flip = (prev < 0) != (cur < 0)
-                if np.any(flip):
-                    new = flip & np.isnan(first)
-                    frac = prev[new] / (prev[new] - cur[new])
-                    first[new] = T[k - 1] + frac * (T[k] - T[k - 1])
-                    count += flip
-            prev = cur
+        negative = block < 0
+        # Whole blocks at once: first the step from the previous block's last row into this
+        # block (grid points start − 1 → start), then the steps inside the block (a sign flip
+        # between rows j and j + 1 is a crossing between grid points start + j and start + j + 1).
+        if prev is not None:
+            edge = (prev < 0) != negative[0]
+            count += edge
+            new = np.flatnonzero(edge & np.isnan(first))
+            if new.size:
+                a, b = prev[new], block[0, new]
+                frac = a / (a - b)
+                first[new] = T[start - 1] + frac * (T[start] - T[start - 1])
+        flip = negative[1:] != negative[:-1]
+        count += flip.sum(axis=0)
+        new = np.flatnonzero(flip.any(axis=0) & np.isnan(first))
+        if new.size:
+            j = np.argmax(flip[:, new], axis=0)  # each trial's first flip in this block
+            a, b = block[j, new], block[j + 1, new]
+            k = start + j + 1
+            frac = a / (a - b)
+            first[new] = T[k - 1] + frac * (T[k] - T[k - 1])
+        prev = block[-1]
     return first, count
 
 

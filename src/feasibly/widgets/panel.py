@@ -141,21 +141,16 @@ class FeasibilityPanel(w.VBox):
             return
         c = self._curves
         u = self.temperature_unit
-        if (
-            self.figure is None
-            or self._shown is None
-            or self._shown[0] is not r
-            or self._shown[2] != u
-        ):
+        if self.figure is None or self._shown is None or self._shown[2] != u:
+            # First drawing, or a new display unit (every axis and title changes): draw whole.
             self._draw(figures.feasibility_figure(c, snap, u, width=_WIDTH))
         else:
-            patch = figures.snapshot_patch(c, snap, u)
+            # Same figure, same traces: a new result patches the curves, a new temperature
+            # the selected-temperature traces, in one message to the browser.
             with self.figure.batch_update():
-                for index, props in patch["traces"].items():
-                    self.figure.data[index].update(props)
-                for index, text in patch["titles"].items():
-                    self.figure.layout.annotations[index].text = text
-                self.figure.layout.update(patch["layout"])
+                if self._shown[0] is not r:
+                    figures.apply_patch(self.figure, figures.curves_patch(c, u))
+                figures.apply_patch(self.figure, figures.snapshot_patch(c, snap, u))
         self._shown = key
         g = "ΔrG°" if c.standard_state else "ΔrG"
         self.verdict, self.probability, self.error = snap.verdict, snap.p_feasible, ""
