@@ -6,7 +6,8 @@ Run from the repository root::
 
 It rewrites ``data/species-library.json``, ``elements.json``, ``hazard-flags.csv`` and
 ``source-gaps.json`` (see ``data/README.md`` and ``data/SCHEMA.md``). Build-time dependencies
-only, never run-time ones: cantera, chemicals, thermochem, janaf, pyyaml, numpy, plus feasibly's
+only, never run-time ones: cantera, chemicals, janaf, pyyaml, numpy, scikit-build-core (for
+``pip download`` of the ``cea`` sdist), plus feasibly's
 own run-time dependencies (the build uses the kernel's rules from the checkout's ``src``). Every
 source file is located through its installed package and each package's version is recorded in
 the ``sources`` block. The build stops with :class:`~.errors.SourceError` when a source file or
@@ -28,9 +29,10 @@ Modules, in dependency order (each imports only modules listed above it; :data:`
 - ``elements`` — ``elements.json`` from chemicals' periodic table;
 - ``entries`` — ids, common fields, the value blocks a polynomial gives;
 - ``document`` — the library document and its reading by the kernel;
-- ``nasa`` — NASA Glenn entries (Cantera's files);
-- ``burcat`` — Burcat entries (thermochem's file) for what NASA lacks;
-- ``crc`` — constant-Cp entries from the CRC 298.15 K table;
+- ``thermo_inp`` — fetching the pinned ``cea`` sdist (sha256 checked) and reading its thermo.inp;
+- ``nasa`` — NASA Glenn entries from thermo.inp (NASA-9), and the reader of Cantera's older files;
+- ``crc`` — constant-Cp entries from the CRC 298.15 K table (curated solid picks);
+- ``crc_auto`` — constant-Cp entries from every other complete CRC row;
 - ``atct`` — ATcT tables: reading, and ΔfH° from them;
 - ``identifiers`` — CAS numbers and names;
 - ``reference_states`` — each element's reference state, ΔfH° = 0;
@@ -60,9 +62,10 @@ MODULES = (
     "elements",
     "entries",
     "document",
+    "thermo_inp",
     "nasa",
-    "burcat",
     "crc",
+    "crc_auto",
     "atct",
     "identifiers",
     "reference_states",

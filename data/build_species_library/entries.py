@@ -67,7 +67,7 @@ def poly_entry(
     src_range: Sequence[float] | None = None,
 ) -> Entry:
     """Add ΔfH°, S° (the polynomial's own 298.15 K values, policy uncertainties) and the nasa7 Cp
-    block; ``src_range`` is the source's own range (a note says when it started at 300 K)."""
+    or nasa9 block (by the coefficient count); ``src_range`` is the source's own range (a note says when it started at 300 K)."""
     h298, s298 = poly_298(breaks, coeffs)
     gas = e["phase"] == "g"
     hyp = e["hypothetical_298"]
@@ -82,7 +82,7 @@ def poly_entry(
     e["S_298"] = policy_block(s298, sp, source, entry_label, of=s298)
     cpol = "cp-gas-poly" if gas else "cp-condensed-poly"
     e["cp"] = {
-        "model": "nasa7",
+        "model": "nasa9" if len(coeffs[0]) == 9 else "nasa7",
         "T_breaks_K": [float(t) for t in breaks],
         "coefficients": [[float(x) for x in c] for c in coeffs],
         "u_rel": cp_u_rel(cpol),

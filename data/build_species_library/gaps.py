@@ -1,7 +1,8 @@
 """``source-gaps.json``: ΔfH°(298.15) from every source that gives one, and their differences.
 
 Per entry: the value written (or replaced), ATcT, the matched NIST-JANAF table, chemicals'
-JANAF_1998.tsv by CAS, and Burcat's gas record by CAS where the entry is not from Burcat. Entries
+JANAF_1998.tsv by CAS, and the same NASA species in Cantera's older NASA files (McBride, Gordon &
+Reno 1993) by name. Entries
 with at least two values are listed with every pairwise difference. Reference states are left out.
 """
 
@@ -9,9 +10,8 @@ from __future__ import annotations
 
 from typing import Any
 
-from .burcat import Record, burcat_poly
+from .nasa import load_nasa
 from .entries import Entry
-from .formulas import same_comp
 from .polynomials import poly_298
 from .sources import fnum, pkg_file, read_tsv
 
@@ -26,25 +26,31 @@ def read_janaf_tsv() -> list[dict[str, Any]]:
     return read_tsv(pkg_file("chemicals", "Reactions", "JANAF_1998.tsv"), ["CAS", "Hfl", "Hfg"])
 
 
+def old_nasa_298() -> dict[str, float]:
+    """H(298.15 K) of every species of Cantera's older NASA files, by NASA name (J/mol)."""
+    out = {}
+    for fname in ("nasa_gas.yaml", "nasa_condensed.yaml"):
+        for s in load_nasa(fname):
+            th = s["thermo"]
+            out[s["name"]] = poly_298(th["temperature-ranges"], th["data"])[0]
+    return out
+
+
 def build_gaps(
     entries: list[Entry],
     gaps_atct: dict[str, dict[str, float]],
     janaf: dict[str, dict[str, Any]],
     jmatch: dict[str, str],
     janaf_tsv: list[dict[str, Any]],
-    burcat_all: list[Record],
 ) -> dict[str, dict[str, Any]]:
     """Entry id -> values by source, pairwise differences and the largest gap (J/mol)."""
     res = {}
-    bur_by_cas: dict[tuple[str, str], list[Record]] = {}
-    for b in burcat_all:
-        for c in b["cas"].split():
-            bur_by_cas.setdefault((c, "g" if b["phase"] == "G" else "cond"), []).append(b)
+    old = old_nasa_298()
     tsv_by_cas = {r["CAS"]: r for r in janaf_tsv}
     for e in entries:
         v = {}
         d = e["dHf_298"]
-        if d["source"] in ("nasa-glenn", "burcat", "crc-298"):
+        if d["source"] in ("nasa-glenn-2002", "crc-298"):
             v[d["source"]] = d["value"]
         if "replaced" in d:
             v[d["replaced"]["source"]] = d["replaced"]["value"]
@@ -56,15 +62,8 @@ def build_gaps(
             x = fnum(tsv_by_cas[e["cas"]]["Hfg" if e["phase"] == "g" else "Hfl"])
             if x is not None:
                 v["janaf-1998-tsv"] = x
-        if e["cas"] and e["phase"] == "g" and d["source"] != "burcat":
-            bs = [
-                b
-                for b in bur_by_cas.get((e["cas"], "g"), [])
-                if same_comp(b["elements"], e["elements"])
-            ]
-            if len(bs) == 1:
-                bb = burcat_poly(bs[0])
-                v["burcat"] = poly_298(*bb)[0]
+        if e.get("_record_name") in old:
+            v["nasa-glenn-1993"] = old[e["_record_name"]]
         if e["reference_state_of"]:
             continue
         if len(v) >= 2:

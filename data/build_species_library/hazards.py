@@ -84,6 +84,13 @@ def build_hazards(entries: list[Entry]) -> tuple[str, int]:
             done.add((cas, "toxic"))
             rows.append((cas, e["formula"], _nm(e), "toxic", hit, chem + ONTARIO_FILE))
     by_id = {e["id"]: e for e in entries}
+    missing = sorted(
+        sid
+        for items in (rules.toxic, rules.flammable, rules.oxidiser)
+        for sid in items
+        if sid not in by_id
+    )
+    need(not missing, f"curated hazard species not in the library: {missing}")
     for flag, items in (
         ("toxic", rules.toxic),
         ("flammable", rules.flammable),

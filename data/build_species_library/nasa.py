@@ -1,4 +1,6 @@
-"""NASA Glenn entries from Cantera's ``nasa_gas.yaml`` and ``nasa_condensed.yaml``.
+"""NASA Glenn entries from ``thermo.inp`` (NASA TP-2002-211556, via :mod:`.thermo_inp`), and the
+reader of Cantera's older ``nasa_gas.yaml`` / ``nasa_condensed.yaml`` (McBride, Gordon & Reno
+1993), which the cross-checks compare with.
 
 Names come from the curated tables ``nasa_gas.toml``, ``nasa_condensed.toml`` and
 ``nasa_phase_labels.toml``; ``nasa_exceptions.toml`` lists species left out and charge fixes.
@@ -18,6 +20,10 @@ from .errors import SourceError, need
 from .formulas import clean_elements, mech_formula
 from .polynomials import extend_300
 from .sources import cantera_file
+from .thermo_inp import Record, load_thermo_inp
+
+#: thermo.inp element codes of the 'inert' copies of species (not chemistry).
+INERT_CODES = ("Ic", "Ih", "Io")
 
 ION_NOTE = (
     "ion: NASA/JANAF thermal-electron convention (the electron gas e-(g) is a "
@@ -66,68 +72,86 @@ def load_nasa(fname: str) -> list[dict[str, Any]]:
     return sp
 
 
-def condensed_split(name: str) -> tuple[str, str]:
-    """``"CaCO3(caL)"`` -> ``("CaCO3", "caL")``: base name and phase label."""
+def condensed_split(name: str) -> tuple[str, str, str]:
+    """``"CaCO3(cr)"`` -> ``("CaCO3", "cr", "")``; ``"C8H18(L),isooct"`` ->
+    ``("C8H18", "L", ",isooct")``: base name, phase label and isomer label."""
     m = re.match(r"^(.*)\(([^()]*)\)(,.*)?$", name)
     if m is None:
         raise SourceError(f"NASA condensed name {name} not understood")
-    return m.group(1), m.group(2)
+    return m.group(1), m.group(2), m.group(3) or ""
+
+
+def _composition(rec: Record) -> dict[str, float]:
+    """thermo.inp element codes (upper case, ``E`` = electron) as symbols: AG -> Ag."""
+    return {(k if k == "E" else k.capitalize()): v for k, v in rec.elements.items()}
 
 
 def build_nasa(els: Mapping[str, Any], notes_unmapped: list[str]) -> list[Entry]:
-    """Every usable NASA entry, gases first, in file order; left-out species go to
-    ``notes_unmapped``."""
+    """Every usable entry of NASA Glenn's thermo.inp, in file order (gases, condensed, then the
+    reactant section); left-out records go to ``notes_unmapped``."""
     gas_names = tables.nasa_gas()
     cond_names = tables.nasa_condensed()
     labels = tables.nasa_phase_labels()
     exceptions = tables.nasa_exceptions()
     entries = []
-    for fname, gas in (("nasa_gas.yaml", True), ("nasa_condensed.yaml", False)):
-        for s in load_nasa(fname):
-            name = s["name"]
-            if name in exceptions.skip:
-                notes_unmapped.append(f"NASA {name}: {exceptions.skip[name]}")
-                continue
-            elements, charge = clean_elements(s["composition"])
-            if name in exceptions.charge:
-                need(charge == 0, f"NASA {name}: composition now carries a charge; drop the fix")
-                charge = exceptions.charge[name]
-            if any(k not in els for k in elements):
-                notes_unmapped.append(
-                    f"NASA {name}: element symbol(s) {sorted(k for k in elements if k not in els)} "
-                    "not in the periodic table (deuterium)"
-                )
-                continue
-            th = s["thermo"]
-            breaks, coeffs = extend_300(th["temperature-ranges"]), th["data"]
-            note = str(th.get("note", "")).strip()
-            table_note = None
-            if gas:
-                if name in gas_names:
-                    formula, names, table_note = gas_names[name]
-                else:
-                    formula, names = mech_formula(name), ()
-                    need("," not in name, f"NASA gas {name}: isomer label without curated formula")
-                phase, form = "g", None
-            else:
-                base, label = condensed_split(name)
-                need(label in labels, f"NASA condensed {name}: unknown phase label {label}")
-                phase, form = labels[label]
-                if base in cond_names:
-                    formula, names, by_phase = cond_names[base]
-                    names = by_phase.get(phase, names)
-                else:
-                    formula, names = mech_formula(base), ()
-            e = base_entry(
-                formula, elements, charge, phase, form, names, (breaks[0], breaks[-1]), els
+    for rec in load_thermo_inp():
+        name = rec.name
+        if name in exceptions.skip:
+            notes_unmapped.append(f"NASA {name}: {exceptions.skip[name]}")
+            continue
+        if not rec.coeffs:
+            why = rec.repairs[-1] if rec.repairs else "enthalpy at one temperature only"
+            notes_unmapped.append(f"NASA {name}: {why} (no Cp polynomial)")
+            continue
+        comp = _composition(rec)
+        if any(k in INERT_CODES for k in comp):
+            notes_unmapped.append(f"NASA {name}: 'inert' copy of a species (element codes {INERT_CODES})")
+            continue
+        elements, charge = clean_elements(comp)
+        if name in exceptions.charge:
+            need(charge == 0, f"NASA {name}: composition now carries a charge; drop the fix")
+            charge = exceptions.charge[name]
+        if any(k not in els for k in elements):
+            notes_unmapped.append(
+                f"NASA {name}: element symbol(s) {sorted(k for k in elements if k not in els)} "
+                "not in the periodic table (deuterium)"
             )
-            src_range = [float(t) for t in th["temperature-ranges"]]
-            poly_entry(e, "nasa-glenn", f"{fname} {name}", breaks, coeffs, src_range)
-            if note:
-                e["notes"].append(f"NASA data note: {note}")
-            if charge:
-                e["notes"].append(ION_NOTE)
-            if table_note:
-                e["notes"].append(table_note)
-            entries.append(e)
+            continue
+        breaks, coeffs = extend_300(rec.breaks), rec.coeffs
+        table_note = None
+        if not rec.condensed:
+            if name in gas_names:
+                formula, names, table_note = gas_names[name]
+            else:
+                formula, names = mech_formula(name), ()
+                need("," not in name, f"NASA gas {name}: isomer label without curated formula")
+            phase, form = "g", None
+        else:
+            base, label, isomer = condensed_split(name)
+            need(label in labels, f"NASA condensed {name}: unknown phase label {label}")
+            phase, form = labels[label]
+            key = base + isomer
+            need(
+                not isomer or key in cond_names,
+                f"NASA condensed {name}: isomer label without curated formula ({key})",
+            )
+            if key in cond_names:
+                formula, names, by_phase = cond_names[key]
+                names = by_phase.get(phase, names)
+            else:
+                formula, names = mech_formula(base), ()
+        e = base_entry(formula, elements, charge, phase, form, names, (breaks[0], breaks[-1]), els)
+        label_txt = f"thermo.inp {name} ({rec.date_code})"
+        poly_entry(e, "nasa-glenn-2002", label_txt, breaks, coeffs, rec.breaks)
+        # The record's own stated ΔfH°(298.15 K) (header line), kept for the cross-check.
+        e["_record_dhf"] = rec.dhf_298
+        e["_record_name"] = name
+        if rec.comment:
+            e["notes"].append(f"NASA record: {rec.comment}")
+        e["notes"] += rec.repairs
+        if charge:
+            e["notes"].append(ION_NOTE)
+        if table_note:
+            e["notes"].append(table_note)
+        entries.append(e)
     return entries

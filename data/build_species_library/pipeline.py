@@ -3,8 +3,8 @@
 from __future__ import annotations
 
 from .atct import apply_atct, read_atct
-from .burcat import build_burcat
 from .crc import build_crc
+from .crc_auto import build_crc_auto
 from .elements import build_elements
 from .errors import need
 from .gaps import build_gaps, read_janaf_tsv
@@ -29,19 +29,17 @@ def main() -> None:
     unmapped: list[str] = []
     entries = build_nasa(els, unmapped)
     keys = {(e["formula"], e["phase"], e["form"]) for e in entries}
-    bur_entries, burcat_all = build_burcat(els, keys)
-    entries += bur_entries
-    keys = {(e["formula"], e["phase"], e["form"]) for e in entries}
     crc_entries, crc_skipped = build_crc(els, keys)
     entries += crc_entries
     unmapped += crc_skipped
+    atct_g, atct_l = read_atct()
+    assign_identifiers(entries, atct_g, atct_l)
+    entries += build_crc_auto(els, entries, unmapped)
 
     ids = [e["id"] for e in entries]
     dup = sorted({i for i in ids if ids.count(i) > 1})
     need(not dup, f"duplicate ids: {dup}")
 
-    atct_g, atct_l = read_atct()
-    assign_identifiers(entries, atct_g, atct_l)
     set_reference_states(entries)
     gaps_atct: dict[str, dict[str, float]] = {}
     apply_atct(entries, atct_g, atct_l, gaps_atct)
@@ -54,7 +52,7 @@ def main() -> None:
     janaf = load_janaf_tables()
     one_bar = check_one_bar(entries, janaf)
     jmatch = janaf_matches(entries, janaf)
-    gaps = build_gaps(entries, gaps_atct, janaf, jmatch, read_janaf_tsv(), burcat_all)
+    gaps = build_gaps(entries, gaps_atct, janaf, jmatch, read_janaf_tsv())
 
     species = finish(entries)
     hazards_csv, n_hazards = build_hazards(species)

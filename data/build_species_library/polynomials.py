@@ -1,4 +1,5 @@
-"""NASA 7-coefficient polynomials as the build evaluates them (McBride, Gordon & Reno 1993).
+"""NASA 7- and 9-coefficient polynomials as the build evaluates them (McBride, Gordon & Reno 1993;
+McBride, Zehe & Gordon, NASA TP-2002-211556 for NASA-9).
 
 ``h_RT`` and ``s_R`` are the published H/RT and S/R expressions in power form, with Cantera's
 molar gas constant, so H(298.15) = R·T·(H/RT) is the value Cantera (the test reference) gives.
@@ -36,15 +37,32 @@ def interval(breaks: Sequence[float], T: float) -> int:
 
 
 def h_RT(c: Coeffs, T: float) -> float:
-    """H/(RT) of one interval's coefficients."""
+    """H/(RT) of one interval's coefficients (NASA-7, or NASA-9 when there are 9)."""
+    if len(c) == 9:
+        return (
+            -c[0] / T**2 + c[1] * math.log(T) / T + c[2] + c[3] * T / 2 + c[4] * T**2 / 3
+            + c[5] * T**3 / 4 + c[6] * T**4 / 5 + c[7] / T
+        )  # fmt: skip
     return c[0] + c[1] * T / 2 + c[2] * T**2 / 3 + c[3] * T**3 / 4 + c[4] * T**4 / 5 + c[5] / T
 
 
 def s_R(c: Coeffs, T: float) -> float:
-    """S/R of one interval's coefficients."""
+    """S/R of one interval's coefficients (NASA-7, or NASA-9 when there are 9)."""
+    if len(c) == 9:
+        return (
+            -c[0] / (2 * T**2) - c[1] / T + c[2] * math.log(T) + c[3] * T + c[4] * T**2 / 2
+            + c[5] * T**3 / 3 + c[6] * T**4 / 4 + c[8]
+        )  # fmt: skip
     return (
         c[0] * math.log(T) + c[1] * T + c[2] * T**2 / 2 + c[3] * T**3 / 3 + c[4] * T**4 / 4 + c[6]
     )
+
+
+def cp_R(c: Coeffs, T: float) -> float:
+    """Cp/R of one interval's coefficients (NASA-7, or NASA-9 when there are 9)."""
+    if len(c) == 9:
+        return c[0] / T**2 + c[1] / T + c[2] + c[3] * T + c[4] * T**2 + c[5] * T**3 + c[6] * T**4
+    return c[0] + c[1] * T + c[2] * T**2 + c[3] * T**3 + c[4] * T**4
 
 
 def poly_298(breaks: Sequence[float], coeffs: Sequence[Coeffs]) -> tuple[float, float]:
@@ -65,7 +83,7 @@ def extend_300(breaks: Sequence[float]) -> list[float]:
 def h_on_dhf_scale(e: dict[str, Any], T: float) -> float | None:
     """H(T) on the ΔfH scale from an entry's nasa7 block (J/mol); None for other Cp models."""
     cp = e["cp"]
-    if cp["model"] != "nasa7":
+    if cp["model"] not in ("nasa7", "nasa9"):
         return None
     br, co = cp["T_breaks_K"], cp["coefficients"]
     h = R * T * h_RT(co[interval(br, T)], T)

@@ -52,17 +52,6 @@ class NasaExceptions(NamedTuple):
     charge: Mapping[str, int]
 
 
-class BurcatPick(NamedTuple):
-    """A Burcat record (formula text, phase letter) and the library entry it becomes."""
-
-    burcat: str
-    burcat_phase: str
-    formula: str
-    phase: str
-    form: str | None
-    names: tuple[str, ...]
-
-
 class CrcPick(NamedTuple):
     """A CRC table row (by CAS) and the constant-Cp entry it becomes, or why it is skipped."""
 
@@ -72,6 +61,14 @@ class CrcPick(NamedTuple):
     form: str | None
     names: tuple[str, ...]
     skip: str | None
+
+
+class CrcFormula(NamedTuple):
+    """The formula (and form, names) a CRC row is written with when the rule cannot give one."""
+
+    formula: str
+    form: str | None
+    names: tuple[str, ...]
 
 
 class Policy(NamedTuple):
@@ -106,7 +103,7 @@ class JanafRules(NamedTuple):
 
 PHASES = ("g", "l", "cr")
 # Packages a sources.toml placeholder may name (the build's source packages).
-SOURCE_PACKAGES = ("cantera", "chemicals", "thermochem", "janaf")
+SOURCE_PACKAGES = ("cantera", "chemicals", "janaf")
 # Keys of one source, in the order they are written to the library.
 SOURCE_KEYS = ("citation", "carried_by", "licence", "note")
 
@@ -211,33 +208,6 @@ def nasa_exceptions(folder: Path = TABLES) -> NasaExceptions:
     return NasaExceptions(skip, charge)
 
 
-def burcat_picks(folder: Path = TABLES) -> tuple[list[BurcatPick], list[BurcatPick]]:
-    """``burcat.toml``: the records taken one to one (``pick``) and merged (``merge``)."""
-    doc = read("burcat.toml", folder)
-    out: dict[str, list[BurcatPick]] = {"pick": [], "merge": []}
-    need(set(doc) <= set(out), f"burcat.toml: only 'pick' and 'merge' lists, not {sorted(doc)}")
-    for part, rows in out.items():
-        for i, row in enumerate(doc.get(part, [])):
-            r = _row(
-                f"burcat.toml {part}[{i}]",
-                row,
-                {"burcat": _STR, "burcat_phase": _STR, "formula": _STR, "phase": _STR},
-                {"form": _STR, "names": (list,)},
-            )
-            _phase(f"burcat.toml {part}[{i}]", r["phase"])
-            rows.append(
-                BurcatPick(
-                    r["burcat"],
-                    r["burcat_phase"],
-                    r["formula"],
-                    r["phase"],
-                    r.get("form"),
-                    tuple(r.get("names", [])),
-                )
-            )
-    return out["pick"], out["merge"]
-
-
 def crc_picks(folder: Path = TABLES) -> list[CrcPick]:
     """``crc.toml``: CRC rows (in build order) and the constant-Cp entries they become."""
     out = []
@@ -257,6 +227,17 @@ def crc_picks(folder: Path = TABLES) -> list[CrcPick]:
             CrcPick(r["cas"], r["crc_name"], r["formula"], r.get("form"), tuple(r["names"]), None)
         )
     need(out, "crc.toml: 'pick' list missing or empty")
+    return out
+
+
+def crc_formulas(folder: Path = TABLES) -> dict[str, CrcFormula]:
+    """``crc_formulas.toml``: CRC CAS -> the formula (form, names) its entries are written with."""
+    out = {}
+    for cas, row in read("crc_formulas.toml", folder).items():
+        where = f"crc_formulas.toml [{cas}]"
+        need(re.fullmatch(r"\d+-\d\d-\d", cas) is not None, f"{where}: not a CAS number")
+        r = _row(where, row, {"formula": _STR}, {"form": _STR, "names": (list,)})
+        out[cas] = CrcFormula(r["formula"], r.get("form"), tuple(r.get("names", [])))
     return out
 
 

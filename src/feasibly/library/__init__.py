@@ -16,7 +16,7 @@ from .catalogue import (
     default_library,
     standard_uncertainty,
 )
-from .cp_models import T_REF, ConstantCp, CpModel, MaierKelleyCp, Nasa7, R
+from .cp_models import T_REF, ConstantCp, CpModel, MaierKelleyCp, Nasa7, Nasa9, R
 from .formula import ParsedFormula, element_table, parse_formula, pretty_formula
 from .species import PHASES, SourcedValue, Species
 
@@ -29,6 +29,7 @@ __all__ = [
     "Library",
     "MaierKelleyCp",
     "Nasa7",
+    "Nasa9",
     "ParsedFormula",
     "R",
     "SourcedValue",

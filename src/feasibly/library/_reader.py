@@ -18,7 +18,7 @@ import numpy as np
 from .._limits import MAX_DATA_FILE_BYTES, MAX_NESTING, nesting_depth
 from ..errors import DataFileError, FeasiblyError, excerpt
 from ._index import canonical_hash, lookup_fields
-from .cp_models import T_REF, ConstantCp, CpModel, MaierKelleyCp, Nasa7
+from .cp_models import T_REF, ConstantCp, CpModel, MaierKelleyCp, Nasa7, Nasa9
 from .formula import element_table, parse_formula
 from .species import PHASES, SourcedValue, Species
 
@@ -66,6 +66,7 @@ _ENTRY_OPTIONAL = {
 _VALUE_KEYS = {"value", "u", "source", "entry", "uncertainty", "replaced"}
 _CP_KEYS = {
     "nasa7": {"T_breaks_K", "coefficients"},
+    "nasa9": {"T_breaks_K", "coefficients"},
     "constant": {"cp_J_per_mol_K"},
     "maier_kelley": {"a", "b", "c"},
 }
@@ -312,7 +313,8 @@ class _EntryReader:
         self, block: dict[str, Any], model: str, T_range: tuple[float, float] | None
     ) -> CpModel | None:
         try:
-            if model == "nasa7":
+            if model in ("nasa7", "nasa9"):
+                n_coef = 7 if model == "nasa7" else 9
                 breaks, coeffs = block["T_breaks_K"], block["coefficients"]
                 if (
                     not isinstance(breaks, list)
@@ -326,12 +328,13 @@ class _EntryReader:
                     not isinstance(coeffs, list)
                     or len(coeffs) != len(breaks) - 1
                     or not all(
-                        isinstance(c, list) and len(c) == 7 and all(map(_finite, c)) for c in coeffs
+                        isinstance(c, list) and len(c) == n_coef and all(map(_finite, c))
+                        for c in coeffs
                     )
                 ):
                     self.bad(
                         "cp.coefficients",
-                        f"need {len(breaks) - 1} list(s) of 7 finite numbers (one per interval)",
+                        f"need {len(breaks) - 1} list(s) of {n_coef} finite numbers (one per interval)",
                     )
                     return None
                 if T_range is not None and (
@@ -343,6 +346,8 @@ class _EntryReader:
                         f"ends {breaks[0]}, {breaks[-1]} do not match T_range_K {list(T_range)}",
                     )
                     return None
+                if model == "nasa9":
+                    return Nasa9.from_lists(breaks, coeffs)
                 return Nasa7.from_lists(breaks, coeffs)
             if model == "constant":
                 value = block["cp_J_per_mol_K"]

@@ -4,8 +4,9 @@ Each model gives, for temperatures T in K (float arrays), Cp(T) in J/(mol·K) an
 ``h(T) = H(T) − H(298.15 K)`` in J/mol and ``s(T) = S(T) − S(298.15 K)`` in J/(mol·K). The species'
 own 298.15 K values are added elsewhere, so a Cp model never carries the enthalpy of formation.
 
-The models are the NASA 7-coefficient polynomial (McBride, Zehe & Gordon, NASA TP-2002-211556,
-eqs. 1–3 in Cp/R, H/RT, S/R form), a constant heat capacity and the Maier–Kelley form
+The models are the NASA 7-coefficient polynomial (McBride, Gordon & Reno, NASA TM-4513, 1993,
+in Cp/R, H/RT, S/R form), the NASA 9-coefficient polynomial (McBride, Zehe & Gordon, NASA
+TP-2002-211556, eqs. 1–3), a constant heat capacity and the Maier–Kelley form
 ``a + bT + c/T²`` (Maier & Kelley, J. Am. Chem. Soc. 54 (1932) 3243).
 """
 
@@ -13,6 +14,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass
+from typing import Self
 
 import numpy as np
 
@@ -22,6 +24,7 @@ __all__ = [
     "CpModel",
     "MaierKelleyCp",
     "Nasa7",
+    "Nasa9",
     "R",
 ]
 
@@ -58,7 +61,7 @@ class Nasa7(CpModel):
     coeffs: np.ndarray
 
     @classmethod
-    def from_lists(cls, breaks: Sequence[float], coeffs: Sequence[Sequence[float]]) -> Nasa7:
+    def from_lists(cls, breaks: Sequence[float], coeffs: Sequence[Sequence[float]]) -> Self:
         a = np.array(coeffs, dtype=float)
         return cls(tuple(float(b) for b in breaks), a)
 
@@ -104,6 +107,49 @@ class Nasa7(CpModel):
     def absolute_298(self) -> tuple[float, float]:
         """H(298.15 K) in J/mol and S(298.15 K) in J/(mol·K) implied by the polynomial itself."""
         return self._ref()
+
+
+@dataclass(frozen=True)
+class Nasa9(Nasa7):
+    """NASA 9-coefficient polynomial in one or more temperature intervals.
+
+    ``coeffs`` has shape (n, 9): a1…a7 and the integration constants b1, b2 of each interval
+    (NASA TP-2002-211556, eqs. 1–3)::
+
+        Cp/R = a1 T⁻² + a2 T⁻¹ + a3 + a4 T + a5 T² + a6 T³ + a7 T⁴
+        H/RT = −a1 T⁻² + a2 ln(T)/T + a3 + a4 T/2 + a5 T²/3 + a6 T³/4 + a7 T⁴/5 + b1/T
+        S/R  = −a1 T⁻²/2 − a2 T⁻¹ + a3 ln T + a4 T + a5 T²/2 + a6 T³/3 + a7 T⁴/4 + b2
+
+    Interval rule and increments as for :class:`Nasa7` (each interval's own b1, b2).
+    """
+
+    def _h_rt(self, T: np.ndarray, a: np.ndarray) -> np.ndarray:
+        return (
+            -a[..., 0] / T**2
+            + a[..., 1] * np.log(T) / T
+            + a[..., 2]
+            + T * (a[..., 3] / 2 + T * (a[..., 4] / 3 + T * (a[..., 5] / 4 + T * a[..., 6] / 5)))
+            + a[..., 7] / T
+        )
+
+    def _s_r(self, T: np.ndarray, a: np.ndarray) -> np.ndarray:
+        return (
+            -a[..., 0] / (2 * T**2)
+            - a[..., 1] / T
+            + a[..., 2] * np.log(T)
+            + T * (a[..., 3] + T * (a[..., 4] / 2 + T * (a[..., 5] / 3 + T * a[..., 6] / 4)))
+            + a[..., 8]
+        )
+
+    def cp(self, T: np.ndarray) -> np.ndarray:
+        T = np.asarray(T, dtype=float)
+        a = self.coeffs[self._interval(T)]
+        return R * (
+            a[..., 0] / T**2
+            + a[..., 1] / T
+            + a[..., 2]
+            + T * (a[..., 3] + T * (a[..., 4] + T * (a[..., 5] + T * a[..., 6])))
+        )
 
 
 @dataclass(frozen=True)
