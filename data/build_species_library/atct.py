@@ -112,6 +112,7 @@ def apply_atct(
             old = e["dHf_298"]
             label = f"{r['CAS']} {r['Formula'].strip()}"
             gaps.setdefault(e["id"], {})["atct-1.112"] = hv
+            e["_atct_u"] = unc / 1.96  # ATcT states 95 % limits (see the sources block)
             if e["reference_state_of"]:
                 continue
             gap = hv - old["value"]

@@ -144,10 +144,14 @@ def build_crc_auto(
                 continue  # a polynomial source or an earlier row has this composition and phase
             form = None
             names: list[str] = [cname.lower() if cname[:1].isupper() else cname]
+            origin = "chemicals"
             if cur is not None:
+                origin = "curated"
                 formula, form = cur.formula, cur.form
                 names = list(cur.names) or names
-            elif cas in by_cas:
+            elif cas in by_cas and not by_cas[cas].get("_crc_auto"):
+                # another phase of the compound from another source (composition checked there)
+                origin = "existing"
                 formula = by_cas[cas]["formula"]
                 names = list(by_cas[cas]["names"]) or names
             elif "hydrate" in cname.lower() or "ammonium" in cname.lower():
@@ -205,6 +209,11 @@ def build_crc_auto(
                     "chemicals.phase_change (Tm, Tb)"
                 )
             e["_crc_gf"] = fnum(r.get(f"Gf{letter}"))
+            e["_crc_hf"] = hf
+            # Only formulas taken from chemicals' identifier database for non-organic rows need
+            # the ΔfG check (crosschecks.drop_unverified_crc): for salts it sometimes lists one
+            # component (e.g. HoO for holmium oxide, BK for potassium borohydride).
+            e["_crc_auto"] = origin == "chemicals" and not ("C" in el and "H" in el)
             ids.add(e["id"])
             comp_phase.add((ck, phase))
             comp_formula.setdefault(ck, set()).add(formula)

@@ -5,6 +5,7 @@ from __future__ import annotations
 from .atct import apply_atct, read_atct
 from .crc import build_crc
 from .crc_auto import build_crc_auto
+from .crosschecks import cut_ranges, drop_unverified_crc, run_crosschecks
 from .elements import build_elements
 from .errors import need
 from .gaps import build_gaps, read_janaf_tsv
@@ -41,6 +42,8 @@ def main() -> None:
     need(not dup, f"duplicate ids: {dup}")
 
     set_reference_states(entries)
+    entries = drop_unverified_crc(entries, unmapped)
+    unmapped += [f"range cut: {x}" for x in cut_ranges(entries)]
     gaps_atct: dict[str, dict[str, float]] = {}
     apply_atct(entries, atct_g, atct_l, gaps_atct)
     n_chained = apply_transition_policy(entries)
@@ -52,9 +55,10 @@ def main() -> None:
     janaf = load_janaf_tables()
     one_bar = check_one_bar(entries, janaf)
     jmatch = janaf_matches(entries, janaf)
+    checks = run_crosschecks(entries, janaf, jmatch, gaps_atct)
     gaps = build_gaps(entries, gaps_atct, janaf, jmatch, read_janaf_tsv())
 
     species = finish(entries)
     hazards_csv, n_hazards = build_hazards(species)
-    write_outputs(species, hazards_csv, one_bar, jmatch, gaps, unmapped)
+    write_outputs(species, hazards_csv, one_bar, jmatch, gaps, unmapped, checks=checks)
     summary(species, gaps, n_hazards, jmatch, one_bar, unmapped)

@@ -71,6 +71,14 @@ class CrcFormula(NamedTuple):
     names: tuple[str, ...]
 
 
+class Disposition(NamedTuple):
+    """Why a gap beyond the cross-check's limit is accepted, and the value kept."""
+
+    chosen: str
+    value: float
+    reason: str
+
+
 class Policy(NamedTuple):
     """An uncertainty policy: its text and the numbers the build applies."""
 
@@ -238,6 +246,24 @@ def crc_formulas(folder: Path = TABLES) -> dict[str, CrcFormula]:
         need(re.fullmatch(r"\d+-\d\d-\d", cas) is not None, f"{where}: not a CAS number")
         r = _row(where, row, {"formula": _STR}, {"form": _STR, "names": (list,)})
         out[cas] = CrcFormula(r["formula"], r.get("form"), tuple(r.get("names", [])))
+    return out
+
+
+def dispositions(folder: Path = TABLES) -> dict[tuple[str, str, str], Disposition]:
+    """``dispositions.toml``: (entry id, quantity, compilation) -> the accepted gap's reason."""
+    out = {}
+    for i, row in enumerate(read("dispositions.toml", folder).get("dispute", [])):
+        where = f"dispositions.toml dispute[{i}]"
+        r = _row(
+            where,
+            row,
+            {"id": _STR, "quantity": _STR, "compilation": _STR, "chosen": _STR,
+             "value": (int, float), "reason": _STR},
+        )  # fmt: skip
+        need(len(r["reason"]) > 20, f"{where}: a reason must say why, in words")
+        key = (r["id"], r["quantity"], r["compilation"])
+        need(key not in out, f"{where}: {key} listed twice")
+        out[key] = Disposition(r["chosen"], float(r["value"]), r["reason"])
     return out
 
 

@@ -53,6 +53,7 @@ def write_outputs(
     gaps: dict[str, dict[str, Any]],
     unmapped: list[str],
     out: Path = OUT,
+    checks: dict[str, Any] | None = None,
 ) -> None:
     """Write species-library.json, hazard-flags.csv and source-gaps.json."""
     text = document_text(library_document(species))
@@ -64,6 +65,8 @@ def write_outputs(
         "species": dict(sorted(gaps.items())),
         "unmapped": sorted(unmapped),
     }
+    if checks is not None:
+        sg["crosschecks"] = checks
     (out / "species-library.json").write_text(text, encoding="utf-8")
     (out / "hazard-flags.csv").write_text(hazards_csv, encoding="utf-8")
     (out / "source-gaps.json").write_text(
