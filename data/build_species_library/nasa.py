@@ -136,8 +136,9 @@ def build_nasa(els: Mapping[str, Any], notes_unmapped: list[str]) -> list[Entry]
                 f"NASA condensed {name}: isomer label without curated formula ({key})",
             )
             if key in cond_names:
-                formula, names, by_phase = cond_names[key]
+                formula, names, by_phase, form_by_label = cond_names[key]
                 names = by_phase.get(phase, names)
+                form = form_by_label.get(label, form)
             else:
                 formula, names = mech_formula(base), ()
         e = base_entry(formula, elements, charge, phase, form, names, (breaks[0], breaks[-1]), els)

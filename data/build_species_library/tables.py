@@ -36,6 +36,8 @@ class CondensedName(NamedTuple):
     formula: str
     names: tuple[str, ...]
     names_by_phase: Mapping[str, tuple[str, ...]]
+    #: phase label -> form, where the record's comment names the polymorph its label does not
+    form_by_label: Mapping[str, str] = {}
 
 
 class PhaseLabel(NamedTuple):
@@ -179,12 +181,20 @@ def nasa_condensed(folder: Path = TABLES) -> dict[str, CondensedName]:
     out = {}
     for name, row in read("nasa_condensed.toml", folder).items():
         where = f"nasa_condensed.toml [{name}]"
-        r = _row(where, row, {"formula": _STR, "names": (list,)}, {"names_by_phase": (dict,)})
+        r = _row(
+            where,
+            row,
+            {"formula": _STR, "names": (list,)},
+            {"names_by_phase": (dict,), "form_by_label": (dict,)},
+        )
         by_phase = {}
         for phase, names in r.get("names_by_phase", {}).items():
             _type(where, f"names_by_phase.{_phase(where, phase)}", names, (list,))
             by_phase[phase] = tuple(names)
-        out[name] = CondensedName(r["formula"], tuple(r["names"]), by_phase)
+        forms = r.get("form_by_label", {})
+        for label, form in forms.items():
+            _type(where, f"form_by_label.{label}", form, _STR)
+        out[name] = CondensedName(r["formula"], tuple(r["names"]), by_phase, dict(forms))
     return out
 
 

@@ -120,6 +120,8 @@ def cantera_species(sp):
     m = sp.cp_model
     breaks = list(m.breaks)
     coeffs = np.array(m.coeffs, dtype=float).copy()
+    if coeffs.shape[1] == 9:
+        return _cantera_species_nasa9(sp, breaks, coeffs)
     # the polynomial's own H and S at 298.15 K, in the interval holding 298.15 K (the first one
     # when 298.15 K lies below the range): NASA TP-2002-211556 eqs. 2-3
     k = 0
@@ -145,6 +147,40 @@ def cantera_species(sp):
             c = coeffs[i]
             flat += [breaks[i], breaks[i + 1], 0.0, 0.0, *c[:5], c[5], c[6]]
         s.thermo = ct.Nasa9PolyMultiTempRegion(breaks[0], breaks[-1], 1e5, flat)
+    return s
+
+
+def _nasa9_h_s(a, t: float) -> tuple[float, float]:
+    """H/RT and S/R of one NASA-9 interval (NASA TP-2002-211556, eqs. 2-3)."""
+    h_rt = (
+        -a[0] / t**2 + a[1] * math.log(t) / t + a[2] + a[3] * t / 2 + a[4] * t**2 / 3
+        + a[5] * t**3 / 4 + a[6] * t**4 / 5 + a[7] / t
+    )  # fmt: skip
+    s_r = (
+        -a[0] / (2 * t**2) - a[1] / t + a[2] * math.log(t) + a[3] * t + a[4] * t**2 / 2
+        + a[5] * t**3 / 3 + a[6] * t**4 / 4 + a[8]
+    )  # fmt: skip
+    return h_rt, s_r
+
+
+def _cantera_species_nasa9(sp, breaks, coeffs):
+    """NASA-9 entries: Cantera's ``Nasa9PolyMultiTempRegion`` with b1, b2 shifted as above."""
+    import cantera as ct
+
+    k = 0
+    for i in range(len(breaks) - 1):
+        if 298.15 > breaks[i + 1]:
+            k = i + 1
+    t = 298.15
+    h_rt, s_r = _nasa9_h_s(coeffs[k], t)
+    Rc = ct.gas_constant / 1000.0
+    coeffs[:, 7] += (sp.dHf.value - Rc * t * h_rt) / Rc
+    coeffs[:, 8] += (sp.S298.value - Rc * s_r) / Rc
+    s = ct.Species(sp.id, {el: float(n) for el, n in sp.elements.items()})
+    flat = [len(breaks) - 1]
+    for i in range(len(breaks) - 1):
+        flat += [breaks[i], breaks[i + 1], *coeffs[i]]
+    s.thermo = ct.Nasa9PolyMultiTempRegion(breaks[0], breaks[-1], 1e5, flat)
     return s
 
 
