@@ -1,6 +1,6 @@
 """The data build's curation tables (data/build_species_library/tables/*.toml) and its layout.
 
-The full rebuild needs the source packages (thermochem among them) and is run by hand (see
+The full rebuild needs the source packages and the pinned cea sdist and is run by hand (see
 DEVELOPERS.md); these tests need none of them. They read the tables through the build's own
 readers and check them against their documented shapes, against each other, and against the
 committed species-library.json, hazard-flags.csv and data/README.md, so that a table edited
@@ -36,6 +36,8 @@ POLICY_IDS = {
     "transition-dHf",
     "crc-dHf",
     "disputed-dHf",
+    "disputed-dHf-compilations",
+    "disputed-S-compilations",
     "reference-state",
     "gas-S",
     "condensed-S",
@@ -128,7 +130,9 @@ def test_nasa_condensed_rows_and_labels(tables: ModuleType) -> None:
     for base, r in rows.items():
         assert r.formula in condensed, base
         assert set(r.names_by_phase) <= {"cr", "l"}, base
+        assert set(r.form_by_label) <= set(labels), base
     assert rows["H2O"].names_by_phase == {"cr": ("ice",)}
+    assert rows["CaCO3"].form_by_label == {"cr": "calcite"}
     assert {lab.phase for lab in labels.values()} == {"cr", "l"}
     # The mapping data/README.md documents.
     readme = {
@@ -146,6 +150,9 @@ def test_nasa_condensed_rows_and_labels(tables: ModuleType) -> None:
         "ru": "rutile",
         "cr1": "orthorhombic",
         "cr2": "monoclinic",
+        "a-qz": "alpha-quartz",
+        "b-qz": "beta-quartz",
+        "b-crt": "beta-cristobalite",
     }
     assert {k: labels[k].form for k in readme} == readme
     assert labels["L"] == ("l", None) and labels["cr"] == ("cr", None)
@@ -153,24 +160,30 @@ def test_nasa_condensed_rows_and_labels(tables: ModuleType) -> None:
 
 def test_nasa_exceptions(tables: ModuleType) -> None:
     ex = tables.nasa_exceptions()
-    assert "Electron" in ex.skip and all(ex.skip.values())
-    assert dict(ex.charge) == {"Zn+": 1}
+    assert "e-" in ex.skip and all(ex.skip.values())
+    assert dict(ex.charge) == {}
     unmapped = json.loads((DATA / "source-gaps.json").read_text("utf-8"))["unmapped"]
     for name, why in ex.skip.items():
         assert f"NASA {name}: {why}" in unmapped
 
 
-def test_burcat_picks_are_unique_and_built(tables: ModuleType) -> None:
-    pick, merge = tables.burcat_picks()
-    assert len(pick) > 60 and len(merge) == 1
-    keys = [(p.burcat, p.burcat_phase) for p in pick + merge]
-    assert len(set(keys)) == len(keys)
-    ids = [make_id(p.formula, p.phase, p.form) for p in pick + merge]
-    assert len(set(ids)) == len(ids), "two Burcat records would give one id"
-    assert {p.burcat_phase for p in pick + merge} <= {"G", "S", "C", "L"}
-    for p, i in zip(pick + merge, ids, strict=True):
-        assert (p.phase == "g") == (p.burcat_phase == "G"), i
-        assert i in shipped_ids(), i
+def test_crc_formulas_and_dispositions(tables: ModuleType) -> None:
+    formulas = tables.crc_formulas()
+    assert all(cas_ok(c) for c in formulas), [c for c in formulas if not cas_ok(c)]
+    ids = shipped_ids()
+    built = {e["cas"]: e for e in shipped()["species"] if e["cp"]["source"] == "crc-298"}
+    for cas, f in formulas.items():
+        if cas in built:
+            assert built[cas]["formula"] == f.formula, cas
+    gaps = json.loads((DATA / "source-gaps.json").read_text("utf-8"))
+    for (sid, q, comp), d in tables.dispositions().items():
+        assert sid in ids, sid
+        assert q in ("dHf_298", "S_298") and len(d.reason) > 20
+        assert any(
+            x["id"] == sid and x["quantity"] == q and x["compilation"].split(" ")[0] == comp
+            for x in gaps["crosschecks"]["excused"]
+        ), (sid, q, comp)
+    assert gaps["crosschecks"]["unused_dispositions"] == []
 
 
 def test_crc_picks(tables: ModuleType) -> None:
@@ -196,7 +209,9 @@ def test_crc_picks(tables: ModuleType) -> None:
         else:
             # left out only because another source already has a solid of that formula
             assert p.formula in other_solids, sid
-    assert built == len(from_crc)
+    # the other CRC entries come from crc_auto.py (every complete row), not from the picks
+    pick_ids = {make_id(p.formula, "cr", p.form) for p in picks if not p.skip}
+    assert built == len([i for i in from_crc if i in pick_ids])
 
 
 def test_policies_are_the_ones_the_build_applies(tables: ModuleType) -> None:
@@ -250,9 +265,9 @@ def test_janaf_rules(tables: ModuleType) -> None:
     gaps = json.loads((DATA / "source-gaps.json").read_text("utf-8"))
     assert list(gaps["one_bar_check"]) == list(rules.one_bar_check)
     # every form word belongs to a form some table gives
-    pick, merge = tables.burcat_picks()
     forms = {lab.form for lab in tables.nasa_phase_labels().values()}
-    forms |= {p.form for p in pick + merge} | {p.form for p in tables.crc_picks()}
+    forms |= {p.form for p in tables.crc_picks()}
+    forms |= {f for r in tables.nasa_condensed().values() for f in r.form_by_label.values()}
     assert set(rules.form_words) <= forms
 
 
@@ -281,8 +296,9 @@ def test_library_version_is_the_committed_one(tables: ModuleType) -> None:
         ("sources.toml", 'note = "uncertainties', 'extra = "x"\nnote = "uncertainties', "unknown"),
         ("hazards.toml", "toxic_ppm = 50.0\n", "", "toxic_ppm"),
         ("hazards.toml", '    "O3(g)",\n', '    "O3(g)",\n    "O3(g)",\n', "twice"),
-        ("nasa_exceptions.toml", '"Zn+" = 1', '"Zn+" = 0', "fixes nothing"),
-        ("burcat.toml", 'burcat_phase = "C", formula = "CH3OH", phase = "l"', "phase = 'l'", "key"),
+        ("nasa_exceptions.toml", "[charge]\n", '[charge]\n"Zn+" = 0\n', "fixes nothing"),
+        ("crc_formulas.toml", '"64-18-6" = {', '"64-18-X" = {', "not a CAS number"),
+        ("dispositions.toml", 'chosen = "atct-1.112"', "", "key 'chosen' missing"),
     ],
 )
 def test_a_malformed_table_stops_the_build(
@@ -301,7 +317,8 @@ def test_a_malformed_table_stops_the_build(
         "sources.toml": tables.sources_text,
         "hazards.toml": tables.hazards,
         "nasa_exceptions.toml": tables.nasa_exceptions,
-        "burcat.toml": tables.burcat_picks,
+        "crc_formulas.toml": tables.crc_formulas,
+        "dispositions.toml": tables.dispositions,
     }[name]
     reader(BUILD / "tables")  # the committed table reads
     with pytest.raises(tables.SourceError, match=re.escape(message)) as err:

@@ -39,6 +39,8 @@ Modules, in dependency order (each imports only modules listed above it; :data:`
 - ``transitions`` — phases carried from a neighbour at a transition;
 - ``janaf_tables`` — NIST-JANAF tables and matching entries to them;
 - ``one_bar`` — the check that the gas entropies are on a 1 bar basis;
+- ``physical_checks`` — S°, Cp and G-continuity bounds, range ends, reference states (and the
+  range cuts made before them);
 - ``crosschecks`` — comparisons with every independent compilation and the physical checks;
   a failure without a written disposition (``tables/dispositions.toml``) stops the build;
 - ``gaps`` — ``source-gaps.json``: ΔfH° from every source;
@@ -74,6 +76,7 @@ MODULES = (
     "transitions",
     "janaf_tables",
     "one_bar",
+    "physical_checks",
     "crosschecks",
     "gaps",
     "hazards",

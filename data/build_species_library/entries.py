@@ -67,7 +67,8 @@ def poly_entry(
     src_range: Sequence[float] | None = None,
 ) -> Entry:
     """Add ΔfH°, S° (the polynomial's own 298.15 K values, policy uncertainties) and the nasa7 Cp
-    or nasa9 block (by the coefficient count); ``src_range`` is the source's own range (a note says when it started at 300 K)."""
+    or nasa9 block (by the coefficient count); ``src_range`` is the source's own range (a note
+    says when it started at 300 K)."""
     h298, s298 = poly_298(breaks, coeffs)
     gas = e["phase"] == "g"
     hyp = e["hypothetical_298"]

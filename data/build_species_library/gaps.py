@@ -10,8 +10,8 @@ from __future__ import annotations
 
 from typing import Any
 
-from .nasa import load_nasa
 from .entries import Entry
+from .nasa import load_nasa
 from .polynomials import poly_298
 from .sources import fnum, pkg_file, read_tsv
 

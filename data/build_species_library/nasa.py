@@ -105,7 +105,9 @@ def build_nasa(els: Mapping[str, Any], notes_unmapped: list[str]) -> list[Entry]
             continue
         comp = _composition(rec)
         if any(k in INERT_CODES for k in comp):
-            notes_unmapped.append(f"NASA {name}: 'inert' copy of a species (element codes {INERT_CODES})")
+            notes_unmapped.append(
+                f"NASA {name}: 'inert' copy of a species (element codes {INERT_CODES})"
+            )
             continue
         elements, charge = clean_elements(comp)
         if name in exceptions.charge:

@@ -5,7 +5,7 @@ from __future__ import annotations
 from .atct import apply_atct, read_atct
 from .crc import build_crc
 from .crc_auto import build_crc_auto
-from .crosschecks import cut_ranges, drop_unverified_crc, run_crosschecks
+from .crosschecks import drop_unverified_crc, run_crosschecks
 from .elements import build_elements
 from .errors import need
 from .gaps import build_gaps, read_janaf_tsv
@@ -14,6 +14,7 @@ from .identifiers import assign_identifiers
 from .janaf_tables import janaf_matches, load_janaf_tables
 from .nasa import build_nasa
 from .one_bar import check_one_bar
+from .physical_checks import cut_ranges
 from .reference_states import set_reference_states
 from .transitions import apply_transition_policy
 from .write import finish, summary, write_elements, write_outputs

@@ -122,9 +122,9 @@ def test_solid_range_ends_at_melting_or_a_next_phase(formula):
     follows = [sp for sp in condensed if abs(sp.T_range[0] - top.T_range[1]) < 1e-6]
     # the highest solid ends where another condensed phase takes over, at the tabulated
     # melting/decomposition point (chemicals.phase_change.Tm), or ends at or below it
-    assert top.T_range[1] <= tm + TM_SLACK or (
-        follows and abs(top.T_range[1] - tm) <= 0.05 * tm
-    ), f"{top.id} ends at {top.T_range[1]} K; Tm = {tm} K; next phase: {follows}"
+    assert top.T_range[1] <= tm + TM_SLACK or (follows and abs(top.T_range[1] - tm) <= 0.05 * tm), (
+        f"{top.id} ends at {top.T_range[1]} K; Tm = {tm} K; next phase: {follows}"
+    )
 
 
 def test_ticl4_liquid_ends_at_its_critical_temperature():
@@ -181,7 +181,7 @@ def test_metal_reaches_working_temperature(el, T_work):
 def test_gold_and_platinum_are_refused_beyond_their_data(el):
     # Only the CRC 298.15 K row is redistributable here: constant Cp to 500 K. Beyond that the
     # library must refuse rather than extrapolate.
-    ref = [x for x in LIB.find(el) if x.reference_state_of == el][0]
+    ref = next(x for x in LIB.find(el) if x.reference_state_of == el)
     assert ref.T_range[1] <= 500.0
     with pytest.raises(OutsideDataRange):
         ref.gibbs(1000.0)

@@ -334,7 +334,8 @@ class _EntryReader:
                 ):
                     self.bad(
                         "cp.coefficients",
-                        f"need {len(breaks) - 1} list(s) of {n_coef} finite numbers (one per interval)",
+                        f"need {len(breaks) - 1} list(s) of {n_coef} finite numbers "
+                        "(one per interval)",
                     )
                     return None
                 if T_range is not None and (
