@@ -3,7 +3,7 @@
 Each reader checks the shape of its table (known keys, value types) and stops with
 :class:`~.errors.SourceError` naming the file, the row and the key, so a typing slip in a table
 fails the build instead of silently changing the library. No reader imports a source package:
-the tables can be read (and tested) without cantera, chemicals, thermochem or janaf.
+the tables can be read (and tested) without cantera, chemicals or janaf.
 """
 
 from __future__ import annotations

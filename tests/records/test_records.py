@@ -75,7 +75,10 @@ def test_record_holds_what_a_reviewer_needs(record: dict[str, Any]) -> None:
         "library_version": lib.version,
         "library_sha256": lib.content_hash,
         "user_files": [],
+        "sources": dict(lib.meta["sources"]),
     }
+    # each data owner's terms travel with the record (issue 11: licence hygiene)
+    assert "Apache" in record["data"]["sources"]["nasa-glenn-2002"]["licence"]
     ids = {s["id"] for s in record["species"]}
     assert {"Fe3O4(cr)", "H2(g)", "H2O(g)", "Fe(cr,alpha)"} <= ids
     fe3o4 = next(s for s in record["species"] if s["id"] == "Fe3O4(cr)")

@@ -386,6 +386,8 @@ def record_from(
             "library_version": a.library_version,
             "library_sha256": a.library_hash,
             "user_files": list(rxn.library.user_files),
+            # the data owners' citations and terms, as the shipped library states them
+            "sources": plain(dict(rxn.library.meta.get("sources", {}))),
         },
         "species": species_section(rxn),
         "environment": environment(),
