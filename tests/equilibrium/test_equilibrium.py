@@ -184,7 +184,8 @@ def test_bad_input_is_refused_with_a_message():
     with pytest.raises(feasibly.UnitError, match="bare number"):
         equilibrate("CH4(g) H2(g)", 900, "1 bar", "CH4:1")
     with pytest.raises(feasibly.OutsideDataRange, match="CaCO3"):
-        equilibrate("CaCO3(cr) CaO(cr) CO2(g)", "1500 K", "1 bar", "CaCO3:1")
+        # calcite (NASA thermo.inp) has data to 1603 K, where its liquid takes over
+        equilibrate("CaCO3(cr) CaO(cr) CO2(g)", "1700 K", "1 bar", "CaCO3:1")
     with pytest.raises(feasibly.UnknownSpecies, match="reactant"):
         equilibrium_extent("CO + H2O -> CO2 + H2", "900 K", "1 bar", "CO:1, H2O:1", key="H2")
     with pytest.raises(feasibly.UnitError, match="percentage"):
