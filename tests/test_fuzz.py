@@ -474,7 +474,7 @@ def _widgets() -> dict[str, Any]:
         "reaction": ReactionBuilder(equation="H2 + Cl2 -> 2 HCl"),
         "input": UncertaintyInput(target="MgO(cr)", reason="r", uncertainty="2"),
         "estimate": SpeciesEstimate(
-            formula="MnCO3",
+            formula="CoCO3",
             phase="cr",
             dHf={"value": "-893", "uncertainty": "12", "reason": "estimate"},
             S298={"value": "86", "uncertainty": "6", "reason": "estimate"},

@@ -16,7 +16,7 @@ XSS = '<img src=x onerror="alert(1)">'
 
 def _estimate() -> SpeciesEstimate:
     return SpeciesEstimate(
-        formula="MnCO3",
+        formula="CoCO3",
         phase="cr",
         T_max=900.0,
         cp=95.0,
@@ -54,22 +54,22 @@ def test_uncertainty_input_recovers_after_a_bad_value() -> None:
 def test_species_estimate_nan_does_not_break_a_link() -> None:
     # NaN in SpeciesEstimate broke a link (NaN ≠ NaN) and raised into the notebook.
     e = _estimate()
-    assert e.error == "" and e.species_id == "MnCO3(cr)"
+    assert e.error == "" and e.species_id == "CoCO3(cr)"
     for trait in ("T_min", "T_max", "cp"):
         setattr(e, trait, float("nan"))
-        assert e.error and "MnCO3(cr)" in e.library  # stale but present
+        assert e.error and "CoCO3(cr)" in e.library  # stale but present
     e.T_min, e.T_max, e.cp = 298.15, 900.0, 95.0
     assert e.error == ""
     e._cp.value = float("inf")  # typed into the box itself
     assert e.error
     e._cp.value = 90.0
-    assert e.error == "" and e.library["MnCO3(cr)"].cp_model.cp(500.0) == pytest.approx(90.0)
+    assert e.error == "" and e.library["CoCO3(cr)"].cp_model.cp(500.0) == pytest.approx(90.0)
 
 
 def test_species_estimate_may_not_silently_replace_a_shipped_entry() -> None:
     e = _estimate()
     e.formula = "MgCO3"
-    assert "already in the library" in e.error and e.species_id == "MnCO3(cr)"
+    assert "already in the library" in e.error and e.species_id == "CoCO3(cr)"
     e.replace_shipped = True
     assert e.error == "" and e.species_id == "MgCO3(cr)"
     assert "REPLACES the shipped entry" in e._shown.value
