@@ -211,20 +211,6 @@ def supersession(c: Mapping[str, Any], e: Entry) -> str | None:
     src = e[q]["source"]
     if src == "atct-1.112":
         return "rule atct-network: the ATcT 1.112 thermochemical-network value supersedes " + comp
-    if src != "nasa-glenn-2002":
-        return None
-    code = e[q]["entry"].rsplit("(", 1)[-1].rstrip(")")
-    if comp == "nasa-glenn-1993":
-        return (
-            "rule nasa-revision: the compilers' 2002 revision (record " + code + ") supersedes "
-            "their 1993 file"
-        )
-    if comp in ("janaf-4", "crc-298") and not code.startswith("j"):
-        return (
-            f"rule nasa-2002-selection: NASA TP-2002-211556 selected another evaluation (record "
-            f"{code}; see the entry's NASA record note) with NIST-JANAF 1998 and the NBS 1982 "
-            f"tables available; its value is kept"
-        )
     return None
 
 
