@@ -325,9 +325,11 @@ def test_adaptive_gives_up_honestly_at_the_trial_limit() -> None:
 
 def test_crossover_distribution_brackets_the_deterministic_root() -> None:
     a = assess_uncertainty(
-        "MgCO3 -> MgO + CO2", T_range=("500 K", "900 K"), points=9, samples=50_000, seed=21
+        # 300–1000 K: wide enough that every trial crosses inside the range (the MgCO3 ΔfH°
+        # uncertainty covers the NASA 2002 / JANAF disagreement, crossovers spread about ±60 K)
+        "MgCO3 -> MgO + CO2", T_range=("300 K", "1000 K"), points=15, samples=50_000, seed=21
     )
-    (root,) = feasibly.crossover_temperatures(a.reaction, 500.0, 900.0)
+    (root,) = feasibly.crossover_temperatures(a.reaction, 300.0, 1000.0)
     c = a.crossover()
     assert c["lo_K"] < root < c["hi_K"]
     assert c["median_K"] == pytest.approx(root, abs=3.0)
@@ -344,10 +346,11 @@ def test_verdicts_and_window() -> None:
     )
     (w,) = a.window()
     assert w["hi_open"] and not w["lo_open"]
-    # The window opens where P(feasible) reaches 0.95: about 633 K since the library takes
-    # ΔfH°(MgCO3) from NASA TP-2002-211556 (−1096.0 kJ/mol; CRC/NBS −1095.8) instead of the 1993
-    # file's JANAF-based −1111.7 kJ/mol, which put it near 700 K.
-    assert 600.0 < w["T_lo_K"] < 670.0 and w["T_lo_se_K"] < 2.0
+    # The window opens where P(feasible) reaches 0.95: about 680 K. The library takes ΔfH°(MgCO3)
+    # from NASA TP-2002-211556 (−1096.0 kJ/mol; CRC/NBS −1095.8), and its uncertainty covers the
+    # gap to JANAF's −1111.7 kJ/mol (policy disputed-dHf-compilations), which widens the window's
+    # approach.
+    assert 650.0 < w["T_lo_K"] < 720.0 and w["T_lo_se_K"] < 2.0
     assert all(v == "feasible" for t, v in zip(a.T, a.verdicts, strict=True) if t > w["T_lo_K"])
 
 

@@ -12,11 +12,11 @@ Reductant ratios: an oxide is reduced by CO (or H2) at T when p(CO)/p(CO2) excee
 exp((ΔG°(2 CO + O2 → 2 CO2) − ΔG°(line)) / 2RT), and likewise for H2/H2O. They come from the same
 draws, so their bands include the data of CO, CO2, H2 and H2O.
 
->>> lines = formation_lines(["Cu2O", "FeO", "Cr2O3"], T_range=("600 K", "1400 K"), points=3)
+>>> lines = formation_lines(["Cu2O", "Fe3O4", "Cr2O3"], T_range=("600 K", "1400 K"), points=3)
 >>> lines.equations
-['4 Cu + O2 -> 2 Cu2O', '2 Fe + O2 -> 2 FeO', '4/3 Cr + O2 -> 2/3 Cr2O3']
+['4 Cu + O2 -> 2 Cu2O', '3/2 Fe + O2 -> 1/2 Fe3O4', '4/3 Cr + O2 -> 2/3 Cr2O3']
 >>> [lines.labels[i] for i in np.argsort(lines.G[:, 1])]  # most stable first, at 1000 K
-['Cr2O3', 'FeO', 'Cu2O']
+['Cr2O3', 'Fe3O4', 'Cu2O']
 """
 
 from __future__ import annotations

@@ -217,7 +217,7 @@ def heat_duty(
 
     >>> d = heat_duty("CaCO3 -> CaO + CO2", "1173 K", "CaCO3:1", T_feed="298.15 K")
     >>> round(d.J_per_mol_reaction / 1000)  # heat to warm the charge and calcine it
-    266
+    265
     """
     if call is not None:
         library = call.library
