@@ -145,7 +145,11 @@ def test_probability_equals_normal_cdf_for_linear_normal_model() -> None:
     # ΔrG is linear in normal inputs, so P(ΔrG < 0) = Φ(−y/u) exactly (scipy.stats.norm).
     a = assess_uncertainty(
         # around the crossover (P = 0.5 near 580 K with the NASA 2002 data), so 0 < P < 1 at all 5
-        "MgCO3 -> MgO + CO2", T_range=("560 K", "640 K"), points=5, samples=2 * 10**5, seed=12
+        "MgCO3 -> MgO + CO2",
+        T_range=("560 K", "640 K"),
+        points=5,
+        samples=2 * 10**5,
+        seed=12,
     )
     gum = a.gum()
     exact = stats.norm.cdf(-gum["y"] / gum["u"])
@@ -327,7 +331,11 @@ def test_crossover_distribution_brackets_the_deterministic_root() -> None:
     a = assess_uncertainty(
         # 300–1000 K: wide enough that every trial crosses inside the range (the MgCO3 ΔfH°
         # uncertainty covers the NASA 2002 / JANAF disagreement, crossovers spread about ±60 K)
-        "MgCO3 -> MgO + CO2", T_range=("300 K", "1000 K"), points=15, samples=50_000, seed=21
+        "MgCO3 -> MgO + CO2",
+        T_range=("300 K", "1000 K"),
+        points=15,
+        samples=50_000,
+        seed=21,
     )
     (root,) = feasibly.crossover_temperatures(a.reaction, 300.0, 1000.0)
     c = a.crossover()

@@ -55,7 +55,10 @@ def sheet(counters):
     ws = FeasibilityWorksheet(
         # 600 K: near the MgCO3 decomposition crossover with the NASA 2002 data (about 580 K at
         # P = 0.5), so the call starts "too close to call"
-        "MgCO3 -> MgO + CO2", T="600 K", T_window=("500 K", "900 K"), samples=N
+        "MgCO3 -> MgO + CO2",
+        T="600 K",
+        T_window=("500 K", "900 K"),
+        samples=N,
     )
     counters["sample"] = counters["snapshot"] = 0
     return ws
