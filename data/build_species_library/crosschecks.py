@@ -107,7 +107,13 @@ def _comparisons(
                          e.get("_atct_u", 0.0)))  # fmt: skip
         if e["cas"] in crc and e["dHf_298"]["source"] != "crc-298":
             r = crc[e["cas"]]
-            h, s = fnum(r.get(f"Hf{letter[e['phase']]}")), fnum(r.get(f"S0{letter[e['phase']]}"))
+            ph = letter[e["phase"]]
+            h, s, g = (fnum(r.get(f"{k}{ph}")) for k in ("Hf", "S0", "Gf"))
+            # The CAS lookup can point at another compound (a wrong CAS in the identifier
+            # database): the row is compared only when its ΔfH°, S°, ΔfG° are consistent with this
+            # entry's composition (ΔfG° = ΔfH° − T·ΔfS°, the CRC row-check limit).
+            if h is None or s is None or g is None or not _row_fits(e, h, s, g, entries):
+                h = s = None
             if h is not None:
                 vals.append(("dHf_298", "crc-298", h, policy_u("crc-dHf")))
             if s is not None and e["S_298"]["source"] != "crc-298":
@@ -159,6 +165,14 @@ def _cmp_gf(e: Entry, entries: list[Entry]) -> dict[str, Any] | None:
     # u of the computed ΔfG: ΔfH and T·S of the row (element entropies' u is far smaller).
     u = math.hypot(policy_u("crc-dHf"), T_REF * policy_u("crc-S"))
     return _cmp(e, "dfG_298 (own row)", "crc-298 row dfG", gf, 0.0, g_calc, u)
+
+
+def _row_fits(e: Entry, h: float, s: float, g: float, entries: list[Entry]) -> bool:
+    """Whether a CRC row (ΔfH°, S°, ΔfG°) is consistent with the composition of entry ``e``."""
+    probe = {"elements": e["elements"], "_crc_hf": h, "_crc_gf": g, "S_298": {"value": s},
+             "id": e["id"], "dHf_298": {"value": h}}  # fmt: skip
+    c = _cmp_gf(probe, entries)
+    return c is not None and not c["fails"]
 
 
 def drop_unverified_crc(entries: list[Entry], dropped: list[str]) -> list[Entry]:
