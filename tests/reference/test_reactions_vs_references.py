@@ -132,7 +132,8 @@ REACTIONS = {
     "brucite-dehydration": (
         "Mg(OH)2(cr) -> MgO(cr) + H2O(g)",
         {"Mg(OH)2(cr)": -1, "MgO(cr)": 1, "H2O(g)": 1},
-        (400, 500, 700, 900),
+        # brucite's data end at its tabulated decomposition point, 623 K (chemicals Tm; issue 11)
+        (400, 500, 550, 600),
     ),
     "thermite": (
         "2 Al(cr) + Fe2O3(cr) -> Al2O3(cr,alpha) + 2 Fe(cr,alpha)",
