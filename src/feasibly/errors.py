@@ -24,6 +24,7 @@ __all__ = [
     "InvalidInput",
     "InvalidTemperature",
     "InvalidUncertainty",
+    "MissingCondensedPhase",
     "OutsideDataRange",
     "ReactionSyntaxError",
     "RecordError",
@@ -188,6 +189,32 @@ class OutsideDataRange(FeasiblyError, ValueError):
             f"{_fmt(T_K)} K is outside. " + advice
         )
         super().__init__(msg)
+
+
+class MissingCondensedPhase(FeasiblyError, ValueError):
+    """A species given without a phase has only gas data where it is condensed at 1 atm.
+
+    ``species`` is the formula as written, ``phase`` the missing stable phase ("solid" or
+    "liquid"), ``T_K`` the temperatures (K) at which it is the stable one, ``points`` the tabulated
+    transitions behind that and ``gas_id`` the gas entry the user can name explicitly.
+    """
+
+    def __init__(
+        self, species: str, phase: str, T_K: Sequence[float], points: str, gas_id: str
+    ) -> None:
+        self.species = species
+        self.phase = phase
+        self.T_K = list(T_K)
+        self.points = points
+        self.gas_id = gas_id
+        lo, hi = min(self.T_K), max(self.T_K)
+        at = f"{_fmt(lo)} K" if lo == hi else f"{_fmt(lo)}–{_fmt(hi)} K"
+        super().__init__(
+            f"{species} is a {phase} at {at} and 1 atm ({points}), but the data library has "
+            f"only its gas ({gas_id}); no {phase} {species} is in the data, so the call is "
+            f"refused rather than made on the gas. Add the {phase} phase in a species file, or "
+            f"write {species}(g) if you really mean the gas."
+        )
 
 
 class InvalidTemperature(InvalidInput):

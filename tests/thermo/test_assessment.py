@@ -16,6 +16,7 @@ from feasibly import (
     Q_,
     InvalidInput,
     InvalidTemperature,
+    MissingCondensedPhase,
     OutsideDataRange,
     Reaction,
     UnitError,
@@ -211,18 +212,47 @@ def test_window_at_partial_pressure_starts_at_its_crossover() -> None:
 
 
 def test_missing_stable_phase_is_said() -> None:
-    # Acetic acid has only a gas entry; it boils at 391.05 K at 1 atm (CRC Handbook, through the
-    # chemicals package), so at 300–350 K the stable liquid is missing from the data.
+    # Phenol has a solid and a gas entry but no liquid; it melts at 314.15 K and boils at
+    # 454.95 K (chemicals' Tm/Tb), so at 350–425 K the stable liquid is missing.
     pytest.importorskip("chemicals")
-    a = assess("CH3COOH -> CH4 + CO2", T_range=("300 K", "500 K"), points=5)
-    (note,) = [n for n in a.notes if n.startswith("CH3COOH:")]
-    assert "stable liquid at 300–350 K is missing" in note and "Tb 391.1 K" in note
+    eq = "C6H5OH + 7 O2 -> 6 CO2 + 3 H2O"
+    a = assess(eq, T_range=("350 K", "500 K"), points=7)
+    (note,) = [n for n in a.notes if n.startswith("C6H5OH:")]
+    assert "stable liquid at 350–425 K is missing" in note and "Tb 454.9 K" in note
     # Above the boiling point the gas is the stable form: nothing to say.
-    b = assess("CH3COOH -> CH4 + CO2", T="450 K")
-    assert not [n for n in b.notes if n.startswith("CH3COOH:")]
+    b = assess(eq, T="480 K")
+    assert not [n for n in b.notes if n.startswith("C6H5OH:")]
     # Water has its liquid and gas: nothing to say either.
     c = assess("2 H2 + O2 -> 2 H2O", T_range=("300 K", "500 K"), points=5)
     assert not [n for n in c.notes if "missing from the data" in n]
+
+
+@pytest.mark.parametrize(
+    ("equation", "formula", "melts"),
+    [
+        # FeO: only FeO(g) in the data (no stoichiometric FeO(cr) source); it melts at 1650.15 K
+        # and boils at 3687.15 K (chemicals: CRC_INORG, WIKIDATA), a solid at 1000 K.
+        ("Fe + 0.5 O2 -> FeO", "FeO", "Tm 1650.2 K"),
+        # NiO: only NiO(g); it melts at 2230.15 K (chemicals: CRC_INORG), no boiling point.
+        ("Ni + 0.5 O2 -> NiO", "NiO", "Tm 2230.2 K"),
+    ],
+)
+def test_a_gas_only_species_is_refused_where_it_is_condensed(
+    equation: str, formula: str, melts: str
+) -> None:
+    pytest.importorskip("chemicals")
+    with pytest.raises(MissingCondensedPhase) as err:
+        assess(equation, T="1000 K")
+    assert err.value.species == formula and err.value.phase == "solid"
+    assert err.value.T_K == [1000.0] and err.value.gas_id == f"{formula}(g)"
+    assert melts in str(err.value) and f"write {formula}(g)" in str(err.value)
+    # Named as the gas, it is the user's choice: the call is made, with the missing solid said.
+    a = assess(equation.replace(formula, f"{formula}(g)"), T="1000 K")
+    assert any(n.startswith(f"{formula}(g):") and "stable solid" in n for n in a.notes)
+    # Above the boiling point (FeO) the gas is the stable form and is used without a phase.
+    if formula == "FeO":
+        hot = assess(equation, T="3800 K")
+        assert not [n for n in hot.notes if n.startswith("FeO")]
 
 
 def test_missing_stable_phase_check_says_when_it_cannot_run(
@@ -233,3 +263,12 @@ def test_missing_stable_phase_check_says_when_it_cannot_run(
     monkeypatch.setattr(mp, "_chemicals_available", lambda: False)
     a = assess("CH3COOH -> CH4 + CO2", T="350 K")
     assert any("was not checked" in n and "CH3COOH" in n for n in a.notes)
+
+
+def test_the_uncertainty_run_refuses_a_gas_only_species_where_it_is_condensed() -> None:
+    # Same case as above (FeO melts at 1650.15 K, chemicals: CRC_INORG): no draws on the gas.
+    pytest.importorskip("chemicals")
+    from feasibly import assess_uncertainty
+
+    with pytest.raises(MissingCondensedPhase, match=r"write FeO\(g\)"):
+        assess_uncertainty("Fe + 0.5 O2 -> FeO", T="1000 K", samples=256, seed=1)

@@ -300,16 +300,17 @@ def test_required_conversion_in_the_worksheet(sheet):
 
 # --- controls, stale results, and the record of what is on screen -----------------------------
 def test_readme_example_works_in_the_main_worksheet(counters):
-    # The README's MgCO3 -> MgO + CO2 (data to 1000 K) typed into the main worksheet, whose
-    # window is 600–1100 K: the window is fitted to the data and said so; no error.
+    # A decomposition whose data end inside the main worksheet's 600–1100 K window: CuSO4(cr)
+    # is cut at its tabulated decomposition point, 863.15 K (chemicals' Tm, data/README.md).
+    # The window is fitted to the data and said so; no error.
     ws = FeasibilityWorksheet(
         "C3H8 -> C3H6 + H2", T="900 K", T_window=("600 K", "1100 K"), samples=N
     )
-    ws.reaction.equation = "MgCO3 -> MgO + CO2"
+    ws.reaction.equation = "CuSO4 -> CuO + SO3"
     assert ws.error == "" and not ws.stale
-    assert ws.result.reaction.equation() == "MgCO3 -> MgO + CO2"
-    assert ws.result.T[0] == 600.0 and ws.result.T[-1] == 1000.0
-    assert "fitted to the data" in ws.window_note and "600–1000 K" in ws._status.value
+    assert ws.result.reaction.equation() == "CuSO4 -> CuO + SO3"
+    assert ws.result.T[0] == 600.0 and ws.result.T[-1] == 863.15
+    assert "fitted to the data" in ws.window_note and "600–863.15 K" in ws._status.value
 
 
 def test_window_confidence_and_trials_controls(sheet, counters):
@@ -388,8 +389,10 @@ def test_phase_notes_show_metastable_and_missing_phases(counters):
         "2 H2S + SO2 -> 3 S(l) + 2 H2O", T="1000 K", T_window=("900 K", "1100 K"), samples=N
     )
     assert "S(l) is metastable" in ws._phase_notes.value and "S2(g)" in ws._phase_notes.value
-    ws.reaction.equation = "CH3COOH -> CH4 + CO2"
-    ws.T_window = (300.0, 500.0)
+    # Phenol has a solid and a gas entry but no liquid; it melts at 314.15 K and boils at
+    # 454.95 K (chemicals' Tm/Tb), so at 350–400 K the stable liquid is missing from the data.
+    ws.reaction.equation = "C6H5OH + 7 O2 -> 6 CO2 + 3 H2O"
+    ws.T_window = (350.0, 400.0)
     assert (
         "stable liquid" in ws._phase_notes.value
         and "missing from the data" in ws._phase_notes.value

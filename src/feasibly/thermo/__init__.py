@@ -21,6 +21,7 @@ from .assessment import (
     conditions_label,
     read_at_conversion,
 )
+from .missing_phases import missing_stable_phases
 from .properties import (
     StandardProperties,
     crossover_temperatures,
@@ -60,6 +61,7 @@ __all__ = [
     "conditions_label",
     "crossover_temperatures",
     "describe_compound",
+    "missing_stable_phases",
     "parse_equation",
     "pressure_caution",
     "quotient_at_conversion",

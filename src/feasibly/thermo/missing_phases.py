@@ -14,6 +14,7 @@ from functools import cache
 
 import numpy as np
 
+from ..errors import MissingCondensedPhase
 from .reaction import Reaction
 
 __all__ = ["missing_stable_phases"]
@@ -44,6 +45,22 @@ def _transitions(cas: str) -> tuple[float | None, float | None, str] | None:
     )
 
 
+@cache
+def _cas_by_formula(formula: str) -> str | None:
+    """CAS of the compound ``chemicals`` files under a carbon-free formula, or None.
+
+    Used only for a formula whose entries carry no CAS and whose only data are gas, so that its
+    tabulated melting and boiling points can still say whether it is condensed. Formulas with
+    carbon are not looked up: one formula can name several organic isomers.
+    """
+    try:
+        from chemicals.identifiers import pubchem_db
+    except ImportError:
+        return None
+    found = pubchem_db.search_formula(formula)
+    return str(found.CASs) if found else None
+
+
 def _chemicals_available() -> bool:
     try:
         import chemicals.phase_change  # noqa: F401
@@ -55,7 +72,13 @@ def _chemicals_available() -> bool:
 def missing_stable_phases(rxn: Reaction, T: Sequence[float] | np.ndarray) -> list[str]:
     """Notes for terms whose stable phase at some T (by tabulated Tm/Tb at 1 atm) has no data.
 
-    Elements and terms whose entries have no CAS number are not checked. A melting or boiling
+    A term given without a phase whose only data are gas, at temperatures where the tabulated
+    points say the compound is a solid or liquid, is refused (:class:`MissingCondensedPhase`):
+    the gas is not a form the user asked for, and a call on it would be confidently wrong (FeO at
+    1000 K). Written as ``FORMULA(g)`` the gas is used, with a note.
+
+    Elements, and terms whose entries have no CAS number (gas-only carbon-free formulas are
+    looked up by formula in ``chemicals``), are not checked. A melting or boiling
     point is a 1 atm property; within a few kelvin of it the stable phase is not decided by
     this check, so only temperatures more than 5 K away are judged (common practice, no source).
     """
@@ -67,7 +90,12 @@ def missing_stable_phases(rxn: Reaction, T: Sequence[float] | np.ndarray) -> lis
         own = [sp for sp in term.candidates if sp.formula == term.formula]
         if len(own[0].elements) == 1:
             continue  # elements: their forms are compared by G° directly
+        have = {sp.phase for sp in rxn.library.by_formula(term.formula)}
+        only_gas = have == {"g"}
+        gas_only = term.phase is None and only_gas  # given without a phase: refused, not noted
         cas = next((sp.cas for sp in own if sp.cas), None)
+        if cas is None and only_gas and "C" not in own[0].elements and _chemicals_available():
+            cas = _cas_by_formula(term.formula)
         if cas is None:
             continue
         if not _chemicals_available():
@@ -79,7 +107,6 @@ def missing_stable_phases(rxn: Reaction, T: Sequence[float] | np.ndarray) -> lis
         t_m, t_b, how = found
         if term.phase not in (None, "g"):
             continue  # an explicit condensed phase is the user's choice (metastability is noted)
-        have = {sp.phase for sp in rxn.library.by_formula(term.formula)}
         problems = []
         for t in temps:
             stable = None
@@ -92,10 +119,26 @@ def missing_stable_phases(rxn: Reaction, T: Sequence[float] | np.ndarray) -> lis
                     stable = "cr"
                 elif t_m is not None and t_m >= t_b:
                     stable = "cr"  # sublimes at 1 atm (e.g. CO2)
+            elif t_b is None and only_gas and t_m is not None and t < t_m - margin:
+                # no boiling point tabulated (NiO): below its melting point the compound is
+                # condensed unless it sublimes first, so the gas-only call is refused, not made
+                stable = "cr"
             if stable is not None and stable not in have:
                 problems.append((float(t), stable))
+        names = {"g": "gas", "l": "liquid", "cr": "solid"}
+        condensed = [(t, s) for t, s in problems if s in ("cr", "l")]
+        if gas_only and condensed:
+            points = ", ".join(
+                x for x in (f"Tm {t_m:.1f} K" if t_m else "", f"Tb {t_b:.1f} K" if t_b else "") if x
+            )
+            raise MissingCondensedPhase(
+                term.formula,
+                " or ".join(sorted({names[s] for _, s in condensed})),
+                [t for t, _ in condensed],
+                f"tabulated 1 atm transitions from the chemicals package: {points}; {how}",
+                own[0].id,
+            )
         if problems:
-            names = {"g": "gas", "l": "liquid", "cr": "solid"}
             kinds = sorted({names[s] for _, s in problems})
             lo = min(t for t, _ in problems)
             hi = max(t for t, _ in problems)
