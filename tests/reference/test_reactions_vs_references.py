@@ -132,8 +132,9 @@ REACTIONS = {
     "brucite-dehydration": (
         "Mg(OH)2(cr) -> MgO(cr) + H2O(g)",
         {"Mg(OH)2(cr)": -1, "MgO(cr)": 1, "H2O(g)": 1},
-        # brucite's data end at its tabulated decomposition point, 623 K (chemicals Tm; issue 11)
-        (400, 500, 550, 600),
+        # brucite's data end at its tabulated decomposition point, 623 K (chemicals Tm; issue 11);
+        # every T is a JANAF row (300, 400, 500, 600 K are tabulated; 550 K is not)
+        (300, 400, 500, 600),
     ),
     "thermite": (
         "2 Al(cr) + Fe2O3(cr) -> Al2O3(cr,alpha) + 2 Fe(cr,alpha)",
@@ -193,16 +194,23 @@ def _janaf_species_gap(sid: str, T: float) -> float:
     g = refs.documented_janaf_gap(sid, idx, sp.dHf.source)
     if g is not None:
         gap += abs(g)
-    if sp.cp_source.get("source") == "nasa-glenn":
-        raw = _nasa_raw(sp.cp_source["entry"]).thermo
-        rows = refs.janaf_rows(idx)
-        if T in rows:
+    src = sp.cp_source.get("source")
+    rows = refs.janaf_rows(idx)
+    if src in ("nasa-glenn", "nasa-glenn-2002") and T in rows:
+        if src == "nasa-glenn":
+            raw = _nasa_raw(sp.cp_source["entry"]).thermo
             h_src = (raw.h(T) - raw.h(298.15)) / 1000
             s_src = raw.s(T) / 1000 - raw.s(298.15) / 1000 + sp.S298.value
-            gfun = (h_src - rows[T]["H-H298"]) - T * (s_src - rows[T]["S"])
-            # only species outside the species-level tolerances count as documented gaps
-            if abs(h_src - rows[T]["H-H298"]) > 300.0 or abs(s_src - rows[T]["S"]) > 0.3:
-                gap += abs(gfun)
+        else:
+            # NASA TP-2002-211556 (thermo.inp): the shipped polynomial is the record itself (the
+            # library reproduces thermo.inp, tests/reference/test_nasa9_vs_cantera.py), so its
+            # H(T) − H(298.15) and S(T) are that source's, compared with JANAF's G function here
+            h_src = float(sp.enthalpy(T)) - float(sp.enthalpy(298.15))
+            s_src = float(sp.entropy(T))
+        gfun = (h_src - rows[T]["H-H298"]) - T * (s_src - rows[T]["S"])
+        # only species outside the species-level tolerances count as documented gaps
+        if abs(h_src - rows[T]["H-H298"]) > 300.0 or abs(s_src - rows[T]["S"]) > 0.3:
+            gap += abs(gfun)
     return gap
 
 
