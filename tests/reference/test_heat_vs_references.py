@@ -105,21 +105,23 @@ def test_calcination_enthalpy_vs_crc() -> None:
     assert d.J_per_mol_reaction == pytest.approx(reference, abs=2000.0)
 
 
-#: JANAF tables of oxides and the factor that scales ΔfG° to one mole of O2.
+#: JANAF tables of oxides, the factor that scales ΔfG° to one mole of O2 and the library entry
+#: whose documented ΔfH° gap to that table (data/source-gaps.json) shifts the line.
 _JANAF_OXIDES = {
-    "MgO": ("Mg-008", 2.0),
-    "Al2O3": ("Al-096", 2.0 / 3.0),
-    "Cu2O": ("Cu-019", 2.0),
-    "CuO": ("Cu-015", 2.0),
-    "TiO2": ("O-043", 1.0),
-    "Fe2O3": ("Fe-030", 2.0 / 3.0),
+    "MgO": ("Mg-008", 2.0, "MgO(cr)"),
+    "Al2O3": ("Al-096", 2.0 / 3.0, "Al2O3(cr,alpha)"),
+    "Cu2O": ("Cu-019", 2.0, "Cu2O(cr)"),
+    "CuO": ("Cu-015", 2.0, "CuO(cr)"),
+    "TiO2": ("O-043", 1.0, "TiO2(cr,rutile)"),
+    "Fe2O3": ("Fe-030", 2.0 / 3.0, "Fe2O3(cr)"),
 }
 
 
 def test_formation_lines_vs_janaf() -> None:
     """Ellingham lines per mole of O2 against NIST-JANAF ΔfG° of the oxides (4th ed., via the
-    `janaf` package): within 1 kJ/mol (measured: 0.02–0.34 kJ/mol; the library's NASA entries
-    for these oxides derive from the same JANAF evaluations), and JANAF inside the 95 % band."""
+    `janaf` package): within 1 kJ/mol plus the oxide's documented ΔfH° gap to JANAF (NASA 2002
+    differs from JANAF by up to 1.26 kJ/mol for these, data/source-gaps.json), and JANAF inside
+    the 95 % band."""
     from feasibly.comparison import formation_lines
 
     temps = [600.0, 800.0, 1000.0, 1200.0]
@@ -127,8 +129,12 @@ def test_formation_lines_vs_janaf() -> None:
         list(_JANAF_OXIDES), T_range=("600 K", "1200 K"), points=4, samples=20_000, seed=4
     )
     assert lines.bands is not None
-    for i, (index, per_o2) in enumerate(_JANAF_OXIDES.values()):
+    for i, (index, per_o2, sid) in enumerate(_JANAF_OXIDES.values()):
+        # NASA 2002 ΔfH° differs from JANAF by the build's documented gap (MgO(cr): 355.6 J/mol,
+        # JANAF Mg-008 − thermo.inp); the line moves by per_o2 times it, on top of 1 kJ/mol
+        gap = _refs.documented_janaf_gap(sid, index, LIB[sid].dHf.source) or 0.0
         for k, t in enumerate(temps):
             reference = per_o2 * _refs.janaf_dfG_interp(index, t)
-            assert lines.G[i, k] == pytest.approx(reference, abs=1000.0), (lines.labels[i], t)
+            tol = 1000.0 + per_o2 * abs(gap)
+            assert lines.G[i, k] == pytest.approx(reference, abs=tol), (lines.labels[i], t)
             assert lines.bands[0, i, k] < reference < lines.bands[-1, i, k]
