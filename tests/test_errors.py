@@ -22,6 +22,7 @@ INSTANCES = [
     errors.UnbalancedReaction("H2 -> H", {"H": -1.0}),
     errors.AmbiguousBalance("A -> B", "no solution"),
     errors.OutsideDataRange("CaCO3(cr)", 1500.0, 298.15, 1200.0),
+    errors.MissingCondensedPhase("FeO", "solid", [1000.0], "Tm 1650.2 K", "FeO(g)"),
     errors.InvalidTemperature("-5 K", "at or below absolute zero"),
     errors.UnitError("900", "temperature", "a bare number is ambiguous"),
     errors.InvalidUncertainty("u must not be negative"),

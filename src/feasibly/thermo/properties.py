@@ -98,12 +98,15 @@ _FOLDED: weakref.WeakKeyDictionary[Reaction, _ReactionPolynomial | None] = (
 
 
 def _fold(rxn: Reaction) -> _ReactionPolynomial | None:
-    """The folded polynomial of ``rxn``, or None when a term has several phases or no NASA-7."""
+    """The folded polynomial of ``rxn``, or None when a term has several phases or no NASA-7.
+
+    Exactly NASA-7: a NASA-9 model (a subclass, nine coefficients per interval) is not folded.
+    """
     if rxn in _FOLDED:
         return _FOLDED[rxn]
     folded = None
     entries = [t.candidates[0] for t in rxn.terms if len(t.candidates) == 1]
-    if len(entries) == len(rxn.terms) and all(isinstance(sp.cp_model, Nasa7) for sp in entries):
+    if len(entries) == len(rxn.terms) and all(type(sp.cp_model) is Nasa7 for sp in entries):
         inner = np.unique(
             np.concatenate([np.asarray(sp.cp_model.breaks[1:-1]) for sp in entries])  # type: ignore[attr-defined]
         )
