@@ -38,10 +38,13 @@ Modules, in dependency order (each imports only modules listed above it; :data:`
 - ``janaf_tables`` — NIST-JANAF tables and matching entries to them;
 - ``one_bar`` — the check that the gas entropies are on a 1 bar basis;
 - ``gaps`` — ``source-gaps.json``: ΔfH° from every source;
+- ``comparisons`` — the library's policy-governed values against independent compilations;
+- ``calibration`` — uncertainty policies from the measured spread between independent
+  compilations, the disagreement rule, ``uncertainty-calibration.csv``;
 - ``hazards`` — ``hazard-flags.csv``;
 - ``write`` — writing the four files (elements first; the library after the kernel has read it);
 - ``pipeline`` — the steps in run order: elements, NASA, Burcat, CRC, identifiers, reference
-  states, ATcT, transitions, JANAF (1 bar check, matches), gaps, hazards, write.
+  states, ATcT, transitions, JANAF (1 bar check, matches), gaps, calibration, hazards, write.
 
 ``__main__`` sets ``sys.path`` (this package, the checkout's ``src``) and runs ``pipeline.main``.
 This package's ``__init__`` imports nothing, so the table readers can be imported (and tested)
@@ -70,6 +73,8 @@ MODULES = (
     "janaf_tables",
     "one_bar",
     "gaps",
+    "comparisons",
+    "calibration",
     "hazards",
     "write",
     "pipeline",

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from .atct import apply_atct, read_atct
 from .burcat import build_burcat
+from .calibration import calibrate
 from .crc import build_crc
 from .elements import build_elements
 from .errors import need
@@ -56,7 +57,12 @@ def main() -> None:
     jmatch = janaf_matches(entries, janaf)
     gaps = build_gaps(entries, gaps_atct, janaf, jmatch, read_janaf_tsv(), burcat_all)
 
+    policies_extra, calibration_csv, cal_summary = calibrate(entries, jmatch, gaps_atct)
+    print("calibration:", cal_summary)
+
     species = finish(entries)
     hazards_csv, n_hazards = build_hazards(species)
-    write_outputs(species, hazards_csv, one_bar, jmatch, gaps, unmapped)
+    write_outputs(
+        species, hazards_csv, one_bar, jmatch, gaps, unmapped, (policies_extra, calibration_csv)
+    )
     summary(species, gaps, n_hazards, jmatch, one_bar, unmapped)

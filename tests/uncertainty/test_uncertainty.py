@@ -343,7 +343,9 @@ def test_verdicts_and_window() -> None:
     )
     (w,) = a.window()
     assert w["hi_open"] and not w["lo_open"]
-    assert 680.0 < w["T_lo_K"] < 760.0 and w["T_lo_se_K"] < 2.0
+    # The window opens near 795 K: MgCO3's ΔfH° carries the 16 kJ/mol NASA/NBS disagreement
+    # (data/uncertainty-calibration.csv rule), so the call waits for a larger margin.
+    assert 760.0 < w["T_lo_K"] < 840.0 and w["T_lo_se_K"] < 2.0
     assert all(v == "feasible" for t, v in zip(a.T, a.verdicts, strict=True) if t > w["T_lo_K"])
 
 
