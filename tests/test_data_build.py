@@ -73,6 +73,9 @@ CALIBRATED_IDS = {
     "cal-cp-constant",
     "source-disagreement",
 }
+# Policies the aqueous step writes (aqueous.py: the table's closure, the H+ convention, the
+# constant-Cp factor over 0-100 degC).
+AQUEOUS_IDS = {"aq-closure", "h-plus-convention", "cp-aq-constant", "aq-25C-only"}
 ID = re.compile(r"^(?P<formula>.+)\((?P<phase>g|l|cr)(,(?P<form>[^()]+))?\)$")
 
 
@@ -245,6 +248,8 @@ def test_policies_are_the_ones_the_build_applies(tables: ModuleType) -> None:
     for pid, text in block.items():
         if pid in pol:
             assert text == pol[pid].text, pid
+        elif pid in AQUEOUS_IDS:
+            assert "aqueous" in text.lower() or "H+(aq)" in text, pid
         else:
             assert pid in CALIBRATED_IDS, pid
             assert "uncertainty-calibration.csv" in text or "sources disagree" in text, pid

@@ -41,10 +41,13 @@ Modules, in dependency order (each imports only modules listed above it; :data:`
 - ``comparisons`` — the library's policy-governed values against independent compilations;
 - ``calibration`` — uncertainty policies from the measured spread between independent
   compilations, the disagreement rule, ``uncertainty-calibration.csv``;
+- ``aqueous`` — aqueous ions (1 mol/kg, H+ convention) from the CRC table, closure-checked;
+- ``phase_points`` — tabulated melting and boiling points (chemicals) on the entries;
 - ``hazards`` — ``hazard-flags.csv``;
 - ``write`` — writing the four files (elements first; the library after the kernel has read it);
 - ``pipeline`` — the steps in run order: elements, NASA, Burcat, CRC, identifiers, reference
-  states, ATcT, transitions, JANAF (1 bar check, matches), gaps, calibration, hazards, write.
+  states, ATcT, transitions, JANAF (1 bar check, matches), gaps, calibration, aqueous,
+  phase points, hazards, write.
 
 ``__main__`` sets ``sys.path`` (this package, the checkout's ``src``) and runs ``pipeline.main``.
 This package's ``__init__`` imports nothing, so the table readers can be imported (and tested)
@@ -75,6 +78,8 @@ MODULES = (
     "gaps",
     "comparisons",
     "calibration",
+    "aqueous",
+    "phase_points",
     "hazards",
     "write",
     "pipeline",

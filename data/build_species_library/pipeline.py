@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from .aqueous import build_aqueous
 from .atct import apply_atct, read_atct
 from .burcat import build_burcat
 from .calibration import calibrate
@@ -14,6 +15,7 @@ from .identifiers import assign_identifiers
 from .janaf_tables import janaf_matches, load_janaf_tables
 from .nasa import build_nasa
 from .one_bar import check_one_bar
+from .phase_points import add_phase_points
 from .reference_states import set_reference_states
 from .transitions import apply_transition_policy
 from .write import finish, summary, write_elements, write_outputs
@@ -40,6 +42,7 @@ def main() -> None:
     ids = [e["id"] for e in entries]
     dup = sorted({i for i in ids if ids.count(i) > 1})
     need(not dup, f"duplicate ids: {dup}")
+    # (aqueous ions are added after the calibration, whose constant-Cp factor they use)
 
     atct_g, atct_l = read_atct()
     assign_identifiers(entries, atct_g, atct_l)
@@ -59,9 +62,14 @@ def main() -> None:
 
     policies_extra, calibration_csv, cal_summary = calibrate(entries, jmatch, gaps_atct)
     print("calibration:", cal_summary)
+    aq_entries, aq_policies = build_aqueous(els, entries, cal_summary["classes"]["cp-constant"])
+    entries += aq_entries
+    policies_extra |= aq_policies
+    print("phase points:", add_phase_points(entries))
 
     species = finish(entries)
-    hazards_csv, n_hazards = build_hazards(species)
+    # hazard flags are for pure substances; aqueous ions share CAS numbers with some of them
+    hazards_csv, n_hazards = build_hazards([e for e in species if e["phase"] != "aq"])
     write_outputs(
         species, hazards_csv, one_bar, jmatch, gaps, unmapped, (policies_extra, calibration_csv)
     )

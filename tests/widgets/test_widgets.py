@@ -377,7 +377,6 @@ def test_isomer_is_refused_with_described_candidates():
 
 
 def test_phase_notes_show_metastable_and_missing_phases(counters):
-    pytest.importorskip("chemicals")
     ws = FeasibilityWorksheet(
         "2 H2S + SO2 -> 3 S(l) + 2 H2O", T="1000 K", T_window=("900 K", "1100 K"), samples=N
     )

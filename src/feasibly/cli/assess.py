@@ -58,6 +58,7 @@ def _cmd_assess(args: argparse.Namespace) -> int:
         raise InvalidInput("--record", "", "a file path such as call.json", args.record)
     lib = _library(args.species_file, args.replace_shipped)
     pressures: dict[str, Any] = dict(_pressure_pairs(args.p, "partial pressure"))
+    molalities = _pressure_pairs(args.m, "molality") or None
     if args.y:
         if args.P is None:
             raise UnitError(
@@ -111,6 +112,7 @@ def _cmd_assess(args: argparse.Namespace) -> int:
         standard_pressure=args.standard_pressure,
         library=lib,
         balance=args.balance,
+        molalities=molalities,
     )
     if args.record and args.seed is None and (args.samples is not None or args.adaptive):
         # A record must be reproducible: draw the seed here and write it into the record.
@@ -142,6 +144,7 @@ def _cmd_assess(args: argparse.Namespace) -> int:
             standard_pressure=args.standard_pressure,
             library=lib,
             at_conversion=result.at_conversion,
+            molalities=molalities,
         )
     elif args.threshold or args.require_K or args.override or args.correlate:
         raise UnitError(
@@ -370,6 +373,13 @@ def register(sub: Any) -> None:
         nargs="+",
         metavar="SPECIES=P",
         help="partial pressure of a gas, e.g. --p CO2=0.3 bar (repeat per gas)",
+    )
+    a.add_argument(
+        "--m",
+        action="append",
+        nargs="+",
+        metavar="SPECIES=M",
+        help="molality of an aqueous species, e.g. --m Ca+2=0.01 mol/kg (repeat per species)",
     )
     a.add_argument("--P", nargs="+", metavar="P", help="total pressure for --y, e.g. 5 bar")
     a.add_argument(

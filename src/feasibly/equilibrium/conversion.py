@@ -104,6 +104,15 @@ def _reaction_inputs(
     rxn: Reaction, feed: Mapping[str, float], key: str | None, T: np.ndarray
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray, float, int | None]:
     """ν, gas mask (T × terms), feed per term, inert gas amount and the key term index."""
+    if any(sp.phase == "aq" for t in rxn.terms for sp in t.candidates):
+        raise InvalidInput(
+            "equation",
+            "equilibrium conversion",
+            "a reaction of gases and pure condensed phases: an aqueous solute's activity "
+            "changes with its amount, which needs a solution model this calculation does not "
+            "have (use assess with molalities for ΔrG at given concentrations)",
+            rxn.text,
+        )
     nu = np.array([t.nu for t in rxn.terms])
     n0 = np.zeros(nu.size)
     inert = 0.0

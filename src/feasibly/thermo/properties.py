@@ -255,21 +255,46 @@ def crossover_temperatures(
 
 
 def reaction_quotient(
-    rxn: Reaction, pressures: Mapping[str, float], standard_pressure: float, T: np.ndarray
+    rxn: Reaction,
+    pressures: Mapping[str, float],
+    standard_pressure: float,
+    T: np.ndarray,
+    molalities: Mapping[str, float] | None = None,
 ) -> tuple[np.ndarray, list[str]]:
-    """ln Q per T for ideal gases at given partial pressures; condensed phases at activity 1."""
+    """ln Q per T for ideal gases at given partial pressures and aqueous species at given
+    molalities (mol/kg; ideal dilute solution, activity = m / 1 mol/kg, γ = 1); pure condensed
+    phases, the solvent water among them, at activity 1. Species left out are at their standard
+    state and listed in the second return value."""
+    molalities = molalities or {}
     known = {t.formula: t for t in rxn.terms} | {t.label(): t for t in rxn.terms}
-    for name in pressures:
+    for name in [*pressures, *molalities]:
         if name not in known:
             raise UnitError(
                 name,
                 "species of this reaction",
-                f"partial pressure given for {name}, which is not in the equation",
+                f"a partial pressure or molality was given for {name}, which is not in the "
+                "equation",
+            )
+    for name in molalities:
+        term = known[name]
+        if not all(sp.phase == "aq" for sp in term.candidates):
+            raise UnitError(
+                name,
+                "aqueous species",
+                "a molality was given, but this species is not aqueous in the equation; "
+                "label it (aq)",
             )
     plan = rxn.phase_plan(T)
     lnQ = np.zeros(T.shape)
     assumed = []
     for term, idx in zip(rxn.terms, plan, strict=True):
+        if all(sp.phase == "aq" for sp in term.candidates):
+            m = molalities.get(term.label(), molalities.get(term.formula))
+            if m is None:
+                assumed.append(term.label())
+            else:
+                lnQ += term.nu * math.log(m)  # m / (1 mol/kg)
+            continue
         is_gas = np.array([sp.phase == "g" for sp in term.candidates])[idx]
         p = pressures.get(term.label(), pressures.get(term.formula))
         if p is not None and np.any(term.scale_array()[idx] != 1.0):

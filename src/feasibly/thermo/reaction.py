@@ -142,8 +142,14 @@ def _split_terms(side: str, text: str) -> list[str]:
     out: list[str] = []
     for piece in pieces:
         # "H2+O2" with no spaces: a '+' followed by a formula start (or a coefficient and a
-        # formula) separates terms; a trailing '+' is a charge.
-        out.extend(re.split(r"(?<=[\w)\]}])\+(?=\s*(?:\d*\.?\d+(?:/\d+)?\s*)?[A-Z(\[{])", piece))
+        # formula) separates terms; a trailing '+' is a charge, also before a phase label
+        # ("H+(aq)": a '(' followed by a lowercase letter opens a label, not a formula).
+        out.extend(
+            re.split(
+                r"(?<=[\w)\]}])\+(?=\s*(?:\d*\.?\d+(?:/\d+)?\s*)?(?:[A-Z\[{]|\((?![a-z])))",
+                piece,
+            )
+        )
     terms = [t.strip() for t in out]
     if any(not t or t.startswith("+") for t in terms):
         raise ReactionSyntaxError(text, "an empty term (two '+' in a row, or '+' at an end)")
@@ -360,6 +366,10 @@ def resolve_species(
                 candidates=[describe_compound(library, f) for f in alike],
             )
         raise UnknownSpecies(formula, library.suggest(formula))
+    if phase is None and any(sp.phase != "aq" for sp in hits):
+        # An aqueous species is a solute at 1 mol/kg, not a phase the pure substance turns
+        # into: it is used only when the equation says (aq) (or nothing else exists).
+        hits = [sp for sp in hits if sp.phase != "aq"]
     chosen = [
         sp
         for sp in hits
@@ -389,8 +399,29 @@ def _allotropes(library: Library, own: Sequence[Species]) -> list[tuple[Species,
     for sp in library:
         if sp.formula == first.formula or sp.charge or set(sp.elements) != {element}:
             continue
+        if sp.phase == "aq":  # a solute is not a molecular form of the pure element
+            continue
         out.append((sp, count / sp.elements[element]))
     return sorted(out, key=lambda x: x[0].id)
+
+
+def _check_ion_conventions(terms: Sequence[ReactionTerm], text: str) -> None:
+    """Refuse a reaction that mixes gas ions with aqueous ions: their ΔfH° rest on different
+    conventions (thermal electron for gas ions, H⁺(aq) = 0 for aqueous ones), so a sum over
+    both would be wrong by the convention's offset."""
+    gas_ion = [
+        t.label() for t in terms if any(sp.charge and sp.phase == "g" for sp in t.candidates)
+    ]
+    aq_ion = [
+        t.label() for t in terms if any(sp.charge and sp.phase == "aq" for sp in t.candidates)
+    ]
+    if gas_ion and aq_ion:
+        raise ReactionSyntaxError(
+            text,
+            f"gas ions ({', '.join(gas_ion)}) and aqueous ions ({', '.join(aq_ion)}) rest on "
+            "different conventions and cannot be combined in one reaction; label the ions (aq) "
+            "for a solution reaction or (g) for a gas-phase one",
+        )
 
 
 def _as_fraction(x: float) -> Fraction:
@@ -471,6 +502,7 @@ class Reaction:
                     f"{t.label()} appears more than once; write it once with its net coefficient",
                 )
             merged[key] = t
+        _check_ion_conventions(terms, text)
         rxn = cls(terms, text, library)
         if balance:
             return rxn.balanced()
@@ -674,9 +706,15 @@ class Reaction:
         for term, idx in zip(self.terms, plan, strict=True):
             if term.phase is None and term.form is None:
                 continue
+            aq = any(sp.phase == "aq" for sp in term.candidates)
+            # An aqueous solute and a pure phase are not rival phases (different standard
+            # states, and ions on different conventions): never compared.
             own = self.library.by_formula(term.formula)
-            others = [(sp, 1.0) for sp in own if sp not in term.candidates]
-            others += _allotropes(self.library, own)
+            others = [
+                (sp, 1.0) for sp in own if sp not in term.candidates and (sp.phase == "aq") == aq
+            ]
+            if not aq:
+                others += _allotropes(self.library, own)
             if not others:
                 continue
             used_g = np.array(

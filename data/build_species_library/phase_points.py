@@ -1,0 +1,65 @@
+"""Tabulated melting and boiling points (chemicals) as the entries' ``phase_points``.
+
+The kernel says when the phase stable at a temperature is missing from the library (see
+``feasibly.thermo.phase_points``); it needs each substance's melting and boiling point, taken
+here at build time so that chemicals is never needed at run time. Only tabulated values are
+used, in this order of preference: the CRC Handbook tables (inorganic, organic), the reference
+equations of state (HEOS), the NIST WebBook, CAS Common Chemistry, the Open Notebook melting
+points, Yaws' compilation; estimation methods (e.g. Joback) are never used. The source of each
+value is written with it.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from typing import Any
+
+from chemicals.phase_change import Tb, Tb_methods, Tm, Tm_methods
+
+from .entries import Entry
+from .sources import VERS
+
+# Tabulated (not estimated) methods of chemicals.phase_change, most preferred first.
+TABULATED = (
+    "CRC_INORG",
+    "CRC_ORG",
+    "HEOS",
+    "WEBBOOK",
+    "COMMON_CHEMISTRY",
+    "OPEN_NTBKM",
+    "YAWS",
+)
+
+
+def _first(cas: str, methods: Callable[[str], list[str]], value: Callable[..., Any]) -> tuple:
+    try:
+        have = methods(cas)
+    except Exception:  # chemicals raises for CAS numbers it does not know
+        return None, None
+    for m in TABULATED:
+        if m in have:
+            v = value(cas, method=m)
+            if v is not None and v > 0:
+                return round(float(v), 3), m
+    return None, None
+
+
+def add_phase_points(entries: list[Entry]) -> int:
+    """Set ``phase_points`` on every non-aqueous entry with a CAS that chemicals tabulates a
+    melting or boiling point for; return how many entries got one."""
+    n = 0
+    for e in entries:
+        if e["phase"] == "aq" or not e["cas"]:
+            continue
+        tm, m_tm = _first(e["cas"], Tm_methods, Tm)
+        tb, m_tb = _first(e["cas"], Tb_methods, Tb)
+        if tm is None and tb is None:
+            continue
+        e["phase_points"] = {
+            "T_melt_K": tm,
+            "T_boil_K": tb,
+            "source": f"chemicals {VERS['chemicals']} phase_change (Tm: {m_tm}; Tb: {m_tb}; "
+            f"CAS {e['cas']})",
+        }
+        n += 1
+    return n
