@@ -1,7 +1,7 @@
 """Tabulated melting and boiling points (chemicals) as the entries' ``phase_points``.
 
 The kernel says when the phase stable at a temperature is missing from the library (see
-``feasibly.thermo.phase_points``); it needs each substance's melting and boiling point, taken
+``feasibly.thermo.missing_phases``); it needs each substance's melting and boiling point, taken
 here at build time so that chemicals is never needed at run time. Only tabulated values are
 used, in this order of preference: the CRC Handbook tables (inorganic, organic), the reference
 equations of state (HEOS), the NIST WebBook, CAS Common Chemistry, the Open Notebook melting
