@@ -170,3 +170,15 @@ def test_cli_molality_option(capsys: pytest.CaptureFixture[str]) -> None:
     code = main(["assess", "AgCl(cr) -> Ag+(aq) + Cl-(aq)", "--T", "25", "degC", "--m", "Ag+=1e-5"])
     _, err = capsys.readouterr()
     assert code == 2 and "molality" in err and "Traceback" not in err
+
+
+def test_molalities_and_a_required_conversion_are_not_combined() -> None:
+    # The call at a required conversion takes its composition from a gas feed; molalities would
+    # be a second, conflicting description of the conditions.
+    conv = {"feed": {"CO2": 1.0}, "key": "CO2", "required": "50%", "P": "1 bar"}
+    eq = "CaCO3(cr,calcite) + CO2 + H2O(l) -> Ca+2(aq) + 2 HCO3-(aq)"
+    mol = {"Ca+2": "1e-3 mol/kg"}
+    with pytest.raises(UnitError, match="not both"):
+        assess(eq, T="25 degC", molalities=mol, at_conversion=conv)
+    with pytest.raises(UnitError, match="not both"):
+        assess_uncertainty(eq, T="25 degC", samples=256, seed=1, molalities=mol, at_conversion=conv)
