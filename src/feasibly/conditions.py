@@ -25,9 +25,16 @@ from typing import Any
 
 import numpy as np
 
-from ._limits import MAX_EQUATION_CHARS, MAX_POINTS, MAX_SAMPLES, MAX_TRIAL_TEMPERATURES, gib
+from ._limits import (
+    MAX_EQUATION_CHARS,
+    MAX_POINTS,
+    MAX_QUANTITY_CHARS,
+    MAX_SAMPLES,
+    MAX_TRIAL_TEMPERATURES,
+    gib,
+)
 from .errors import InvalidInput, InvalidUncertainty, UnitError
-from .units import Q_, to_kelvin, to_pascal
+from .units import to_kelvin, to_pascal
 
 __all__ = [
     "MAX_FEED_AMOUNT",
@@ -256,6 +263,13 @@ def read_molalities(molalities: Mapping[str, Any] | None, function: str = "") ->
             raise UnitError(
                 value, f"molality of {name}", "a bare number is ambiguous; write '0.01 mol/kg'"
             )
+        if isinstance(value, str) and len(value) > MAX_QUANTITY_CHARS:
+            raise UnitError(
+                value, f"molality of {name}", f"longer than {MAX_QUANTITY_CHARS} characters"
+            )
+        # The unit registry loads here, on first use (a plain screen never needs it).
+        from .units import Q_
+
         try:
             q = value if hasattr(value, "to") else Q_(str(value).replace("molal", "mol/kg"))
             m = float(np.squeeze(q.to("mol/kg").magnitude))

@@ -70,6 +70,7 @@ def test_molalities_enter_q_and_unknown_ones_are_refused() -> None:
         ("0.1 bar", "mol/kg"),
         ("-1 mol/kg", "above 0"),
         ("nan mol/kg", "finite"),
+        ("0.1 " + "mol/kg*" * 40, "longer than"),  # bounded before any unit parsing
     ],
 )
 def test_bad_molalities(value: object, fragment: str) -> None:
