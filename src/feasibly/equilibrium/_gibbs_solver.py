@@ -17,6 +17,7 @@ non-singular system.
 
 from __future__ import annotations
 
+import itertools
 import math
 from dataclasses import dataclass
 from functools import cache
@@ -24,7 +25,7 @@ from functools import cache
 import numpy as np
 from threadpoolctl import threadpool_limits
 
-__all__ = ["GibbsBatch", "reduce_elements", "solve_batch"]
+__all__ = ["GibbsBatch", "reachable", "reduce_elements", "solve_batch"]
 
 # RP-1311 §3.3: species below mole fraction 1e-8 do not limit the step for the major species;
 # a trace species that is rising may at most reach mole fraction 1e-4 in one step (eq. 3.2).
@@ -556,3 +557,70 @@ def _retry(
         for name in ("ln_n", "ln_N", "m", "active", "pi", "converged"):
             getattr(out, name)[bad[ok]] = getattr(sol, name)[ok]
         out.iterations[bad] += sol.iterations
+
+
+# --- which species the feed can make ------------------------------------------------------------
+# A feed's element totals b lie in the cone spanned by the species' element vectors. When b lies
+# on a face of that cone (CO + 2 H2 has O = C exactly, so neither CO2 nor H2O can form), the
+# species off that face must be exactly zero, and the Newton system, which needs every gas amount
+# positive, becomes singular as they fall towards zero. The species on the face are found here
+# from the facets of the cone (each facet: a normal w with w·a_j ≥ 0 for every species, zero on
+# r − 1 independent ones); the species left are those with w·a_j = 0 for every facet with w·b = 0.
+# Relative size of w·a or w·b (w and b normalised) that counts as zero: element counts are small
+# integers and feeds are sums of them, so exact zeros come out of rounding at ~1e-16; 1e-12 keeps
+# a feed that lies truly off a face by more than that from being moved onto it.
+_FACE_TOL = 1e-12
+# Facets are enumerated from (r − 1)-subsets of the species; beyond this many subsets the
+# enumeration is skipped (every species kept, as before), which only larger sets than any we
+# test would reach: 15 species over 5 independent elements give 1365 subsets.
+_MAX_SUBSETS = 200_000
+
+
+@cache
+def _facets(A_bytes: bytes, shape: tuple[int, int]) -> np.ndarray:
+    """Unit normals (F × r) of the facets of the cone spanned by the columns of A (r × n, full
+    row rank r); F = 0 when r ≤ 1 (a ray has no facets inside its own span)."""
+    A = np.frombuffer(A_bytes).reshape(shape)
+    r, n = shape
+    if r <= 1 or math.comb(n, r - 1) > _MAX_SUBSETS:
+        return np.zeros((0, r))
+    scale = np.linalg.norm(A, axis=0)
+    An = A / np.where(scale > 0, scale, 1.0)
+    found: list[np.ndarray] = []
+    for subset in itertools.combinations(range(n), r - 1):
+        sub = An[:, subset]
+        u, s, _ = np.linalg.svd(sub, full_matrices=True)
+        if s.size and s[-1] <= 1e-10 * s[0]:  # dependent columns: no hyperplane of their own
+            continue
+        w = u[:, -1]
+        d = w @ An
+        if np.all(d >= -_FACE_TOL):
+            pass
+        elif np.all(d <= _FACE_TOL):
+            w = -w
+        else:
+            continue
+        if not any(abs(float(w @ f)) > 1.0 - 1e-12 for f in found):
+            found.append(w)
+    return np.array(found).reshape(-1, r)
+
+
+def reachable(A: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """Which species (B × n) can have a positive amount at element totals ``b`` (B × E).
+
+    ``A`` (E × n): element matrix of the species that may appear. A species is reachable when
+    some non-negative amounts with A n = b give it a positive amount; the others are exactly zero
+    at every feasible composition, equilibrium included.
+    """
+    Q = reduce_elements(A)
+    Ar = Q.T @ A
+    br = b @ Q
+    W = _facets(np.ascontiguousarray(Ar).tobytes(), Ar.shape)
+    B = b.shape[0]
+    if W.shape[0] == 0:
+        return np.ones((B, A.shape[1]), dtype=bool)
+    scale = np.linalg.norm(Ar, axis=0)
+    on = np.abs(W @ (Ar / np.where(scale > 0, scale, 1.0))) <= _FACE_TOL  # F × n
+    tight = np.abs(br @ W.T) <= _FACE_TOL * np.linalg.norm(br, axis=1, keepdims=True)  # B × F
+    # reachable: on every tight facet, i.e. no tight facet the species lies off
+    return ~((tight.astype(np.int64) @ (~on).astype(np.int64)) > 0)

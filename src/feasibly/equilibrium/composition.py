@@ -32,7 +32,7 @@ from ._common import (
     _split_label,
     parse_feed,
 )
-from ._gibbs_solver import GibbsBatch, reduce_elements, solve_batch
+from ._gibbs_solver import GibbsBatch, reachable, reduce_elements, solve_batch
 
 __all__ = ["CARBON_FRACTION_CAUTION", "Equilibrium", "equilibrate"]
 
@@ -149,19 +149,34 @@ class _Prepared:
     avail: np.ndarray
 
     def groups(self) -> list[tuple[np.ndarray, np.ndarray, np.ndarray]]:
-        """States sharing the same elements with zero total: (rows, element mask, entry mask)."""
-        present = self.b > 0
+        """States sharing the species their feed can make: (rows, element mask, entry mask).
+
+        An entry is kept where its data cover T and the feed's element totals allow it a positive
+        amount (:func:`reachable`); the others are exactly zero. Elements kept are those of the
+        kept entries (the others have zero total).
+        """
+        A = self.sset.A
+        keep = np.zeros(self.avail.shape, dtype=bool)
+        # one availability pattern is the usual case; np.unique over rows would sort for nothing
+        if np.all(self.avail == self.avail[:1], axis=None):
+            patterns, which = self.avail[:1], np.zeros(len(self.avail), dtype=np.intp)
+        else:
+            patterns, which = np.unique(self.avail, axis=0, return_inverse=True)
+            which = which.ravel()
+        for p, pattern in enumerate(patterns):
+            rows = np.nonzero(which == p)[0]
+            cols = np.nonzero(pattern)[0]
+            keep[np.ix_(rows, cols)] = reachable(A[:, cols], self.b[rows])
         out = []
-        # one pattern is the usual case; np.unique over rows would sort every state for nothing
-        same = np.all(present == present[:1], axis=None)
-        for pattern in present[:1] if same else np.unique(present, axis=0):
-            rows = (
-                np.arange(len(present))
-                if same
-                else np.nonzero(np.all(present == pattern, axis=1))[0]
-            )
-            keep = ~np.any(self.sset.A[~pattern] > 0, axis=0)
-            out.append((rows, pattern, keep))
+        if np.all(keep == keep[:1], axis=None):
+            kinds, where = keep[:1], np.zeros(len(keep), dtype=np.intp)
+        else:
+            kinds, where = np.unique(keep, axis=0, return_inverse=True)
+            where = where.ravel()
+        for k, kind in enumerate(kinds):
+            rows = np.nonzero(where == k)[0]
+            el_mask = np.any(A[:, kind] != 0, axis=1)
+            out.append((rows, el_mask, kind))
         return out
 
 
@@ -193,8 +208,8 @@ def _solve(
         gk = g if whole else g[np.ix_(rows, keep)]
         av = prep.avail if whole else prep.avail[np.ix_(rows, keep)]
         start = start_rows = None
-        if warm is not None and el_mask.tobytes() in warm[0]:
-            rows0, start = warm[0][el_mask.tobytes()]
+        if warm is not None and keep.tobytes() in warm[0]:
+            rows0, start = warm[0][keep.tobytes()]
             start_rows = np.searchsorted(rows0, warm[1][rows])
         sol = solve_batch(
             Ar[:, kg],
@@ -208,7 +223,7 @@ def _solve(
             start=start,
             start_rows=start_rows,
         )
-        solved[el_mask.tobytes()] = (rows, sol)
+        solved[keep.tobytes()] = (rows, sol)
         cols = np.nonzero(keep)[0]
         sub = np.empty((rows.size, cols.size))
         sub[:, kg] = np.exp(sol.ln_n)
