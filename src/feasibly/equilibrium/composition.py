@@ -32,7 +32,7 @@ from ._common import (
     _split_label,
     parse_feed,
 )
-from ._gibbs_solver import GibbsBatch, reachable, reduce_elements, solve_batch
+from ._gibbs_solver import GibbsBatch, reachable, reduce_elements, rescue, solve_batch
 
 __all__ = ["CARBON_FRACTION_CAUTION", "Equilibrium", "equilibrate"]
 
@@ -184,8 +184,9 @@ def _solve(
     prep: _Prepared,
     g: np.ndarray,
     warm: tuple[dict[bytes, tuple[np.ndarray, GibbsBatch]], np.ndarray] | None = None,
-) -> tuple[np.ndarray, np.ndarray, dict[bytes, tuple[np.ndarray, GibbsBatch]]]:
-    """Amounts (states × entries), converged mask, and the solver state per group of states.
+) -> tuple[np.ndarray, np.ndarray, dict[bytes, tuple[np.ndarray, GibbsBatch]], np.ndarray]:
+    """Amounts (states × entries), converged mask, the solver state per group of states, and
+    the states whose equilibrium has no gas phase at all (not converged: see :func:`rescue`).
 
     ``warm``: solver states of an earlier solve and, for each state here, the state there to
     start from (the nominal solution at the same T, P and feed for sampled data).
@@ -194,6 +195,7 @@ def _solve(
     gas = sset.gas
     amounts = np.zeros((prep.T.size, len(sset.entries)))
     converged = np.ones(prep.T.size, dtype=bool)
+    no_gas = np.zeros(prep.T.size, dtype=bool)
     solved: dict[bytes, tuple[np.ndarray, GibbsBatch]] = {}
     for rows, el_mask, keep in prep.groups():
         # One group of every state, element and entry (the usual case) needs no gathered copies.
@@ -211,7 +213,7 @@ def _solve(
         if warm is not None and keep.tobytes() in warm[0]:
             rows0, start = warm[0][keep.tobytes()]
             start_rows = np.searchsorted(rows0, warm[1][rows])
-        sol = solve_batch(
+        args = (
             Ar[:, kg],
             Ar[:, kc],
             gk[:, kg],
@@ -220,9 +222,18 @@ def _solve(
             np.log(prep.P[rows] / _P_STD),
             av[:, kg],
             av[:, kc],
-            start=start,
-            start_rows=start_rows,
         )
+        if np.any(kg):
+            sol = solve_batch(*args, start=start, start_rows=start_rows)
+        else:  # the feed can make no gas at all: only the dual route applies
+            n, r, nc = rows.size, Ar.shape[0], int(kc.sum())
+            sol = GibbsBatch(
+                np.zeros((n, 0)), np.zeros(n), np.zeros((n, nc)), np.zeros((n, nc), dtype=bool),
+                np.zeros((n, r)), np.zeros(n, dtype=bool), np.zeros(n, dtype=np.int64),
+            )  # fmt: skip
+        if not np.all(sol.converged):
+            # the reduced image of the all-ones element vector: the direction of the dual's start
+            no_gas[rows] = rescue(sol, *args, Q.T @ np.ones(Q.shape[0]))
         solved[keep.tobytes()] = (rows, sol)
         cols = np.nonzero(keep)[0]
         sub = np.empty((rows.size, cols.size))
@@ -234,28 +245,38 @@ def _solve(
         else:
             amounts[np.ix_(rows, cols)] = sub
         converged[rows] = sol.converged
-    return amounts, converged, solved
+    return amounts, converged, solved, no_gas
 
 
-def _raise_unconverged(prep: _Prepared, ok: np.ndarray) -> None:
+def _raise_unconverged(
+    prep: _Prepared, ok: np.ndarray, no_gas: np.ndarray, amounts: np.ndarray
+) -> None:
+    """Refuse the states that did not converge, with the reason where it is known."""
     bad = np.nonzero(~ok)[0]
     if bad.size == 0:
         return
-    condensed = not np.all(prep.sset.gas)
-    hint = (
-        "Check that the feed can be made from the listed species. "
-        + (
-            "If the gas phase may vanish entirely (only condensed phases left), add a little "
-            "inert gas such as N2 or Ar: this solver keeps a gas phase. "
-            if condensed
-            else ""
+    sset = prep.sset
+    if np.all(no_gas[bad]):
+        i = int(bad[0])
+        left = [sp.id for sp, n in zip(sset.entries, amounts[i], strict=True) if n > 0]
+        raise EquilibriumNotConverged(
+            "The Gibbs energy minimisation",
+            [_fmt_state(prep.T[j], prep.P[j]) for j in bad],
+            "There the equilibrium has no gas phase: the whole feed stays condensed (at the first "
+            f"state as {', '.join(left)}), and the listed gases would together reach less than "
+            "the total pressure. This calculation describes a gas phase, so it gives no "
+            "composition; to get the condensed amounts, list an inert gas (e.g. Ar(g)) and add "
+            "a trace of it to the feed.",
+            indices=bad.tolist(),
+            reasons=["no gas phase"] * bad.size,
         )
-        + "If a temperature is near a phase boundary, try one a few kelvin away."
-    )
     raise EquilibriumNotConverged(
         "The Gibbs energy minimisation",
         [_fmt_state(prep.T[i], prep.P[i]) for i in bad],
-        hint,
+        "Check that the element totals can be made from the listed species (every element must "
+        "be carried by some species in the right proportions).",
+        indices=bad.tolist(),
+        reasons=["no gas phase" if no_gas[i] else "not converged" for i in bad],
     )
 
 
@@ -473,8 +494,8 @@ def equilibrate(
     avail = _availability(sset, T_K)
     prep = _Prepared(sset, T_K, P_Pa, b, avail)
     g = _gibbs_rt(sset, T_K, avail)
-    amounts, ok, batches = _solve(prep, g)
-    _raise_unconverged(prep, ok)
+    amounts, ok, batches, no_gas = _solve(prep, g)
+    _raise_unconverged(prep, ok, no_gas, amounts)
     result = Equilibrium(
         tuple(sp.id for sp in sset.entries),
         tuple(sp.phase for sp in sset.entries),
@@ -506,8 +527,8 @@ def equilibrate(
         g_flat = np.moveaxis(g_s, 2, 1).reshape(m * n, -1)
         rep = np.repeat(np.arange(sl.start, sl.stop), n)
         sub = _Prepared(sset, *(np.repeat(x[sl], n, axis=0) for x in (T_K, P_Pa, b, avail)))
-        amt, ok_s, _ = _solve(sub, g_flat, (batches, rep))
-        _raise_unconverged(sub, ok_s)
+        amt, ok_s, _, no_gas_s = _solve(sub, g_flat, (batches, rep))
+        _raise_unconverged(sub, ok_s, no_gas_s, amt)
         amt = amt.reshape(m, n, -1)
         ng = np.where(gas, amt, 0.0)
         frac = ng / ng.sum(axis=2, keepdims=True)
