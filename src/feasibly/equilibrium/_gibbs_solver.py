@@ -782,11 +782,10 @@ def rescue(
     for i in np.nonzero(~out.converged)[0]:
         ag, ac = avail_g[i], avail_c[i]
         d = solve_dual(A_g[:, ag], A_c[:, ac], g_g[i, ag], g_c[i, ac], b[i], float(ln_p[i]), ones)
-        if not d.ok:
-            continue
         if d.gas:
+            # a start only: the Newton iteration from it is what must converge
             starts.append((int(i), d))
-        else:
+        elif d.ok:
             out.ln_n[i] = -np.inf
             out.ln_N[i] = -np.inf
             out.m[i] = 0.0
