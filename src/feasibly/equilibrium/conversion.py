@@ -41,6 +41,7 @@ from ..errors import (
 )
 from ..library.catalogue import Library, default_library
 from ..library.cp_models import R
+from ..library.species import Species
 from ..thermo import (
     Critical,
     critical_constants,
@@ -220,7 +221,9 @@ def _gas_mixture(rxn: Reaction, feed: Mapping[str, float]) -> _GasMixture:
             continue
         formula, phase, form = _split_label(name)
         found = [
-            sp for sp in resolve_species(rxn.library, formula, phase, form, name)[1] if sp.phase == "g"
+            sp
+            for sp in resolve_species(rxn.library, formula, phase, form, name)[1]
+            if sp.phase == "g"
         ]
         if found:
             inert_sp.append(found[0])

@@ -26,8 +26,7 @@ from pathlib import Path
 import numpy as np
 
 import feasibly
-from feasibly.thermo import split_phase_label
-from feasibly.thermo.reaction import _resolve
+from feasibly.thermo import resolve_species, split_phase_label
 
 HERE = Path(__file__).resolve().parent
 SEED = 20261202  # fixed: the same cases on every run
@@ -88,7 +87,7 @@ def _system(rng: np.random.Generator, lib: feasibly.Library, i: int) -> dict:
         entries = []
         for tok in tokens:
             formula, phase, form = split_phase_label(tok)
-            found = _resolve(lib, formula, phase, form, tok)[1]
+            found = resolve_species(lib, formula, phase, form, tok)[1]
             entries.append([sp for sp in found if sp.phase in ("g", "l", "cr")])
         T = rng.uniform(T_LO, T_HI, 4 * STATES_PER_SYSTEM)
         ok = np.ones(T.size, dtype=bool)
