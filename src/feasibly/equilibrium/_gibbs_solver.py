@@ -763,8 +763,11 @@ def solve_dual(
     )
     rel = float(resid) / float(np.linalg.norm(b))
     point = DualPoint(p, gas and N > 0, ln_x, N, m > 0, m, math.exp(min(L, 0.0)), ok, rel)
-    if point.gas and point.ok:
+    if point.gas:
         _polish(point, A_g, A_c, c_g, g_c, b)
+        # polished, the point is checked again: balance met, no condensed phase below the plane
+        feasible = nc == 0 or bool(np.all(g_c - A_c.T @ point.pi >= -_BIND_TOL))
+        point.ok = point.ok or (point.balance <= _NNLS_TOL and feasible)
     return point
 
 
