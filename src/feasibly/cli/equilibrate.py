@@ -71,7 +71,7 @@ def _print(eq: Equilibrium) -> None:
     absent = [
         sid
         for j, sid in enumerate(eq.species)
-        if eq.phases[j] == "g" and np.all(eq.amounts[:, j] == 0.0)
+        if eq.phases[j] == "g" and bool((eq.amounts[:, j] == 0.0).all())
     ]
     if absent:
         print(
