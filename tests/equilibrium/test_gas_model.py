@@ -105,3 +105,56 @@ def test_record_carries_the_gas_model_and_verify_reproduces_it(tmp_path, capsys)
     assert main([*args[:-4], "--record", str(ideal)]) == 0
     assert "Note: Non-ideal gases" in capsys.readouterr().out
     assert json.loads(ideal.read_text("utf-8"))["conversion"]["gas_model"] == "ideal"
+
+
+def test_call_draws_with_fugacity_meet_the_mass_action_threshold():
+    """With the call's own sample set and Peng–Robinson gases, P(conversion ≥ 30 %) is the
+    fraction of the call's draws whose ln K° reaches Σ ν ln(φ x P/P°) at 30 % conversion.
+
+    Independent route: the threshold comes from the law of mass action at the composition of
+    the required conversion with φ evaluated directly; the extent solver is not used for it.
+    Conversion grows with ln K° here (one reaction, fixed T and P), so the two events coincide.
+    """
+    from feasibly import assess_uncertainty
+    from feasibly.uncertainty import linear_model
+
+    u = assess_uncertainty(NH3, T_range=("700 K", "820 K"), points=7, samples=4096, seed=5)
+    T = np.asarray(u.T)
+    P = 200e5
+    x_req = 0.3
+    n = np.array([1.0 - x_req, 3.0 * (1.0 - x_req), 2.0 * x_req])  # N2, H2, NH3 from N2:1, H2:3
+    y = np.tile(n / n.sum(), (T.size, 1))
+    crit = critical_constants([LIB["N2(g)"], LIB["H2(g)"], LIB["NH3(g)"]])
+    nu = np.array([-1.0, -3.0, 2.0])
+    ln_phi = ln_fugacity_coefficients(T, np.full(T.size, P), y, crit)
+    need_pr = np.sum(nu * (ln_phi + np.log(y * P / 1e5)), axis=1)
+    need_ideal = np.sum(nu * np.log(y * P / 1e5), axis=1)
+    ln_k = -linear_model(u.reaction, T, u.samples).values("G", u.samples) / (R * T[:, None])
+    for gas_model, need in (("peng-robinson", need_pr), ("ideal", need_ideal)):
+        c = conversion_assessment(u.reaction, (T, "K"), "N2:1, H2:3", "N2", "30%", "200 bar",
+                                  sample_set=u.samples, gas_model=gas_model)  # fmt: skip
+        assert c["shared_draws"] and c["trials"] == u.trials and c["gas_model"] == gas_model
+        p = np.array([r["P_meets_required"] for r in c["rows"]])
+        # one trial: a draw whose ln K° sits within the solver's rounding of the threshold
+        np.testing.assert_allclose(p, np.mean(ln_k >= need[:, None], axis=1), atol=1.0 / u.trials)
+    # the fugacity coefficients move the threshold by more than the spread of the draws here
+    p_pr = np.mean(ln_k >= need_pr[:, None], axis=1)
+    p_id = np.mean(ln_k >= need_ideal[:, None], axis=1)
+    assert np.max(np.abs(p_pr - p_id)) > 0.1
+
+
+def test_sampled_record_with_fugacity_uses_the_calls_draws_and_verifies(tmp_path, capsys):
+    path = tmp_path / "nh3-sampled.json"
+    args = ["assess", NH3, "--T", "760", "K", "--feed", "N2:1, H2:3", "--key", "N2",
+            "--require-conversion", "30%", "--P", "200", "bar", "--gas-model", "peng-robinson",
+            "--samples", "2048", "--seed", "11", "--record", str(path)]  # fmt: skip
+    assert main(args) == 0
+    capsys.readouterr()
+    doc = json.loads(path.read_text("utf-8"))
+    assert doc["conversion"]["gas_model"] == "peng-robinson"
+    assert doc["conversion"]["shared_draws"] is True
+    assert doc["conversion"]["samples"] == 2048 and doc["conversion"]["seed"] == 11
+    res = doc["results"]["conversion"]
+    assert res["gas_model"] == "peng-robinson" and res["trials"] == 2048
+    assert main(["verify", str(path)]) == 0
+    assert "identical" in capsys.readouterr().out
