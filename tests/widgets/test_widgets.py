@@ -413,3 +413,17 @@ def test_equation_and_pressure_changes_update_the_figure_in_place(sheet, monkeyp
     assert "ΔrG (kJ/mol)" in fig.layout.yaxis2.title.text  # ΔrG° became ΔrG (overlaying axis)
     sheet.temperature.unit = "°C"  # a new display unit redraws every axis
     assert len(builds) == 1 and sheet.panel.figure is fig
+
+
+def test_conversion_notes_are_shown():
+    """The non-ideal-gas warning of conversion_assessment appears in the conversion view."""
+    from feasibly.equilibrium import conversion_assessment
+    from feasibly.widgets import ConversionTarget
+
+    res = conversion_assessment(
+        "N2 + 3 H2 -> 2 NH3", ([600.0, 700.0], "K"), "N2:1, H2:3", "N2", "20%", "200 bar",
+        samples=256, seed=1,
+    )  # fmt: skip
+    assert res["notes"]
+    shown = ConversionTarget._table(res)
+    assert "Non-ideal gases" in shown and "peng-robinson" in shown

@@ -361,3 +361,5 @@ def _print_conversion(c: dict[str, Any]) -> None:
         print(f"The required conversion is met {where} {spans}.")
     else:
         print("The required conversion is not met anywhere in this range.")
+    for note in c.get("notes", []):
+        print(f"Note: {note}")

@@ -177,6 +177,7 @@ def _cmd_assess(args: argparse.Namespace) -> int:
             library=lib,
             # The call's own draws, overrides and correlations: one set behind every number.
             sample_set=uncertain.samples if uncertain is not None else None,
+            gas_model=args.gas_model,
         )
     if args.record:
         from ..equilibrium import parse_feed
@@ -195,6 +196,7 @@ def _cmd_assess(args: argparse.Namespace) -> int:
                     "seed": uncertain.samples.seed if uncertain is not None else None,
                     "confidence": args.confidence,
                     "shared_draws": uncertain is not None,
+                    "gas_model": conversion["gas_model"],
                 },
             }
         record = record_from(
@@ -422,6 +424,14 @@ def register(sub: Any) -> None:
         help="conversion of --key that you need, e.g. 90%% or 0.9",
     )
     e.add_argument("--key", help="the reactant whose conversion counts, e.g. CH4")
+    e.add_argument(
+        "--gas-model",
+        dest="gas_model",
+        default="ideal",
+        choices=["ideal", "peng-robinson"],
+        help="gases in the equilibrium: ideal, or with Peng–Robinson fugacity coefficients "
+        "(for tens of bar and more; default ideal)",
+    )
     h = a.add_argument_group("heat (needs --feed)")
     h.add_argument(
         "--heat",
