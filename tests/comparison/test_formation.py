@@ -36,7 +36,7 @@ def test_equations_are_scaled_to_one_mole_of_reagent() -> None:
 
 def test_bands_bracket_the_line_and_comparisons_are_counted_per_draw() -> None:
     lines = formation_lines(
-        ["FeO", "Cr2O3", "NiO"], T_range=("700 K", "1300 K"), points=4, samples=8000, seed=3
+        ["FeO", "Cr2O3", "Cu2O"], T_range=("700 K", "1300 K"), points=4, samples=8000, seed=3
     )
     assert lines.bands is not None
     lo, mid, hi = lines.bands[0], lines.bands[2], lines.bands[-1]

@@ -117,7 +117,7 @@ def test_to_dict_has_the_documented_keys() -> None:
     for key in ("T_K", "dH_J_per_mol", "dS_J_per_mol_K", "dG_J_per_mol", "log10_K"):
         assert key in d["rows"][0]
     assert d["balanced_equation"] == "C2H6 -> C2H4 + H2"
-    assert d["data_version"] == "2026.12.0"
+    assert d["data_version"] == "2026.12.1"
     assert isinstance(d["crossover_K"], list)
 
 

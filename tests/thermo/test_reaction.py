@@ -12,6 +12,7 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
+import feasibly
 from feasibly import (
     AmbiguousBalance,
     FeasiblyError,
@@ -301,3 +302,13 @@ def test_exact_formulas_still_resolve_and_carry_name_and_cas() -> None:
     rxn = Reaction.parse("CaCO3 -> CaO + CO2")
     # CAS numbers as the data library records them (from the chemicals identifier database).
     assert [t.identity()["cas"] for t in rxn.terms] == ["471-34-1", "1305-78-8", "124-38-9"]
+
+
+def test_a_shipped_gas_only_compound_is_not_used_for_its_solid() -> None:
+    """NiO has only a gas entry once the Burcat solid (ΔfH° 231 kJ/mol off its own header) is
+    left out; written without a phase it must be refused, not silently used as NiO(g), which gave
+    ΔrG° = −442 kJ/mol for NiO + H2 → Ni + H2O at 800 K (about −20 from the CRC/NBS solid
+    values, from memory)."""
+    with pytest.raises(feasibly.UnknownSpecies, match=r"only the gas NiO\(g\)"):
+        feasibly.Reaction.parse("NiO + H2 -> Ni + H2O")
+    feasibly.Reaction.parse("NiO(g) + H2 -> Ni + H2O")  # the gas, when asked for by name

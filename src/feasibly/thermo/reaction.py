@@ -381,6 +381,22 @@ def resolve_species(
         raise UnknownSpecies(
             f"{hits[0].formula}({want})", [sp.id for sp in hits], detail=f"The library has {have}."
         )
+    if (
+        phase is None
+        and all(sp.phase == "g" and sp.origin == "library" for sp in chosen)
+        and not any(sp.raw.get("phase_points") for sp in chosen if sp.raw)
+        and sum(chosen[0].elements.values()) > 1
+    ):
+        # Only a gas entry, and no tabulated melting or boiling point to say that the compound is
+        # a gas where it is used: an oxide such as NiO or FeO would silently become its vapour.
+        raise UnknownSpecies(
+            formula,
+            [sp.id for sp in chosen],
+            detail=f"The data library has only the gas {chosen[0].id} for it, and no tabulated "
+            "melting or boiling point to show it is a gas at your temperatures. Write "
+            f"{chosen[0].id} if you mean the gas; if you mean a solid or liquid, add that phase "
+            "in a species file.",
+        )
     return hits[0].formula, tuple(chosen)
 
 
