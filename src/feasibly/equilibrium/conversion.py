@@ -49,6 +49,7 @@ from ..thermo import (
     read_gas_model,
     standard_properties,
 )
+from ..thermo.energy import term_index
 from ..thermo.reaction import Reaction, resolve_species
 from ..uncertainty.inputs import Correlations, Method, Override, build_inputs, correlation_matrix
 from ..uncertainty.linear import (
@@ -110,15 +111,6 @@ class ExtentEquilibrium:
     fugacity_term: np.ndarray | None = None
 
 
-def _term_index(rxn: Reaction, name: str) -> int | None:
-    formula, phase, _ = _split_label(name)
-    for j, t in enumerate(rxn.terms):
-        if name in (t.label(), t.text, *(sp.id for sp in t.candidates)):
-            return j
-    hits = [j for j, t in enumerate(rxn.terms) if t.formula == formula and phase in (None, t.phase)]
-    return hits[0] if len(hits) == 1 else None
-
-
 def _reaction_inputs(
     rxn: Reaction, feed: Mapping[str, float], key: str | None, T: np.ndarray
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray, float, int | None]:
@@ -136,7 +128,7 @@ def _reaction_inputs(
     n0 = np.zeros(nu.size)
     inert = 0.0
     for name, amount in feed.items():
-        j = _term_index(rxn, name)
+        j = term_index(rxn, name)
         if j is not None:
             n0[j] += float(amount)
             continue
@@ -146,7 +138,7 @@ def _reaction_inputs(
             inert += float(amount)  # a condensed inert does not change any activity
     k = None
     if key is not None:
-        k = _term_index(rxn, key)
+        k = term_index(rxn, key)
         if k is None or rxn.terms[k].nu > 0:
             raise UnknownSpecies(
                 key,
@@ -226,7 +218,7 @@ def _gas_mixture(rxn: Reaction, feed: Mapping[str, float]) -> _GasMixture:
     inert_sp: list[Species] = []
     inert_n: list[float] = []
     for name, amount in feed.items():
-        if _term_index(rxn, name) is not None:
+        if term_index(rxn, name) is not None:
             continue
         formula, phase, form = _split_label(name)
         found = [
