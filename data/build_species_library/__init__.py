@@ -41,13 +41,22 @@ Modules, in dependency order (each imports only modules listed above it; :data:`
 - ``one_bar`` — the check that the gas entropies are on a 1 bar basis;
 - ``physical_checks`` — S°, Cp and G-continuity bounds, range ends, reference states (and the
   range cuts made before them);
+- ``comparisons`` — the library's policy-governed values against independent compilations;
 - ``crosschecks`` — comparisons with every independent compilation and the physical checks;
   a failure without a written disposition (``tables/dispositions.toml``) stops the build;
 - ``gaps`` — ``source-gaps.json``: ΔfH° from every source;
+- ``corroboration`` — the per-entry evidence: corroborated values (held out) and Cp factors
+  compared with NIST-JANAF;
+- ``calibration`` — uncertainty policies from the measured spread between independent
+  compilations, the disagreement rule, ``uncertainty-calibration.csv``;
+- ``aqueous`` — aqueous ions (1 mol/kg, H+ convention) from the CRC table, closure-checked;
+- ``phase_points`` — tabulated melting and boiling points (chemicals) on the entries;
 - ``hazards`` — ``hazard-flags.csv``;
 - ``write`` — writing the four files (elements first; the library after the kernel has read it);
-- ``pipeline`` — the steps in run order: elements, NASA, Burcat, CRC, identifiers, reference
-  states, ATcT, transitions, JANAF (1 bar check, matches), gaps, hazards, write.
+- ``pipeline`` — the steps in run order: elements, NASA thermo.inp, CRC (curated picks, then
+  every complete row), identifiers, reference states, CRC composition check, range cuts, ATcT,
+  transitions, JANAF (1 bar check, matches), gaps, calibration, cross-checks, aqueous, phase
+  points, hazards, write.
 
 ``__main__`` sets ``sys.path`` (this package, the checkout's ``src``) and runs ``pipeline.main``.
 This package's ``__init__`` imports nothing, so the table readers can be imported (and tested)
@@ -77,8 +86,13 @@ MODULES = (
     "janaf_tables",
     "one_bar",
     "physical_checks",
+    "comparisons",
     "crosschecks",
     "gaps",
+    "corroboration",
+    "calibration",
+    "aqueous",
+    "phase_points",
     "hazards",
     "write",
     "pipeline",

@@ -12,6 +12,7 @@ Reused (the output is byte-identical with them, checked by rebuilding):
 - ``Library`` — the kernel's reader validates the entries before the transition step and the
   finished document before it is written; ``Library.transition_parent`` picks the neighbour a
   phase that does not exist at 298.15 K is carried from;
+- ``parse_formula`` — the kernel's formula reader, for the aqueous ions' charged formulas;
 - ``T_REF`` (298.15 K), ``STANDARD_PRESSURE_PA`` (1 bar) and ``ONE_ATM_PA``.
 
 Not reused: the kernel's NASA-7 evaluation (``Nasa7``). It uses R = 8.314462618 J/(mol·K) and
@@ -35,6 +36,7 @@ try:
         T_REF,
         Library,
         canonical_hash,
+        parse_formula,
         standard_uncertainty,
     )
 except ImportError as exc:  # the kernel or one of its run-time dependencies is missing
@@ -54,5 +56,6 @@ __all__ = [
     "T_REF",
     "Library",
     "canonical_hash",
+    "parse_formula",
     "standard_uncertainty",
 ]

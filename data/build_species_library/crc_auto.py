@@ -27,7 +27,7 @@ from chemicals.elements import periodic_table, simple_formula_parser
 from chemicals.identifiers import search_chemical
 from chemicals.phase_change import Tb, Tm
 
-from ._kernel import T_REF
+from ._kernel import T_REF, parse_formula
 from .crc import CRC_FILE
 from .entries import Entry, base_entry
 from .errors import need
@@ -136,12 +136,27 @@ def build_crc_auto(
             why = None
             cur = curated.get(cas)
             el = row_comp.get(cas)
+            if cur is not None:
+                # a curated formula says what the compound is: its composition is the formula's
+                # (chemicals' identifier database cannot parse some, e.g. La2O3; the row's own
+                # ΔfG° check in crosschecks.py verifies it against the row's values)
+                own = {k: float(v) for k, v in parse_formula(cur.formula).elements.items()}
+                need(
+                    el is None or key(el) == key(own),
+                    f"crc_formulas.toml [{cas}]: {cur.formula} is not the composition chemicals "
+                    f"gives ({el})",
+                )
+                el = dict(sorted(own.items()))
             if el is None or any(k not in els for k in el):
                 skipped.append(f"CRC {cas} {cname} ({phase}): no parseable formula in chemicals")
                 continue
             ck = key(el)
-            if (ck, phase) in comp_phase:
-                continue  # a polynomial source or an earlier row has this composition and phase
+            if (ck, phase) in comp_phase and (
+                cur is None or cur.formula in comp_formula.get(ck, set())
+            ):
+                # a polynomial source or an earlier row has this composition and phase (a
+                # curated formula names another isomer, which is built)
+                continue
             form = None
             names: list[str] = [cname.lower() if cname[:1].isupper() else cname]
             origin = "chemicals"

@@ -27,6 +27,7 @@ from typing import Any
 from chemicals.elements import periodic_table
 
 from ._kernel import T_REF
+from .comparisons import RELATIVE, value_class
 from .crc import CRC_FILE
 from .entries import Entry
 from .errors import need
@@ -47,14 +48,14 @@ K_COVERAGE = 2.0
 OWN_RECORD_J_PER_MOL = 25.0
 
 
-def _u_class(e: Entry, quantity: str) -> float:
-    """The policy u of ``e``'s class, used for a compilation that states none the build reads."""
-    gas = e["phase"] == "g"
-    if quantity == "dHf_298":
-        return policy_u(
-            "nasa-ion-dHf" if e["charge"] else ("nasa-gas-dHf" if gas else "condensed-dHf")
-        )
-    return policy_u("gas-S") if gas else policy_u("condensed-S", of=e["S_298"]["value"])
+def _u_class(e: Entry, quantity: str, classes: Mapping[str, float]) -> float:
+    """The calibrated u of ``e``'s class (``classes``: the calibration's chosen u per class),
+    used for a compilation that states none the build reads."""
+    cls = value_class(e, "dHf" if quantity == "dHf_298" else "S")
+    need(cls is not None, f"{e['id']}: no calibration class for {quantity}")
+    assert cls is not None
+    u = classes[cls]
+    return u * abs(e["S_298"]["value"]) if cls in RELATIVE else u
 
 
 def _comparisons(
@@ -62,6 +63,7 @@ def _comparisons(
     janaf: Mapping[str, Mapping[str, Any]],
     jmatch: Mapping[str, str],
     gaps_atct: Mapping[str, Mapping[str, float]],
+    classes: Mapping[str, float],
 ) -> list[dict[str, Any]]:
     crc_rows = read_tsv(pkg_file("chemicals", *CRC_FILE), ["CAS", "Hfs", "S0s"])
     crc = {r["CAS"]: r for r in crc_rows}
@@ -98,10 +100,10 @@ def _comparisons(
             j = janaf[jmatch[e["id"]]]
             if j["dHf298"] is not None:
                 vals.append(("dHf_298", f"janaf-4 {jmatch[e['id']]}", j["dHf298"],
-                             _u_class(e, "dHf_298")))  # fmt: skip
+                             _u_class(e, "dHf_298", classes)))  # fmt: skip
             if j["S298"] is not None:
                 vals.append(("S_298", f"janaf-4 {jmatch[e['id']]}", j["S298"],
-                             _u_class(e, "S_298")))  # fmt: skip
+                             _u_class(e, "S_298", classes)))  # fmt: skip
         if "atct-1.112" in gaps_atct.get(e["id"], {}) and e["dHf_298"]["source"] != "atct-1.112":
             vals.append(("dHf_298", "atct-1.112", gaps_atct[e["id"]]["atct-1.112"],
                          e.get("_atct_u", 0.0)))  # fmt: skip
@@ -115,13 +117,13 @@ def _comparisons(
             if h is None or s is None or g is None or not _row_fits(e, h, s, g, entries):
                 h = s = None
             if h is not None:
-                vals.append(("dHf_298", "crc-298", h, policy_u("crc-dHf")))
+                vals.append(("dHf_298", "crc-298", h, _u_class(e, "dHf_298", classes)))
             if s is not None and e["S_298"]["source"] != "crc-298":
-                vals.append(("S_298", "crc-298", s, policy_u("crc-S")))
+                vals.append(("S_298", "crc-298", s, _u_class(e, "S_298", classes)))
         if e.get("_record_name") in old:
             h, s = old[e["_record_name"]]
-            vals.append(("dHf_298", "nasa-glenn-1993", h, _u_class(e, "dHf_298")))
-            vals.append(("S_298", "nasa-glenn-1993", s, _u_class(e, "S_298")))
+            vals.append(("dHf_298", "nasa-glenn-1993", h, _u_class(e, "dHf_298", classes)))
+            vals.append(("S_298", "nasa-glenn-1993", s, _u_class(e, "S_298", classes)))
         for q, src, v, u in vals:
             out.append(_cmp(e, q, src, v, u, e[q]["value"], e[q]["u"]))
         if "_crc_gf" in e:
@@ -233,10 +235,11 @@ def run_crosschecks(
     janaf: Mapping[str, Mapping[str, Any]],
     jmatch: Mapping[str, str],
     gaps_atct: Mapping[str, Mapping[str, float]],
+    classes: Mapping[str, float],
 ) -> dict[str, Any]:
     """Run every check; stop the build on an unexcused failure. Returns the summary written
     to source-gaps.json (``crosschecks``)."""
-    comps = _comparisons(entries, janaf, jmatch, gaps_atct)
+    comps = _comparisons(entries, janaf, jmatch, gaps_atct, classes)
     disp = dispositions()
     by_id = {e["id"]: e for e in entries}
     used = set()

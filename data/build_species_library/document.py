@@ -14,15 +14,21 @@ from typing import Any
 from . import tables
 from ._kernel import STANDARD_PRESSURE_PA, Library, canonical_hash
 from .entries import Entry
-from .policies import uncertainty_policy_block
+from .policies import uncertainty_policy_block, used_policies
 from .sources import sources_block
 
 SCHEMA_MARK = "feasibly-species"
 SCHEMA_VERSION = 1
 
 
-def library_document(species: list[Entry]) -> dict[str, Any]:
-    """The whole document around ``species`` (key order is the written order)."""
+def library_document(
+    species: list[Entry], extra_policies: dict[str, str] | None = None
+) -> dict[str, Any]:
+    """The whole document around ``species`` (key order is the written order).
+
+    ``extra_policies``: the policies the build writes itself (the calibrated ones); with them the
+    block lists only the policies the entries use.
+    """
     return {
         "schema": SCHEMA_MARK,
         "schema_version": SCHEMA_VERSION,
@@ -30,7 +36,9 @@ def library_document(species: list[Entry]) -> dict[str, Any]:
         "content_sha256": canonical_hash(species),
         "standard_pressure_Pa": STANDARD_PRESSURE_PA,
         "sources": sources_block(),
-        "uncertainty_policy": uncertainty_policy_block(),
+        "uncertainty_policy": uncertainty_policy_block(
+            extra_policies, used_policies(species) if extra_policies is not None else None
+        ),
         "species": species,
     }
 

@@ -2,7 +2,9 @@
 
 from __future__ import annotations
 
+from .aqueous import build_aqueous
 from .atct import apply_atct, read_atct
+from .calibration import calibrate
 from .crc import build_crc
 from .crc_auto import build_crc_auto
 from .crosschecks import drop_unverified_crc, run_crosschecks
@@ -14,6 +16,7 @@ from .identifiers import assign_identifiers
 from .janaf_tables import janaf_matches, load_janaf_tables
 from .nasa import build_nasa
 from .one_bar import check_one_bar
+from .phase_points import add_phase_points
 from .physical_checks import cut_ranges
 from .reference_states import set_reference_states
 from .transitions import apply_transition_policy
@@ -41,6 +44,7 @@ def main() -> None:
     ids = [e["id"] for e in entries]
     dup = sorted({i for i in ids if ids.count(i) > 1})
     need(not dup, f"duplicate ids: {dup}")
+    # (aqueous ions are added after the calibration, whose constant-Cp factor they use)
 
     set_reference_states(entries)
     entries = drop_unverified_crc(entries, unmapped)
@@ -56,10 +60,29 @@ def main() -> None:
     janaf = load_janaf_tables()
     one_bar = check_one_bar(entries, janaf)
     jmatch = janaf_matches(entries, janaf)
-    checks = run_crosschecks(entries, janaf, jmatch, gaps_atct)
     gaps = build_gaps(entries, gaps_atct, janaf, jmatch, read_janaf_tsv())
 
+    # The calibration sets every policy-governed uncertainty from the measured spread and widens
+    # the disputed values; the cross-checks then test the shipped uncertainties.
+    policies_extra, calibration_csv, cal_summary = calibrate(entries, jmatch, gaps_atct)
+    print("calibration:", cal_summary)
+    checks = run_crosschecks(entries, janaf, jmatch, gaps_atct, cal_summary["classes"])
+    aq_entries, aq_policies = build_aqueous(els, entries, cal_summary["classes"]["cp-constant"])
+    entries += aq_entries
+    policies_extra |= aq_policies
+    print("phase points:", add_phase_points(entries))
+
     species = finish(entries)
-    hazards_csv, n_hazards = build_hazards(species)
-    write_outputs(species, hazards_csv, one_bar, jmatch, gaps, unmapped, checks=checks)
+    # hazard flags are for pure substances; aqueous ions share CAS numbers with some of them
+    hazards_csv, n_hazards = build_hazards([e for e in species if e["phase"] != "aq"])
+    write_outputs(
+        species,
+        hazards_csv,
+        one_bar,
+        jmatch,
+        gaps,
+        unmapped,
+        (policies_extra, calibration_csv),
+        checks=checks,
+    )
     summary(species, gaps, n_hazards, jmatch, one_bar, unmapped)

@@ -80,6 +80,24 @@ def cp_uncertainty(pid: str) -> dict[str, Any]:
     }
 
 
-def uncertainty_policy_block() -> dict[str, str]:
-    """The library's ``uncertainty_policy`` block: policy id -> text, sorted by id."""
-    return {k: p.text for k, p in sorted(POLICIES.items())}
+def uncertainty_policy_block(
+    extra: dict[str, str] | None = None, used: set[str] | None = None
+) -> dict[str, str]:
+    """The library's ``uncertainty_policy`` block: policy id -> text, sorted by id.
+
+    ``extra``: policies written by the build itself (the calibrated ones); ``used``: when given,
+    only these policy ids are listed (a policy no entry uses would mislead a reader).
+    """
+    texts = {k: p.text for k, p in POLICIES.items()} | dict(extra or {})
+    return {k: t for k, t in sorted(texts.items()) if used is None or k in used}
+
+
+def used_policies(species: list[dict[str, Any]]) -> set[str]:
+    """Policy ids the entries' uncertainty blocks name (plus atct-95, the stated rule's text)."""
+    out = {"atct-95"}
+    for e in species:
+        for block in (e["dHf_298"], e["S_298"], e["cp"]):
+            src = str(block.get("uncertainty", {}).get("source", ""))
+            if src.startswith("policy:"):
+                out.add(src.removeprefix("policy:"))
+    return out

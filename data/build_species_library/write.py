@@ -14,6 +14,7 @@ from pathlib import Path
 from typing import Any
 
 from ._kernel import KERNEL_ORIGIN
+from .calibration import CSV_NAME as CALIBRATION_CSV
 from .document import document_text, kernel_read, library_document
 from .entries import Entry
 from .gaps import NOTE as GAPS_NOTE
@@ -52,11 +53,14 @@ def write_outputs(
     jmatch: dict[str, str],
     gaps: dict[str, dict[str, Any]],
     unmapped: list[str],
+    calibrated: tuple[dict[str, str], str],
     out: Path = OUT,
     checks: dict[str, Any] | None = None,
 ) -> None:
-    """Write species-library.json, hazard-flags.csv and source-gaps.json."""
-    text = document_text(library_document(species))
+    """Write species-library.json, hazard-flags.csv, source-gaps.json and
+    uncertainty-calibration.csv (``calibrated``: the calibrated policies' texts and the CSV)."""
+    policies_extra, calibration_csv = calibrated
+    text = document_text(library_document(species, policies_extra))
     kernel_read(text, "species-library.json", shipped=True)
     sg = {
         "note": GAPS_NOTE,
@@ -72,6 +76,7 @@ def write_outputs(
     (out / "source-gaps.json").write_text(
         json.dumps(sg, indent=1, ensure_ascii=True) + "\n", encoding="utf-8"
     )
+    (out / CALIBRATION_CSV).write_text(calibration_csv, encoding="utf-8")
 
 
 def summary(

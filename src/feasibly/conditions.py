@@ -25,7 +25,14 @@ from typing import Any
 
 import numpy as np
 
-from ._limits import MAX_EQUATION_CHARS, MAX_POINTS, MAX_SAMPLES, MAX_TRIAL_TEMPERATURES, gib
+from ._limits import (
+    MAX_EQUATION_CHARS,
+    MAX_POINTS,
+    MAX_QUANTITY_CHARS,
+    MAX_SAMPLES,
+    MAX_TRIAL_TEMPERATURES,
+    gib,
+)
 from .errors import InvalidInput, InvalidUncertainty, UnitError
 from .units import to_kelvin, to_pascal
 
@@ -37,6 +44,7 @@ __all__ = [
     "read_conversion",
     "read_count",
     "read_feed",
+    "read_molalities",
     "read_mole_fractions",
     "read_partial_pressures",
     "read_pressure",
@@ -231,6 +239,46 @@ def read_partial_pressure_text(text: str, function: str) -> dict[str, float]:
             raise InvalidInput("partial_pressures", function, "each gas named once", name.strip())
         pairs[name.strip()] = value.strip()
     return read_partial_pressures(pairs)
+
+
+def read_molalities(molalities: Mapping[str, Any] | None, function: str = "") -> dict[str, float]:
+    """Molalities of aqueous species by name, in mol/kg (each must carry a unit, e.g.
+    ``{"Ca+2": "0.01 mol/kg"}``; ``molal`` is read as mol/kg); finite and above 0.
+
+    >>> read_molalities({"Cl-": "0.1 mol/kg", "Na+": "100 mmol/kg"})
+    {'Cl-': 0.1, 'Na+': 0.1}
+    """
+    if molalities is None:
+        return {}
+    if not isinstance(molalities, Mapping):
+        raise InvalidInput(
+            "molalities",
+            function,
+            "a mapping of aqueous species to molalities, e.g. {'Ca+2': '0.01 mol/kg'}",
+            molalities,
+        )
+    out = {}
+    for name, value in molalities.items():
+        if isinstance(value, (int, float)) and not isinstance(value, bool):
+            raise UnitError(
+                value, f"molality of {name}", "a bare number is ambiguous; write '0.01 mol/kg'"
+            )
+        if isinstance(value, str) and len(value) > MAX_QUANTITY_CHARS:
+            raise UnitError(
+                value, f"molality of {name}", f"longer than {MAX_QUANTITY_CHARS} characters"
+            )
+        # The unit registry loads here, on first use (a plain screen never needs it).
+        from .units import Q_
+
+        try:
+            q = value if hasattr(value, "to") else Q_(str(value).replace("molal", "mol/kg"))
+            m = float(np.squeeze(q.to("mol/kg").magnitude))
+        except Exception as exc:  # pint raises several unrelated types
+            raise UnitError(value, f"molality of {name}", f"give mol/kg ({exc})") from None
+        if not math.isfinite(m) or m <= 0:
+            raise UnitError(value, f"molality of {name}", "a molality must be finite and above 0")
+        out[str(name)] = m
+    return out
 
 
 def read_confidence(confidence: Any, function: str) -> float:

@@ -292,11 +292,26 @@ class RecordError(FeasiblyError, ValueError):
 
 
 class EquilibriumNotConverged(FeasiblyError, RuntimeError):
-    """The equilibrium iteration did not converge for some states; no number is reported."""
+    """The equilibrium iteration did not converge for some states; no number is reported.
 
-    def __init__(self, what: str, states: Sequence[str], hint: str) -> None:
+    ``states`` describes each such state; ``indices`` gives its position among the states asked
+    for and ``reasons`` why it is refused (``"no gas phase"``: the equilibrium has only condensed
+    phases, outside the model; ``"not converged"``), when the caller knows them.
+    """
+
+    def __init__(
+        self,
+        what: str,
+        states: Sequence[str],
+        hint: str,
+        *,
+        indices: Sequence[int] = (),
+        reasons: Sequence[str] = (),
+    ) -> None:
         self.what = what
         self.states = list(states)
+        self.indices = list(indices)
+        self.reasons = list(reasons)
         shown = "; ".join(self.states[:3])
         more = f" (and {len(self.states) - 3} more)" if len(self.states) > 3 else ""
         super().__init__(f"{what} did not converge at {shown}{more}. {hint}")

@@ -320,3 +320,21 @@ def test_a_row_is_repeated_by_the_assess_command(
     assert row["P_feasible"] == got["P_feasible"]
     assert row["dG_lo_J_per_mol"] == got["dG_lo_J_per_mol"]
     assert row["verdict"] == got["call"]
+
+
+def test_a_gas_only_compound_is_refused_in_its_row() -> None:
+    """FeO has only its gas in the data and is a solid below 1650 K (CRC Handbook via
+    chemicals): its row reports the refusal, the others are screened."""
+    import pandas as pd
+
+    from feasibly.batch import screen
+
+    out = screen(
+        pd.DataFrame(
+            {"equation": ["FeO + CO -> Fe + CO2", "CaCO3 -> CaO + CO2"], "T": ["900 K", "1200 K"]}
+        ),
+        samples=256,
+        seed=3,
+    )
+    assert "write FeO(g)" in str(out.loc[out["row"] == 0, "error"].iloc[0])
+    assert out.loc[out["row"] == 1, "error"].isna().all()

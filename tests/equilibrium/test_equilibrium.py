@@ -194,6 +194,34 @@ def test_bad_input_is_refused_with_a_message():
         )
 
 
+def test_feed_that_leaves_listed_species_at_zero_converges(capsys):
+    """The methanol set-up from CO + 2 H2 (issue 12): O = C in the feed, and every species with
+    more O than C (CO2, H2O) would need one with less to balance it: none is listed, so both are
+    exactly zero at every feasible composition. The law of mass action of CO + 2 H2 ⇌ CH3OH
+    (IUPAC Green Book: K° = x_M/(x_CO x_H2²) (P/P°)⁻²) then fixes the rest."""
+    species = "CO(g) H2(g) CH3OH(g) CO2(g) H2O(g)"
+    eq = equilibrate(species, "500 K", "50 bar", "CO:1, H2:2")
+    assert eq.amount("CO2(g)")[0] == 0.0 and eq.amount("H2O(g)")[0] == 0.0
+    x = eq.gas_fractions[0]
+    K = math.exp(_lnK("CO(g) + 2 H2(g) -> CH3OH(g)", np.array([500.0]))[0])
+    j = eq.species.index
+    got = x[j("CH3OH(g)")] / (x[j("CO(g)")] * x[j("H2(g)")] ** 2) / 50.0**2
+    assert got == pytest.approx(K, rel=1e-9)
+    code = main(["equilibrate", "--species", species, "--feed", "CO:1, H2:2", "--T", "500", "K",
+                 "--P", "50", "bar"])  # fmt: skip
+    assert code == 0
+    assert "cannot form CO2(g), H2O(g)" in capsys.readouterr().out
+
+
+def test_no_gas_phase_is_refused_with_that_reason():
+    """Pure CaCO3 at 800 K and 1 bar: its CO2 pressure (K° p°, ~2e-4 bar by the library data)
+    is far below 1 bar, so no gas phase forms; the refusal says so and names the state. At
+    1195 K (K° = 1.5) all of it decomposes into CaO and a gas of CO2: that state is solved."""
+    with pytest.raises(EquilibriumNotConverged, match="no gas phase") as info:
+        equilibrate("CaCO3(cr) CaO(cr) CO2(g)", ([800.0, 1195.0], "K"), "1 bar", "CaCO3:1")
+    assert info.value.indices == [0] and info.value.reasons == ["no gas phase"]
+
+
 def test_non_convergence_is_an_error_not_a_number():
     """Pure CaCO3 below its decomposition temperature: the gas phase vanishes, which this solver
     cannot represent; it says so instead of returning a composition."""

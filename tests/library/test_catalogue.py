@@ -23,7 +23,7 @@ def test_runs_against_the_installed_package() -> None:
 
 def test_shipped_library_size_version_and_hash(lib: Library) -> None:
     assert len(lib) >= 800
-    assert lib.version == "2026.12.0"
+    assert lib.version == "2026.12.2"
     assert len(lib.content_hash) == 64
     phases = {sp.phase for sp in lib}
     assert {"g", "l", "cr"} <= phases

@@ -40,6 +40,8 @@ def janaf_rows(index: str) -> dict[float, dict[str, float | None]]:
     rows: dict[float, dict[str, float | None]] = {}
     dup: set[float] = set()
     for r in df.iter_rows(named=True):
+        if r["T(K)"] is None:  # a few tables carry a blank row; it has no temperature
+            continue
         T = float(r["T(K)"])
         if T in rows:
             dup.add(T)

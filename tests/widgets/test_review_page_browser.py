@@ -133,7 +133,7 @@ def test_reviewer_changes_an_input_and_writes_a_record(review, chromium: dict[st
             page.wait_for_selector(".feasibly-verdict", timeout=PAGE_TIMEOUT_MS)
             page.wait_for_selector(".js-plotly-plot .main-svg", timeout=PAGE_TIMEOUT_MS)
             verdict = page.locator(".feasibly-verdict").first
-            assert "Not feasible at 900 K" in verdict.inner_text()
+            assert _expected_call_at_900_k() in verdict.inner_text()
             # Code hidden: no source of any code cell, no editor, no run button.
             content = page.content()
             assert "from feasibly.widgets import FeasibilityWorksheet" not in content
@@ -201,3 +201,15 @@ def test_reviewer_changes_an_input_and_writes_a_record(review, chromium: dict[st
     assert doc["review"]["reviewer"] == "R. Viewer"
     # Recomputing the record from its own inputs gives the same results, bit for bit.
     assert feasibly.verify_record(record).identical
+
+
+def _expected_call_at_900_k() -> str:
+    """The main worksheet's headline at 900 K as the kernel computes it (the worksheet's own
+    defaults: 600–1100 K, 20 000 trials, seed 2026), so the test follows the data, not a copy."""
+    from feasibly.uncertainty import assess_uncertainty
+
+    u = assess_uncertainty(
+        "C3H8 -> C3H6 + H2", T_range=("600 K", "1100 K"), points=11, samples=20_000, seed=2026
+    )
+    words = {"feasible": "Feasible", "not feasible": "Not feasible"}
+    return f"{words.get(u.at('900 K')['verdict'], 'Too close to call')} at 900 K"

@@ -165,7 +165,7 @@ def test_main_worksheet_in_the_browser(chromium, lab):
             verdict = page.locator(".feasibly-verdict").first
             output = page.locator(".jp-OutputArea-output", has=page.locator(".feasibly-verdict"))
             first_text, first_x = verdict.inner_text(), _plot_data(page, hist)
-            assert "900 K" in first_text and "Not feasible" in first_text
+            assert _expected_call_at_900_k() in first_text
             output.first.screenshot(path=str(ARTIFACTS / "worksheet-1-initial.png"))
 
             entry = page.locator(".feasibly-temperature-entry input")
@@ -225,3 +225,15 @@ def test_main_worksheet_in_the_browser(chromium, lab):
             output.first.screenshot(path=str(ARTIFACTS / "worksheet-4-conversion.png"))
         finally:
             ctx.close()
+
+
+def _expected_call_at_900_k() -> str:
+    """The main worksheet's headline at 900 K as the kernel computes it (the worksheet's own
+    defaults: 600–1100 K, 20 000 trials, seed 2026), so the test follows the data, not a copy."""
+    from feasibly.uncertainty import assess_uncertainty
+
+    u = assess_uncertainty(
+        "C3H8 -> C3H6 + H2", T_range=("600 K", "1100 K"), points=11, samples=20_000, seed=2026
+    )
+    words = {"feasible": "Feasible", "not feasible": "Not feasible"}
+    return f"{words.get(u.at('900 K')['verdict'], 'Too close to call')} at 900 K"

@@ -51,7 +51,7 @@ from ..conditions import (
 from ..equilibrium import conversion_assessment
 from ..errors import FeasiblyError, InvalidInput, excerpt
 from ..library import Library, default_library
-from ..thermo import Reaction
+from ..thermo import Reaction, missing_stable_phases
 from ..uncertainty import (
     UncertainAssessment,
     UncertainInput,
@@ -191,6 +191,10 @@ def _read_row(cells: dict[str, Any], library: Library) -> _Job:
             "given only with a required conversion; for ΔrG at pressure give partial_pressures",
             cells["total_pressure"],
         )
+    # A compound written without a phase whose only data are gas is refused where the tables
+    # make it a solid or liquid, as in assess (FeO, NiO): the row reports it.
+    temps, _ = read_temperatures(cells.get("T"), T_range, points, "screen")
+    missing_stable_phases(rxn, temps)
     inputs = build_inputs(uncertain_species(rxn), ())
     return _Job(cells, rxn, inputs, cells.get("T"), T_range, points, bool(conv))
 

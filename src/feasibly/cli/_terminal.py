@@ -246,11 +246,14 @@ def _print_assessment(a: Assessment) -> None:
             "condensed phases pure. ΔrG < 0 exactly where the equilibrium conversion is higher."
         )
     elif a.dG_actual is not None:
-        given = ", ".join(f"{k} {v / 1e5:g} bar" for k, v in a.partial_pressures_Pa.items())
-        print(f"ΔrG at partial pressures: {given}; ideal gases, condensed phases pure.")
+        given = ", ".join(
+            [f"{k} {v / 1e5:g} bar" for k, v in a.partial_pressures_Pa.items()]
+            + [f"{k} {m:g} mol/kg" for k, m in a.molalities_mol_per_kg.items()]
+        )
+        print(f"ΔrG at {given}; ideal gases, ideal dilute solution (γ = 1), condensed phases pure.")
         if a.assumed_standard:
             print(
-                f"  At the standard pressure (no partial pressure given): "
+                f"  At the standard state (no pressure or molality given): "
                 f"{', '.join(a.assumed_standard)}"
             )
     for term, T, before, after in a.phase_changes:
@@ -272,7 +275,11 @@ def _print_assessment(a: Assessment) -> None:
 
 def _print_uncertainty(u: UncertainAssessment) -> None:
     print()
-    basis = "ΔrG at the given partial pressures" if u.partial_pressures_Pa else "ΔrG°"
+    basis = (
+        "ΔrG at the given partial pressures or molalities"
+        if u.partial_pressures_Pa or u.molalities_mol_per_kg
+        else "ΔrG°"
+    )
     print(
         f"How sure: {u.trials:,} trials ({u.samples.method}, seed {u.samples.seed}); "
         f"criterion {u.threshold_text} on {basis}; confidence level {u.confidence:.0%}"
@@ -354,3 +361,5 @@ def _print_conversion(c: dict[str, Any]) -> None:
         print(f"The required conversion is met {where} {spans}.")
     else:
         print("The required conversion is not met anywhere in this range.")
+    for note in c.get("notes", []):
+        print(f"Note: {note}")

@@ -58,6 +58,7 @@ def _cmd_assess(args: argparse.Namespace) -> int:
         raise InvalidInput("--record", "", "a file path such as call.json", args.record)
     lib = _library(args.species_file, args.replace_shipped)
     pressures: dict[str, Any] = dict(_pressure_pairs(args.p, "partial pressure"))
+    molalities = _pressure_pairs(args.m, "molality") or None
     if args.y:
         if args.P is None:
             raise UnitError(
@@ -111,6 +112,7 @@ def _cmd_assess(args: argparse.Namespace) -> int:
         standard_pressure=args.standard_pressure,
         library=lib,
         balance=args.balance,
+        molalities=molalities,
     )
     if args.record and args.seed is None and (args.samples is not None or args.adaptive):
         # A record must be reproducible: draw the seed here and write it into the record.
@@ -142,6 +144,7 @@ def _cmd_assess(args: argparse.Namespace) -> int:
             standard_pressure=args.standard_pressure,
             library=lib,
             at_conversion=result.at_conversion,
+            molalities=molalities,
         )
     elif args.threshold or args.require_K or args.override or args.correlate:
         raise UnitError(
@@ -174,6 +177,7 @@ def _cmd_assess(args: argparse.Namespace) -> int:
             library=lib,
             # The call's own draws, overrides and correlations: one set behind every number.
             sample_set=uncertain.samples if uncertain is not None else None,
+            gas_model=args.gas_model,
         )
     if args.record:
         from ..equilibrium import parse_feed
@@ -192,6 +196,7 @@ def _cmd_assess(args: argparse.Namespace) -> int:
                     "seed": uncertain.samples.seed if uncertain is not None else None,
                     "confidence": args.confidence,
                     "shared_draws": uncertain is not None,
+                    "gas_model": conversion["gas_model"],
                 },
             }
         record = record_from(
@@ -371,6 +376,13 @@ def register(sub: Any) -> None:
         metavar="SPECIES=P",
         help="partial pressure of a gas, e.g. --p CO2=0.3 bar (repeat per gas)",
     )
+    a.add_argument(
+        "--m",
+        action="append",
+        nargs="+",
+        metavar="SPECIES=M",
+        help="molality of an aqueous species, e.g. --m Ca+2=0.01 mol/kg (repeat per species)",
+    )
     a.add_argument("--P", nargs="+", metavar="P", help="total pressure for --y, e.g. 5 bar")
     a.add_argument(
         "--y",
@@ -412,6 +424,14 @@ def register(sub: Any) -> None:
         help="conversion of --key that you need, e.g. 90%% or 0.9",
     )
     e.add_argument("--key", help="the reactant whose conversion counts, e.g. CH4")
+    e.add_argument(
+        "--gas-model",
+        dest="gas_model",
+        default="ideal",
+        choices=["ideal", "peng-robinson"],
+        help="gases in the equilibrium: ideal, or with Peng–Robinson fugacity coefficients "
+        "(for tens of bar and more; default ideal)",
+    )
     h = a.add_argument_group("heat (needs --feed)")
     h.add_argument(
         "--heat",

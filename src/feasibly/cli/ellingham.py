@@ -98,7 +98,7 @@ def register(sub: Any) -> None:
         description="Formation lines of compounds from their elements per mole of the reagent "
         "gas, with bands when sampled, and the reductant ratios oxides need.",
     )
-    e.add_argument("compounds", nargs="+", help="e.g. NiO FeO Cr2O3 (or full equations)")
+    e.add_argument("compounds", nargs="+", help="e.g. Cu2O Fe3O4 Cr2O3 (or full equations)")
     e.add_argument("--per", default="O2", help="reagent gas counted per mole (default O2)")
     e.add_argument("--T-range", nargs=3, dest="T_range", default=["500", "1800", "K"], metavar="T")
     e.add_argument("--points", type=int, default=14, help="temperatures (default 14)")

@@ -62,9 +62,25 @@ def _print(eq: Equilibrium) -> None:
         print()
     for caution in eq.cautions():
         print(f"Caution: {caution.message}")
+    gases = (
+        "Peng–Robinson gas mixture (fugacity coefficients, k_ij = 0)"
+        if eq.gas_model == "peng-robinson"
+        else "ideal-gas mixture"
+    )
+    # a gas at exactly zero amount is one the feed's elements cannot make (or one without data)
+    absent = [
+        sid
+        for j, sid in enumerate(eq.species)
+        if eq.phases[j] == "g" and bool((eq.amounts[:, j] == 0.0).all())
+    ]
+    if absent:
+        print(
+            "Exactly zero: the feed's elements cannot form "
+            f"{', '.join(absent)} (or no data covers the temperature)."
+        )
     print(
-        "Model: ideal-gas mixture plus pure condensed phases at unit activity (standard state "
-        "1 bar). Thermodynamics only: nothing here speaks to rate, hazards or scale-up."
+        f"Model: {gases} plus pure condensed phases at unit activity (standard state 1 bar). "
+        "Thermodynamics only: nothing here speaks to rate, hazards or scale-up."
     )
 
 
@@ -89,7 +105,14 @@ def _run(args: argparse.Namespace) -> int:
     from ..equilibrium import equilibrate  # loaded only when this command runs
 
     eq = equilibrate(
-        args.species, T, P, args.feed, library=lib, samples=args.samples, seed=args.seed
+        args.species,
+        T,
+        P,
+        args.feed,
+        library=lib,
+        samples=args.samples,
+        seed=args.seed,
+        gas_model=args.gas_model,
     )
     if args.json:
         print(json.dumps(eq.to_dict(), indent=2, ensure_ascii=False))
@@ -112,6 +135,13 @@ def register(sub: Any) -> None:
     e.add_argument("--points", type=int, default=12, help="temperatures in --T-range (default 12)")
     e.add_argument(
         "--P", nargs="+", default=["1 bar"], metavar="P", help="total pressure, e.g. 5 bar"
+    )
+    e.add_argument(
+        "--gas-model",
+        dest="gas_model",
+        default="ideal",
+        choices=["ideal", "peng-robinson"],
+        help="gases: ideal, or with Peng–Robinson fugacity coefficients (default ideal)",
     )
     e.add_argument("--samples", type=int, metavar="N", help="Monte Carlo trials for the bands")
     e.add_argument("--seed", type=int, metavar="S", help="seed of the random generator")

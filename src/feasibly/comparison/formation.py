@@ -76,12 +76,19 @@ class FormationLines:
     samples: int
     seed: int | None
     ratios: dict[str, dict[str, np.ndarray]] = field(default_factory=dict)
+    #: where the stable phase of a compound at T is missing from the data (see assess)
+    notes: list[str] = field(default_factory=list)
     _draws: np.ndarray | None = field(default=None, repr=False)
 
     def p_below(self, a: str, b: str) -> np.ndarray:
         """P(line ``a`` lies below line ``b``) at each T, counted over the shared draws."""
         if self._draws is None:
             raise InvalidInput("samples", "formation_lines", "given to compare lines", None)
+        for name in (a, b):
+            if name not in self.labels:
+                raise InvalidInput(
+                    "line", "FormationLines.p_below", "one of " + ", ".join(self.labels), name
+                )
         i, j = self.labels.index(a), self.labels.index(b)
         return np.mean(self._draws[i] < self._draws[j], axis=1)
 
@@ -174,13 +181,17 @@ def formation_lines(
     couples = {
         name: Reaction.parse(eq, library) for name, eq in REDUCTANTS.items() if reagent == "O2"
     }
-    from ..thermo import standard_properties
+    from ..thermo import missing_stable_phases, standard_properties
 
+    # A compound whose only data are its gas is refused where the tables make it a solid or
+    # liquid (FeO below 1650 K would otherwise give a line for its vapour): as in assess.
+    notes = [n for r in rxns for n in missing_stable_phases(r, temps)]
     G = np.array([standard_properties(r, temps).dG / s for r, s in zip(rxns, scale, strict=True)])
     changes = [r.phase_changes(float(temps[0]), float(temps[-1])) for r in rxns]
     result = FormationLines(
         reagent, temps, labels, [r.equation() for r in rxns], G, None, changes, 0, seed
     )
+    result.notes = notes
     couple_G = {name: standard_properties(r, temps).dG for name, r in couples.items()}
     for name, g_c in couple_G.items():
         result.ratios[name] = {"nominal": (g_c[None, :] - G) / (2 * _R * temps * math.log(10))}

@@ -17,6 +17,7 @@ non-singular system.
 
 from __future__ import annotations
 
+import itertools
 import math
 from dataclasses import dataclass
 from functools import cache
@@ -24,7 +25,15 @@ from functools import cache
 import numpy as np
 from threadpoolctl import threadpool_limits
 
-__all__ = ["GibbsBatch", "reduce_elements", "solve_batch"]
+__all__ = [
+    "DualPoint",
+    "GibbsBatch",
+    "reachable",
+    "reduce_elements",
+    "rescue",
+    "solve_batch",
+    "solve_dual",
+]
 
 # RP-1311 §3.3: species below mole fraction 1e-8 do not limit the step for the major species;
 # a trace species that is rising may at most reach mole fraction 1e-4 in one step (eq. 3.2).
@@ -41,6 +50,12 @@ _TOL = 1e-12
 # is at stake and the underflow region starts to be reached.
 _LN_TRACE_CHECKED = math.log(1e-50)
 _TRACE_STEP_TOL = 1e-9
+# ... unless the amount is fixed by the element balance alone: then it carries the rounding of
+# the totals (~1e-16 of the total amount, amplified by the conditioning), and its relative step
+# never falls below 1e-9. After this many iterations (converging states need 10–40, trace species
+# included) an absolute step below 1e-14 of the gas amount (~50 float epsilons) counts as settled.
+_STALL_ITER = 60
+_ROUNDING_STEP = 1e-14
 # A condensed phase is added when it would lower G/RT by more than this per mole: 1e-9 is far
 # above the rounding of g_c − a_c·π (~1e-13 for |g| ~ 100) and far below any physical margin.
 _ADD_TOL = 1e-9
@@ -106,7 +121,7 @@ class GibbsBatch:
         )
 
 
-def _solve_small(aug: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+def _solve_small(aug: np.ndarray, pivot_tol: float = _PIVOT_TOL) -> tuple[np.ndarray, np.ndarray]:
     """Solve K × K systems stored batch-last as an augmented array (K, K + 1, B), in place.
 
     Gaussian elimination with partial pivoting, vectorised over the batch with contiguous
@@ -140,7 +155,7 @@ def _solve_small(aug: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
             else np.maximum(colmax, np.maximum.reduce(np.abs(aug[:k, k, :]), axis=0))
         )
         # |pivot| ≤ 1e-13 × column max (or 0, or NaN) marks the system singular: see _PIVOT_TOL
-        bad = ~(colmax > _PIVOT_TOL * norm)
+        bad = ~(colmax > pivot_tol * norm)
         if np.count_nonzero(bad):
             singular |= bad
             piv = np.where(bad, 1.0, piv)
@@ -275,6 +290,7 @@ def solve_batch(
     max_iter: int = _MAX_ITER,
     active0: np.ndarray | None = None,
     start_rows: np.ndarray | None = None,
+    pivot_tol: float = _PIVOT_TOL,
 ) -> GibbsBatch:
     """Minimise G over B states at once.
 
@@ -311,7 +327,7 @@ def solve_batch(
             converged, iterations,
         )  # fmt: skip
         init = start
-    prob = _Problem(A_g, A_c, g_g, g_c, b, ln_p, avail_g, avail_c, max_iter)
+    prob = _Problem(A_g, A_c, g_g, g_c, b, ln_p, avail_g, avail_c, max_iter, pivot_tol)
     # The iteration's matrix products are far too small for BLAS threads to pay off: with two
     # threads they spend more time synchronising than multiplying.
     with threadpool_limits(limits=1, user_api="blas"):
@@ -335,6 +351,7 @@ class _Problem:
     avail_g: np.ndarray
     avail_c: np.ndarray
     max_iter: int
+    pivot_tol: float
 
 
 def _iterate(
@@ -412,7 +429,7 @@ def _iterate(
         sum_n = np.add.reduce(n, axis=0)
         aug[K - 1, K - 1, :] = sum_n - N
         aug[K - 1, K, :] = N - sum_n + np.add.reduce(nmu, axis=0)
-        x, singular = _solve_small(aug)
+        x, singular = _solve_small(aug, prob.pivot_tol)
         p_new, dm, dlnN = x[:r], x[r : r + nc], x[K - 1]
         dln = A_g.T @ p_new
         dln -= mu  # −mu + Aᵀπ, the same sum
@@ -448,9 +465,13 @@ def _iterate(
         cand = (lam == 1.0) & (step <= _TOL) & ~singular
         if np.count_nonzero(cand):
             # written as "no checked species has a step above tolerance" so that NaN fails it
-            cand &= ~np.logical_or.reduce(
-                (lnx > _LN_TRACE_CHECKED) & ~(abs_dln <= _TRACE_STEP_TOL), axis=0
-            )
+            unsettled = (lnx > _LN_TRACE_CHECKED) & ~(abs_dln <= _TRACE_STEP_TOL)
+            if it >= _STALL_ITER:
+                # a trace amount fixed by the element balance alone (a feed a hair off a face of
+                # the element cone) is known only to the rounding of the totals: settled when its
+                # absolute change is at that level
+                unsettled &= ~(n * abs_dln <= _ROUNDING_STEP * N)
+            cand &= ~np.logical_or.reduce(unsettled, axis=0)
         y += lam * dln
         lnN += lam * dlnN
         if nc:
@@ -556,3 +577,312 @@ def _retry(
         for name in ("ln_n", "ln_N", "m", "active", "pi", "converged"):
             getattr(out, name)[bad[ok]] = getattr(sol, name)[ok]
         out.iterations[bad] += sol.iterations
+
+
+# --- which species the feed can make ------------------------------------------------------------
+# A feed's element totals b lie in the cone spanned by the species' element vectors. When b lies
+# on a face of that cone (CO + 2 H2 has O = C exactly, so neither CO2 nor H2O can form), the
+# species off that face must be exactly zero, and the Newton system, which needs every gas amount
+# positive, becomes singular as they fall towards zero. The species on the face are found here
+# from the facets of the cone (each facet: a normal w with w·a_j ≥ 0 for every species, zero on
+# r − 1 independent ones); the species left are those with w·a_j = 0 for every facet with w·b = 0.
+# Relative size of w·a or w·b (w and b normalised) that counts as zero: element counts are small
+# integers and feeds are sums of them, so exact zeros come out of rounding at ~1e-16; 1e-12 keeps
+# a feed that lies truly off a face by more than that from being moved onto it.
+_FACE_TOL = 1e-12
+# Facets are enumerated from (r − 1)-subsets of the species; beyond this many subsets the
+# enumeration is skipped (every species kept, as before), which only larger sets than any we
+# test would reach: 15 species over 5 independent elements give 1365 subsets.
+_MAX_SUBSETS = 200_000
+
+
+@cache
+def _facets(A_bytes: bytes, shape: tuple[int, int]) -> np.ndarray:
+    """Unit normals (F × r) of the facets of the cone spanned by the columns of A (r × n, full
+    row rank r); F = 0 when r ≤ 1 (a ray has no facets inside its own span)."""
+    A = np.frombuffer(A_bytes).reshape(shape)
+    r, n = shape
+    if r <= 1 or math.comb(n, r - 1) > _MAX_SUBSETS:
+        return np.zeros((0, r))
+    scale = np.linalg.norm(A, axis=0)
+    An = A / np.where(scale > 0, scale, 1.0)
+    found: list[np.ndarray] = []
+    for subset in itertools.combinations(range(n), r - 1):
+        sub = An[:, subset]
+        u, s, _ = np.linalg.svd(sub, full_matrices=True)
+        if s.size and s[-1] <= 1e-10 * s[0]:  # dependent columns: no hyperplane of their own
+            continue
+        w = u[:, -1]
+        d = w @ An
+        if np.all(d >= -_FACE_TOL):
+            pass
+        elif np.all(d <= _FACE_TOL):
+            w = -w
+        else:
+            continue
+        if not any(abs(float(w @ f)) > 1.0 - 1e-12 for f in found):
+            found.append(w)
+    return np.array(found).reshape(-1, r)
+
+
+def reachable(A: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """Which species (B × n) can have a positive amount at element totals ``b`` (B × E).
+
+    ``A`` (E × n): element matrix of the species that may appear. A species is reachable when
+    some non-negative amounts with A n = b give it a positive amount; the others are exactly zero
+    at every feasible composition, equilibrium included.
+    """
+    Q = reduce_elements(A)
+    Ar = Q.T @ A
+    br = b @ Q
+    W = _facets(np.ascontiguousarray(Ar).tobytes(), Ar.shape)
+    B = b.shape[0]
+    if W.shape[0] == 0:
+        return np.ones((B, A.shape[1]), dtype=bool)
+    scale = np.linalg.norm(Ar, axis=0)
+    on = np.abs(W @ (Ar / np.where(scale > 0, scale, 1.0))) <= _FACE_TOL  # F × n
+    tight = np.abs(br @ W.T) <= _FACE_TOL * np.linalg.norm(br, axis=1, keepdims=True)  # B × F
+    # reachable: on every tight facet, i.e. no tight facet the species lies off
+    return ~((tight.astype(np.int64) @ (~on).astype(np.int64)) > 0)
+
+
+# --- the dual problem: a second route for states the Newton iteration does not finish ----------
+# Minimising G over the amounts is, by Lagrangian duality, maximising b·π over element potentials
+# π (units of RT) subject to one constraint per phase: no pure condensed phase lies below the
+# element-potential plane (g_c − a_c·π ≥ 0), and the ideal gas has no composition that would form
+# (ln Σ_j exp(a_j·π − g_j − ln P/P°) ≤ 0, i.e. the partial pressures the potentials imply add up to
+# at most P). The problem has r unknowns and is convex, so a general constrained solver finds it
+# from a feasible start whatever the Newton iteration ran into; its answer says which phases are
+# present (the constraints that bind), and whether a gas phase exists at all. The amounts then
+# follow from the element balance by non-negative least squares, and the Newton iteration is run
+# once more from that point to the full accuracy.
+# Slack (RT units) below which a phase's constraint counts as binding: the dual solver meets its
+# constraints to ~1e-10; phases this close to forming but absent change no amount above 1e-7.
+_BIND_TOL = 1e-7
+# A state whose element balance the non-negative least squares leaves above this fraction of the
+# totals has no consistent phase set at the dual solution (the dual did not converge).
+_NNLS_TOL = 1e-9
+# Started at the dual solution, the Newton iteration is already beside the answer; there a pivot
+# that is small only because a direction is carried by trace species (amounts down to 1e-300) is
+# real, and only an exact zero or a non-finite step marks the system singular.
+_RESCUE_PIVOT_TOL = 1e-300
+# The element balance a dual point must meet to stand as the answer (the balance promised for
+# every state, tests/equilibrium/test_equilibrium.py::test_element_conservation).
+_DUAL_BALANCE_TOL = 1e-10
+# Polishing a dual point: a few Newton steps reach the rounding of the totals (1e-14 relative,
+# ~50 float epsilons); 30 are far more than needed and only stop a stalled case.
+_POLISH_ITER = 30
+_POLISH_TOL = 1e-14
+
+
+@dataclass
+class DualPoint:
+    """The dual solution of one state: element potentials, phases present and amounts."""
+
+    pi: np.ndarray  # reduced element potentials / RT (r,)
+    gas: bool  # a gas phase is present
+    ln_x: np.ndarray  # ln of the gas mole fractions the potentials imply (ng,)
+    N: float  # gas amount (0 when absent)
+    active: np.ndarray  # condensed phases present (nc,)
+    m: np.ndarray  # condensed amounts (nc,)
+    gas_pressure_ratio: float  # Σ p_j / P the potentials imply (≤ 1; 1 when a gas is present)
+    ok: bool  # the dual and the element balance were both met
+    balance: float  # element-balance residual of the amounts, relative to |b|
+
+
+def solve_dual(
+    A_g: np.ndarray,
+    A_c: np.ndarray,
+    g_g: np.ndarray,
+    g_c: np.ndarray,
+    b: np.ndarray,
+    ln_p: float,
+    ones: np.ndarray,
+) -> DualPoint:
+    """Solve the dual of one state (arrays as in :func:`solve_batch`, one row; ``ones``: the
+    reduced image of the all-ones element vector, along which every constraint loosens)."""
+    from scipy.optimize import minimize, nnls
+
+    r = b.size
+    c_g = g_g + ln_p
+    ng, nc = c_g.size, g_c.size
+
+    def lse(p: np.ndarray) -> tuple[float, np.ndarray]:
+        if ng == 0:
+            return -np.inf, np.zeros(r)
+        z = A_g.T @ p - c_g
+        top = float(np.max(z))
+        w = np.exp(z - top)
+        s = float(np.sum(w))
+        return top + math.log(s), A_g @ (w / s)
+
+    cons = (
+        [{"type": "ineq", "fun": lambda p: -lse(p)[0], "jac": lambda p: -lse(p)[1]}] if ng else []
+    )
+    if nc:
+        cons.append({"type": "ineq", "fun": lambda p: g_c - A_c.T @ p, "jac": lambda p: -A_c.T})
+    # a start deep inside: every species' a·π far below its g (all element counts are ≥ 0)
+    depth = float(np.max(np.abs(np.concatenate([c_g, g_c])))) + 50.0
+    p0 = (
+        -depth
+        * ones
+        / max(float(np.min(np.abs(np.concatenate([A_g, A_c], axis=1).T @ ones))), 1e-3)
+    )
+    res = minimize(
+        lambda p: (-float(b @ p), -b),
+        p0,
+        jac=True,
+        constraints=cons,
+        method="SLSQP",
+        options={"ftol": 1e-15, "maxiter": 1000},
+    )
+    p = res.x
+    L, _ = lse(p)
+    slack = g_c - A_c.T @ p if nc else np.zeros(0)
+    active = slack <= _BIND_TOL
+    gas = ng > 0 and L >= -_BIND_TOL
+    ln_x = (A_g.T @ p - c_g - L) if ng else np.zeros(0)
+    cols = [A_c[:, active]] + ([(A_g @ np.exp(ln_x))[:, None]] if gas else [])
+    M = np.concatenate(cols, axis=1) if cols else np.zeros((r, 0))
+    if M.shape[1]:
+        amounts, resid = nnls(M, b)
+    else:
+        amounts, resid = np.zeros(0), float(np.linalg.norm(b))
+    m = np.zeros(nc)
+    m[active] = amounts[: int(active.sum())]
+    N = float(amounts[-1]) if gas else 0.0
+    # the dual solution is checked, not trusted: element balance met by the amounts, every phase
+    # constraint met, and no duality gap (G of the amounts equals b·π: complementary slackness)
+    g_total = float(g_c @ m) + (N * float(np.exp(ln_x) @ (c_g + ln_x)) if gas else 0.0)
+    gap = abs(g_total - float(b @ p))
+    ok = (
+        resid <= _NNLS_TOL * float(np.linalg.norm(b))
+        and L <= _BIND_TOL
+        and bool(np.all(slack >= -_BIND_TOL))
+        and gap <= _BIND_TOL * (1.0 + abs(float(b @ p)))
+    )
+    rel = float(resid) / float(np.linalg.norm(b))
+    point = DualPoint(p, gas and N > 0, ln_x, N, m > 0, m, math.exp(min(L, 0.0)), ok, rel)
+    if point.gas:
+        _polish(point, A_g, A_c, c_g, g_c, b)
+        # polished, the point is checked again: balance met, no condensed phase below the plane
+        feasible = nc == 0 or bool(np.all(g_c - A_c.T @ point.pi >= -_BIND_TOL))
+        point.ok = point.ok or (point.balance <= _NNLS_TOL and feasible)
+    return point
+
+
+def _polish(d: DualPoint, A_g: np.ndarray, A_c: np.ndarray, c_g: np.ndarray, g_c: np.ndarray,
+            b: np.ndarray) -> None:  # fmt: skip
+    """Newton steps, in place, on the dual point's phase set in the element potentials: gas
+    amounts n_j = N exp(a_j·π − c_j), condensed amounts free, equations A n + A_c m = b,
+    Σ x_j = 1 and a_c·π = g_c for the phases present. Solved by least squares (an SVD drops the
+    directions carried only by trace species, whose amounts then follow from the rest)."""
+    act = np.nonzero(d.active)[0]
+    r = b.size
+    pi, lnN, m = d.pi.copy(), math.log(d.N), d.m[act].copy()
+    for _ in range(_POLISH_ITER):
+        z = A_g.T @ pi - c_g
+        n = np.exp(lnN + z)
+        res = np.concatenate([b - A_g @ n - A_c[:, act] @ m, [1.0 - float(np.exp(z).sum())],
+                              g_c[act] - A_c[:, act].T @ pi])  # fmt: skip
+        if float(np.linalg.norm(res[:r])) <= _POLISH_TOL * float(np.linalg.norm(b)) and (
+            float(np.max(np.abs(res[r:]), initial=0.0)) <= _POLISH_TOL
+        ):
+            break
+        J = np.zeros((r + 1 + act.size, r + 1 + act.size))
+        J[:r, :r] = (A_g * n) @ A_g.T
+        J[:r, r] = A_g @ n
+        J[:r, r + 1 :] = A_c[:, act]
+        J[r, :r] = A_g @ np.exp(z)
+        J[r + 1 :, :r] = A_c[:, act].T
+        step = np.linalg.lstsq(J, res, rcond=1e-14)[0]
+        pi += step[:r]
+        lnN += float(step[r])
+        m += step[r + 1 :]
+    z = A_g.T @ pi - c_g
+    n = np.exp(lnN + z)
+    resid = float(np.linalg.norm(b - A_g @ n - A_c[:, act] @ m)) / float(np.linalg.norm(b))
+    if resid < d.balance and np.all(m >= 0):
+        d.pi, d.N, d.balance = pi, math.exp(lnN), resid
+        d.ln_x = z - math.log(float(np.exp(z).sum()))
+        d.m = np.zeros_like(d.m)
+        d.m[act] = m
+
+
+def rescue(
+    out: GibbsBatch,
+    A_g: np.ndarray,
+    A_c: np.ndarray,
+    g_g: np.ndarray,
+    g_c: np.ndarray,
+    b: np.ndarray,
+    ln_p: np.ndarray,
+    avail_g: np.ndarray,
+    avail_c: np.ndarray,
+    ones: np.ndarray,
+) -> np.ndarray:
+    """Finish, in place, the states of ``out`` that did not converge, through the dual problem.
+
+    Where the dual finds a gas phase, the Newton iteration is restarted from its solution; where
+    it finds none (the feed ends entirely in condensed phases), the condensed amounts and the
+    potentials are stored, the gas amounts set to zero, and the state is marked in the mask
+    returned (these states stay ``converged = False``: the gas-phase model does not apply).
+    """
+    B = b.shape[0]
+    ng, nc = A_g.shape[1], A_c.shape[1]
+    no_gas = np.zeros(B, dtype=bool)
+    starts: list[tuple[int, DualPoint]] = []
+    for i in np.nonzero(~out.converged)[0]:
+        ag, ac = avail_g[i], avail_c[i]
+        d = solve_dual(A_g[:, ag], A_c[:, ac], g_g[i, ag], g_c[i, ac], b[i], float(ln_p[i]), ones)
+        if d.gas:
+            # a start only: the Newton iteration from it is what must converge
+            starts.append((int(i), d))
+        elif d.ok:
+            out.ln_n[i] = -np.inf
+            out.ln_N[i] = -np.inf
+            out.m[i] = 0.0
+            out.m[i, ac] = d.m
+            out.active[i] = False
+            out.active[i, ac] = d.active
+            out.pi[i] = d.pi
+            no_gas[i] = True
+    if starts:
+        idx = np.array([i for i, _ in starts])
+        k = idx.size
+        ln_n = np.full((k, ng), -np.inf)
+        m = np.zeros((k, nc))
+        active = np.zeros((k, nc), dtype=bool)
+        for row, (j, d) in enumerate(starts):
+            ln_n[row, avail_g[j]] = math.log(d.N) + d.ln_x
+            m[row, avail_c[j]] = d.m
+            active[row, avail_c[j]] = d.active
+        start = GibbsBatch(
+            ln_n,
+            np.log(np.array([d.N for _, d in starts])),
+            m,
+            active,
+            np.array([d.pi for _, d in starts]),
+            np.zeros(k, dtype=bool),
+            np.zeros(k, dtype=np.int64),
+        )
+        sol = solve_batch(
+            A_g, A_c, g_g[idx], g_c[idx], b[idx], ln_p[idx], avail_g[idx], avail_c[idx],
+            start=start, pivot_tol=_RESCUE_PIVOT_TOL,
+        )  # fmt: skip
+        ok = sol.converged
+        for name in ("ln_n", "ln_N", "m", "active", "pi", "converged"):
+            getattr(out, name)[idx[ok]] = getattr(sol, name)[ok]
+        # Where Newton still stops (a trace amount fixed by the rounding of totals that lie a
+        # hair off a plane of the element cone makes its system singular), the dual point is
+        # the answer when it meets the element balance to the accuracy promised for any state
+        for row in np.nonzero(~ok)[0].tolist():
+            state, d = starts[row]
+            if d.ok and d.balance <= _DUAL_BALANCE_TOL:
+                out.ln_n[state] = ln_n[row]
+                out.ln_N[state] = math.log(d.N)
+                out.m[state] = m[row]
+                out.active[state] = active[row]
+                out.pi[state] = d.pi
+                out.converged[state] = True
+    return no_gas

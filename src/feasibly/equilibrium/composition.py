@@ -16,11 +16,17 @@ import numpy as np
 
 from .._tables import TableExport
 from ..conditions import read_states, read_trials
-from ..errors import EquilibriumNotConverged, OutsideDataRange, UnitError, UnknownSpecies
+from ..errors import (
+    EquilibriumNotConverged,
+    InvalidInput,
+    OutsideDataRange,
+    UnitError,
+    UnknownSpecies,
+)
 from ..library.catalogue import Library, default_library
 from ..library.cp_models import R
 from ..library.species import Species
-from ..thermo import Caution
+from ..thermo import Caution, critical_constants, ln_fugacity_coefficients, read_gas_model
 from ..thermo.reaction import Reaction, ReactionTerm, resolve_species
 from ..uncertainty.inputs import Correlations, Override, build_inputs, correlation_matrix
 from ..uncertainty.linear import block_rows, deviation_rows, uncertain_species
@@ -32,7 +38,7 @@ from ._common import (
     _split_label,
     parse_feed,
 )
-from ._gibbs_solver import GibbsBatch, reduce_elements, solve_batch
+from ._gibbs_solver import GibbsBatch, reachable, reduce_elements, rescue, solve_batch
 
 __all__ = ["CARBON_FRACTION_CAUTION", "Equilibrium", "equilibrate"]
 
@@ -149,19 +155,34 @@ class _Prepared:
     avail: np.ndarray
 
     def groups(self) -> list[tuple[np.ndarray, np.ndarray, np.ndarray]]:
-        """States sharing the same elements with zero total: (rows, element mask, entry mask)."""
-        present = self.b > 0
+        """States sharing the species their feed can make: (rows, element mask, entry mask).
+
+        An entry is kept where its data cover T and the feed's element totals allow it a positive
+        amount (:func:`reachable`); the others are exactly zero. Elements kept are those of the
+        kept entries (the others have zero total).
+        """
+        A = self.sset.A
+        keep = np.zeros(self.avail.shape, dtype=bool)
+        # one availability pattern is the usual case; np.unique over rows would sort for nothing
+        if np.all(self.avail == self.avail[:1], axis=None):
+            patterns, which = self.avail[:1], np.zeros(len(self.avail), dtype=np.intp)
+        else:
+            patterns, which = np.unique(self.avail, axis=0, return_inverse=True)
+            which = which.ravel()
+        for p, pattern in enumerate(patterns):
+            rows = np.nonzero(which == p)[0]
+            cols = np.nonzero(pattern)[0]
+            keep[np.ix_(rows, cols)] = reachable(A[:, cols], self.b[rows])
         out = []
-        # one pattern is the usual case; np.unique over rows would sort every state for nothing
-        same = np.all(present == present[:1], axis=None)
-        for pattern in present[:1] if same else np.unique(present, axis=0):
-            rows = (
-                np.arange(len(present))
-                if same
-                else np.nonzero(np.all(present == pattern, axis=1))[0]
-            )
-            keep = ~np.any(self.sset.A[~pattern] > 0, axis=0)
-            out.append((rows, pattern, keep))
+        if np.all(keep == keep[:1], axis=None):
+            kinds, where = keep[:1], np.zeros(len(keep), dtype=np.intp)
+        else:
+            kinds, where = np.unique(keep, axis=0, return_inverse=True)
+            where = where.ravel()
+        for k, kind in enumerate(kinds):
+            rows = np.nonzero(where == k)[0]
+            el_mask = np.any(A[:, kind] != 0, axis=1)
+            out.append((rows, el_mask, kind))
         return out
 
 
@@ -169,8 +190,9 @@ def _solve(
     prep: _Prepared,
     g: np.ndarray,
     warm: tuple[dict[bytes, tuple[np.ndarray, GibbsBatch]], np.ndarray] | None = None,
-) -> tuple[np.ndarray, np.ndarray, dict[bytes, tuple[np.ndarray, GibbsBatch]]]:
-    """Amounts (states × entries), converged mask, and the solver state per group of states.
+) -> tuple[np.ndarray, np.ndarray, dict[bytes, tuple[np.ndarray, GibbsBatch]], np.ndarray]:
+    """Amounts (states × entries), converged mask, the solver state per group of states, and
+    the states whose equilibrium has no gas phase at all (not converged: see :func:`rescue`).
 
     ``warm``: solver states of an earlier solve and, for each state here, the state there to
     start from (the nominal solution at the same T, P and feed for sampled data).
@@ -179,6 +201,7 @@ def _solve(
     gas = sset.gas
     amounts = np.zeros((prep.T.size, len(sset.entries)))
     converged = np.ones(prep.T.size, dtype=bool)
+    no_gas = np.zeros(prep.T.size, dtype=bool)
     solved: dict[bytes, tuple[np.ndarray, GibbsBatch]] = {}
     for rows, el_mask, keep in prep.groups():
         # One group of every state, element and entry (the usual case) needs no gathered copies.
@@ -193,10 +216,10 @@ def _solve(
         gk = g if whole else g[np.ix_(rows, keep)]
         av = prep.avail if whole else prep.avail[np.ix_(rows, keep)]
         start = start_rows = None
-        if warm is not None and el_mask.tobytes() in warm[0]:
-            rows0, start = warm[0][el_mask.tobytes()]
+        if warm is not None and keep.tobytes() in warm[0]:
+            rows0, start = warm[0][keep.tobytes()]
             start_rows = np.searchsorted(rows0, warm[1][rows])
-        sol = solve_batch(
+        args = (
             Ar[:, kg],
             Ar[:, kc],
             gk[:, kg],
@@ -205,10 +228,19 @@ def _solve(
             np.log(prep.P[rows] / _P_STD),
             av[:, kg],
             av[:, kc],
-            start=start,
-            start_rows=start_rows,
         )
-        solved[el_mask.tobytes()] = (rows, sol)
+        if np.any(kg):
+            sol = solve_batch(*args, start=start, start_rows=start_rows)
+        else:  # the feed can make no gas at all: only the dual route applies
+            n, r, nc = rows.size, Ar.shape[0], int(kc.sum())
+            sol = GibbsBatch(
+                np.zeros((n, 0)), np.zeros(n), np.zeros((n, nc)), np.zeros((n, nc), dtype=bool),
+                np.zeros((n, r)), np.zeros(n, dtype=bool), np.zeros(n, dtype=np.int64),
+            )  # fmt: skip
+        if not np.all(sol.converged):
+            # the reduced image of the all-ones element vector: the direction of the dual's start
+            no_gas[rows] = rescue(sol, *args, Q.T @ np.ones(Q.shape[0]))
+        solved[keep.tobytes()] = (rows, sol)
         cols = np.nonzero(keep)[0]
         sub = np.empty((rows.size, cols.size))
         sub[:, kg] = np.exp(sol.ln_n)
@@ -219,28 +251,76 @@ def _solve(
         else:
             amounts[np.ix_(rows, cols)] = sub
         converged[rows] = sol.converged
-    return amounts, converged, solved
+    return amounts, converged, solved, no_gas
 
 
-def _raise_unconverged(prep: _Prepared, ok: np.ndarray) -> None:
+# φ is iterated at the composition found until ln φ moves by less than 1e-10 (the Gibbs condition
+# is then met to that level); 5–15 rounds are typical, the limit only stops a bug.
+_PHI_TOL = 1e-10
+_PHI_MAX_ITER = 100
+
+
+def _with_fugacity(
+    prep: _Prepared,
+    g: np.ndarray,
+    amounts: np.ndarray,
+    batches: dict[bytes, tuple[np.ndarray, GibbsBatch]],
+) -> np.ndarray:
+    """Amounts with Peng–Robinson fugacity coefficients: G°/RT of each gas is raised by ln φ at
+    the composition found, and the minimisation repeated (warm) until φ settles. At that point
+    μ_j = G°_j + RT ln(φ_j x_j P/P°) = Σ a_je λ_e: the equilibrium of the non-ideal mixture."""
+    gas = prep.sset.gas
+    crit = critical_constants([sp for sp in prep.sset.entries if sp.phase == "g"], "equilibrate")
+    ln_phi = np.zeros((prep.T.size, int(gas.sum())))
+    index = np.arange(prep.T.size)
+    for _ in range(_PHI_MAX_ITER):
+        x = amounts[:, gas]
+        new = ln_fugacity_coefficients(prep.T, prep.P, x, crit)
+        step = float(np.max(np.abs(new - ln_phi)))
+        ln_phi = new
+        g_eff = g.copy()
+        g_eff[:, gas] += ln_phi
+        amounts, ok, batches, no_gas = _solve(prep, g_eff, (batches, index))
+        _raise_unconverged(prep, ok, no_gas, amounts)
+        if step <= _PHI_TOL:
+            return amounts
+    raise EquilibriumNotConverged(
+        "The fugacity-coefficient iteration",
+        [_fmt_state(prep.T[0], prep.P[0])],
+        "The Peng–Robinson fugacity coefficients did not settle; the mixture may be near "
+        "condensation. Use the ideal-gas model and treat the result as indicative only.",
+    )
+
+
+def _raise_unconverged(
+    prep: _Prepared, ok: np.ndarray, no_gas: np.ndarray, amounts: np.ndarray
+) -> None:
+    """Refuse the states that did not converge, with the reason where it is known."""
     bad = np.nonzero(~ok)[0]
     if bad.size == 0:
         return
-    condensed = not np.all(prep.sset.gas)
-    hint = (
-        "Check that the feed can be made from the listed species. "
-        + (
-            "If the gas phase may vanish entirely (only condensed phases left), add a little "
-            "inert gas such as N2 or Ar: this solver keeps a gas phase. "
-            if condensed
-            else ""
+    sset = prep.sset
+    if np.all(no_gas[bad]):
+        i = int(bad[0])
+        left = [sp.id for sp, n in zip(sset.entries, amounts[i], strict=True) if n > 0]
+        raise EquilibriumNotConverged(
+            "The Gibbs energy minimisation",
+            [_fmt_state(prep.T[j], prep.P[j]) for j in bad],
+            "There the equilibrium has no gas phase: the whole feed stays condensed (at the first "
+            f"state as {', '.join(left)}), and the listed gases would together reach less than "
+            "the total pressure. This calculation describes a gas phase, so it gives no "
+            "composition; to get the condensed amounts, list an inert gas (e.g. Ar(g)) and add "
+            "a trace of it to the feed.",
+            indices=bad.tolist(),
+            reasons=["no gas phase"] * bad.size,
         )
-        + "If a temperature is near a phase boundary, try one a few kelvin away."
-    )
     raise EquilibriumNotConverged(
         "The Gibbs energy minimisation",
         [_fmt_state(prep.T[i], prep.P[i]) for i in bad],
-        hint,
+        "Check that the element totals can be made from the listed species (every element must "
+        "be carried by some species in the right proportions).",
+        indices=bad.tolist(),
+        reasons=["no gas phase" if no_gas[i] else "not converged" for i in bad],
     )
 
 
@@ -267,6 +347,7 @@ class Equilibrium(TableExport):
     bands: dict[str, np.ndarray] | None = None
     trials: int = 0
     seed: int | None = None
+    gas_model: str = "ideal"
 
     @property
     def gas_fractions(self) -> np.ndarray:
@@ -367,7 +448,13 @@ class Equilibrium(TableExport):
 
     def to_dict(self) -> dict[str, Any]:
         return {
-            "model": "ideal-gas mixture + pure condensed phases; standard state 1 bar",
+            "model": (
+                "Peng–Robinson gas mixture (fugacity coefficients, k_ij = 0)"
+                if self.gas_model == "peng-robinson"
+                else "ideal-gas mixture"
+            )
+            + " + pure condensed phases; standard state 1 bar",
+            "gas_model": self.gas_model,
             "elements": list(self.elements),
             "trials": self.trials,
             "seed": self.seed,
@@ -414,6 +501,7 @@ def equilibrate(
     seed: int | None = None,
     overrides: Sequence[Override] = (),
     correlations: Correlations | None = None,
+    gas_model: str = "ideal",
 ) -> Equilibrium:
     """Equilibrium composition of a species set by Gibbs-energy minimisation at T and P.
 
@@ -422,13 +510,24 @@ def equilibrate(
     come from ``feed`` (amounts by species name; scalars or arrays, one per state) or directly
     from ``elements``. ``T`` and ``P`` carry units and broadcast together. With ``samples`` the
     calculation is repeated over that many draws of the property data (``seed`` makes it
-    reproducible) and ``bands`` holds the 2.5/50/97.5 % values.
+    reproducible) and ``bands`` holds the 2.5/50/97.5 % values. ``gas_model="peng-robinson"``
+    gives the gases fugacity coefficients from the Peng–Robinson equation of state
+    (:mod:`feasibly.thermo.fugacity`), found by iterating φ at the composition to convergence.
 
     >>> eq = equilibrate("CO H2O CO2 H2", "1000 K", "1 bar", "CO:1, H2O:1")
     >>> round(float(eq.fraction("H2")[0]), 3)
     0.272
     """
     library = library or default_library()
+    model = read_gas_model(gas_model, "equilibrate")
+    if model == "peng-robinson" and samples is not None:
+        raise InvalidInput(
+            "samples",
+            "equilibrate",
+            "None with gas_model='peng-robinson' (bands over sampled data are offered with "
+            "ideal gases here; for one reaction, conversion_bands gives them with Peng–Robinson)",
+            samples,
+        )
     sset = _species_set(species, library)
     T_K, P_Pa = read_states(T, P)
     if (feed is None) == (elements is None):
@@ -458,8 +557,10 @@ def equilibrate(
     avail = _availability(sset, T_K)
     prep = _Prepared(sset, T_K, P_Pa, b, avail)
     g = _gibbs_rt(sset, T_K, avail)
-    amounts, ok, batches = _solve(prep, g)
-    _raise_unconverged(prep, ok)
+    amounts, ok, batches, no_gas = _solve(prep, g)
+    _raise_unconverged(prep, ok, no_gas, amounts)
+    if model == "peng-robinson":
+        amounts = _with_fugacity(prep, g, amounts, batches)
     result = Equilibrium(
         tuple(sp.id for sp in sset.entries),
         tuple(sp.phase for sp in sset.entries),
@@ -469,6 +570,7 @@ def equilibrate(
         P_Pa,
         b,
         amounts,
+        gas_model=model,
     )
     if samples is None:
         return result
@@ -491,8 +593,8 @@ def equilibrate(
         g_flat = np.moveaxis(g_s, 2, 1).reshape(m * n, -1)
         rep = np.repeat(np.arange(sl.start, sl.stop), n)
         sub = _Prepared(sset, *(np.repeat(x[sl], n, axis=0) for x in (T_K, P_Pa, b, avail)))
-        amt, ok_s, _ = _solve(sub, g_flat, (batches, rep))
-        _raise_unconverged(sub, ok_s)
+        amt, ok_s, _, no_gas_s = _solve(sub, g_flat, (batches, rep))
+        _raise_unconverged(sub, ok_s, no_gas_s, amt)
         amt = amt.reshape(m, n, -1)
         ng = np.where(gas, amt, 0.0)
         frac = ng / ng.sum(axis=2, keepdims=True)

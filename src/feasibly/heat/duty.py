@@ -35,6 +35,7 @@ from ..uncertainty import (
     build_inputs,
     deviation_rows,
     draw_samples,
+    with_transition_parents,
 )
 
 __all__ = [
@@ -113,21 +114,6 @@ def read_conversion_choice(value: Any) -> float | str:
     return x
 
 
-def _with_parents(entries: Sequence[Species], library: Library) -> list[Species]:
-    """The entries and the neighbours they are carried from at their transitions."""
-    seen: dict[str, Species] = {}
-    stack = list(entries)
-    while stack:
-        sp = stack.pop()
-        if sp.id in seen:
-            continue
-        seen[sp.id] = sp
-        parent = library.transition_parent(sp)
-        if parent is not None:
-            stack.append(parent)
-    return [seen[k] for k in sorted(seen)]
-
-
 def stream_samples(
     rxn: Reaction,
     entries: Sequence[Species],
@@ -138,7 +124,7 @@ def stream_samples(
 ) -> SampleSet | None:
     """Draws covering ``entries``: the call's own draws, extended by independent draws for
     entries the call did not sample (inerts), seeded from the call's seed so that they repeat."""
-    needed = _with_parents(entries, rxn.library)
+    needed = with_transition_parents(entries, rxn.library)
     if call is None:
         if samples is None:
             return None

@@ -62,6 +62,7 @@ _ENTRY_OPTIONAL = {
     "reference_state_of",
     "hypothetical_298",
     "notes",
+    "phase_points",
 }
 _VALUE_KEYS = {"value", "u", "source", "entry", "uncertainty", "replaced"}
 _CP_KEYS = {
@@ -266,7 +267,9 @@ class _EntryReader:
             MappingProxyType(replaced) if replaced else None,
         )
 
-    def cp_block(self, T_range: tuple[float, float] | None) -> tuple[CpModel, float, dict] | None:
+    def cp_block(
+        self, T_range: tuple[float, float] | None, aqueous: bool = False
+    ) -> tuple[CpModel, float, dict] | None:
         block = self.raw.get("cp")
         if not isinstance(block, dict):
             self.bad("cp", "must be a table with model, its parameters and u_rel")
@@ -287,7 +290,7 @@ class _EntryReader:
             self.bad("cp.u_rel", f"{u_rel:g} is above {_MAX_CP_U_REL:g} (a relative uncertainty)")
         if not self.ok or u_rel is None:
             return None
-        built = self._cp_model(block, model, T_range)
+        built = self._cp_model(block, model, T_range, aqueous)
         if built is None:
             return None
         if T_range is not None:
@@ -310,7 +313,11 @@ class _EntryReader:
         return built, u_rel, info
 
     def _cp_model(
-        self, block: dict[str, Any], model: str, T_range: tuple[float, float] | None
+        self,
+        block: dict[str, Any],
+        model: str,
+        T_range: tuple[float, float] | None,
+        aqueous: bool = False,
     ) -> CpModel | None:
         try:
             if model in ("nasa7", "nasa9"):
@@ -352,7 +359,9 @@ class _EntryReader:
                 return Nasa7.from_lists(breaks, coeffs)
             if model == "constant":
                 value = block["cp_J_per_mol_K"]
-                if not _finite(value) or value <= 0:
+                # An aqueous ion's standard partial molar Cp (H+ convention) may be zero or
+                # negative; a pure phase's heat capacity never is.
+                if not _finite(value) or (value <= 0 and not aqueous):
                     self.bad("cp.cp_J_per_mol_K", f"{value!r} is not a positive finite number")
                     return None
                 return ConstantCp(float(value))
@@ -451,9 +460,11 @@ class _EntryReader:
             hypothetical = not (rng[0] <= T_REF <= rng[1])
         # A phase that does not exist at 298.15 K carries the source's extrapolated bookkeeping
         # constant there, which may be negative; a real third-law entropy never is.
-        if S298 is not None and S298.value < 0 and not hypothetical:
+        # An aqueous ion's S° is relative to S°(H+, aq) = 0 and may be negative.
+        aqueous_ion = phase == "aq" and parsed is not None and parsed.charge != 0
+        if S298 is not None and S298.value < 0 and not hypothetical and not aqueous_ion:
             self.bad("S_298.value", f"{S298.value} is negative; third-law entropies are ≥ 0")
-        cp = self.cp_block(rng)
+        cp = self.cp_block(rng, aqueous=phase == "aq")
         ref = raw.get("reference_state_of")
         if ref is not None:
             if (
@@ -503,6 +514,15 @@ class _EntryReader:
                 f"{excerpt(explicit_id)} is not an entry id: use the formula with its phase, "
                 "e.g. CO2(g) or CaCO3(cr,calcite) (letters, digits and ()[],+-.*^ only)",
             )
+        points = raw.get("phase_points")
+        if points is not None:
+            if not isinstance(points, dict) or set(points) != {"T_melt_K", "T_boil_K", "source"}:
+                self.bad("phase_points", "must be a table of T_melt_K, T_boil_K and source")
+            elif not isinstance(points["source"], str) or not all(
+                points[k] is None or (_finite(points[k]) and points[k] > 0)
+                for k in ("T_melt_K", "T_boil_K")
+            ):
+                self.bad("phase_points", "temperatures must be positive numbers or null")
         if (
             not self.ok
             or parsed is None

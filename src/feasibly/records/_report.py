@@ -367,7 +367,9 @@ def _conversion(doc: Mapping[str, Any]) -> str:
         f"<h2>Required conversion of {_e(inputs['key'])}</h2>"
         f"<p>Needed: {_pct(inputs['required'], 0)} of {_e(inputs['key'])} at "
         f"{_num(inputs['P_Pa'], 1e5, 3)} bar total pressure; feed (mol): {feed}. "
-        f"{_e(res['model'])}.</p><p>{_e(window)}</p>" + _table(head, rows)
+        f"{_e(res['model'])}.</p><p>{_e(window)}</p>"
+        + "".join(f"<p>Note: {_e(n)}</p>" for n in res.get("notes", []))
+        + _table(head, rows)
     )
 
 

@@ -306,6 +306,13 @@ def record_from(
         if not isinstance(text, str):
             raise RecordError("record_from", [f"field review.{name}: must be text"])
     problems = []
+    if a.molalities_mol_per_kg or (u is not None and u.molalities_mol_per_kg):
+        # The record format (version 1) has no field for molalities, so its verification would
+        # recompute a different ΔrG: refuse rather than seal a record that cannot be checked.
+        problems.append(
+            "field conditions: results at given molalities cannot be recorded yet (record "
+            "format version 1 has no molality field); record the standard-state run instead"
+        )
     if u is not None:
         if u.reaction.equation() != a.reaction.equation():
             problems.append("field uncertain: it is the run of a different reaction")

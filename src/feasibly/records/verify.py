@@ -136,6 +136,8 @@ def _rerun(doc: Mapping[str, Any]) -> dict[str, Any]:
                 confidence=conv_in["confidence"],
                 library=lib,
                 sample_set=u.samples if shared else None,
+                # records written before the gas model was recorded used ideal gases
+                gas_model=conv_in.get("gas_model", "ideal"),
             ),
         }
 

@@ -8,7 +8,8 @@
   from the data (tabulated melting and boiling points);
 - :mod:`~feasibly.thermo.energy` — stream enthalpies and the adiabatic temperature (no
   uncertainty; :mod:`feasibly.heat` adds it);
-- :mod:`~feasibly.thermo.safety` — plain-language cautions.
+- :mod:`~feasibly.thermo.safety` — plain-language cautions;
+- :mod:`~feasibly.thermo.fugacity` — fugacity coefficients (ideal gas or Peng–Robinson).
 
 Layer rule: imports :mod:`feasibly.library`, :mod:`feasibly.units` and
 :mod:`feasibly.conditions` below it; never uncertainty, equilibrium, records or widgets.
@@ -20,6 +21,13 @@ from .assessment import (
     assess,
     conditions_label,
     read_at_conversion,
+)
+from .fugacity import (
+    GAS_MODELS,
+    Critical,
+    critical_constants,
+    ln_fugacity_coefficients,
+    read_gas_model,
 )
 from .missing_phases import missing_stable_phases
 from .properties import (
@@ -49,24 +57,29 @@ from .safety import (
 __all__ = [
     "DEFERRAL",
     "EXOTHERM_J_PER_G",
+    "GAS_MODELS",
     "NO_UNCERTAINTY",
     "PRESSURE_CAUTION_PA",
     "Assessment",
     "Caution",
+    "Critical",
     "Reaction",
     "ReactionTerm",
     "StandardProperties",
     "assess",
     "cautions_for",
     "conditions_label",
+    "critical_constants",
     "crossover_temperatures",
     "describe_compound",
+    "ln_fugacity_coefficients",
     "missing_stable_phases",
     "parse_equation",
     "pressure_caution",
     "quotient_at_conversion",
     "reaction_quotient",
     "read_at_conversion",
+    "read_gas_model",
     "resolve_species",
     "split_phase_label",
     "standard_properties",

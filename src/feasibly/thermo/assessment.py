@@ -18,6 +18,7 @@ from .._tables import TableExport
 from ..conditions import (
     read_conversion,
     read_feed,
+    read_molalities,
     read_partial_pressures,
     read_standard_pressure,
     read_temperatures,
@@ -37,6 +38,14 @@ from .properties import (
 )
 from .reaction import Reaction
 from .safety import DEFERRAL, Caution, cautions_for
+
+#: Said with every result that involves aqueous species.
+AQUEOUS_NOTE = (
+    "Aqueous species: 1 mol/kg standard state, H+ convention; Q uses molalities as activities "
+    "(ideal dilute solution, activity coefficients 1), which overstates activities at ionic "
+    "strengths above about 0.01 mol/kg; water is the solvent at activity 1. Temperature "
+    "dependence is a constant Cp(25 degC) over 0-100 degC."
+)
 
 __all__ = [
     "NO_UNCERTAINTY",
@@ -117,6 +126,7 @@ class Assessment(TableExport):
     at_conversion: dict[str, Any] | None = None
     crossover_at_conditions_K: list[float] | None = None
     T_range_K: tuple[float, float] | None = None
+    molalities_mol_per_kg: dict[str, float] = field(default_factory=dict)
 
     @property
     def feasible_standard(self) -> np.ndarray:
@@ -239,6 +249,8 @@ class Assessment(TableExport):
             out["partial_pressures_Pa"] = dict(self.partial_pressures_Pa)
             out["at_standard_pressure"] = list(self.assumed_standard)
             out["log10_Q"] = self.log10_Q
+            if self.molalities_mol_per_kg:
+                out["molalities_mol_per_kg"] = dict(self.molalities_mol_per_kg)
         return out
 
 
@@ -252,6 +264,7 @@ def assess(
     library: Library | None = None,
     balance: bool = False,
     at_conversion: Mapping[str, Any] | None = None,
+    molalities: Mapping[str, Any] | None = None,
 ) -> Assessment:
     """Screen one reaction: standard Δr quantities and K at ``T`` or over ``T_range``.
 
@@ -264,6 +277,8 @@ def assess(
     call on ΔrG at the composition that conversion gives: negative exactly where the equilibrium
     conversion exceeds the requirement. The call, its crossover and window are then on ΔrG at
     the user's conditions; the standard values stay beside them.
+    ``molalities`` maps aqueous species to molalities with units (``{"Ca+2": "0.01 mol/kg"}``;
+    ideal dilute solution, γ = 1); other aqueous species are at 1 mol/kg and listed likewise.
 
     >>> a = assess("CaCO3 -> CaO + CO2", T="900 degC")
     >>> a.reaction.equation()
@@ -291,21 +306,23 @@ def assess(
                 "data range of at least one species."
             )
     pressures = read_partial_pressures(partial_pressures)
+    molal = read_molalities(molalities, "assess")
     dG_actual = log10_Q = None
     assumed: list[str] = []
     conv_in: dict[str, Any] | None = None
-    if at_conversion is not None and pressures:
+    if at_conversion is not None and (pressures or molal):
         raise UnitError(
             None,
             "conditions",
-            "give either partial pressures or a feed with a required conversion, not both",
+            "give either partial pressures and molalities or a feed with a required conversion, "
+            "not both",
         )
     ln_q = None
-    if pressures:
-        lnQ, assumed = reaction_quotient(rxn, pressures, p_std, temps)
+    if pressures or molal:
+        lnQ, assumed = reaction_quotient(rxn, pressures, p_std, temps, molal)
 
         def ln_q(t: np.ndarray) -> np.ndarray:
-            return reaction_quotient(rxn, pressures, p_std, t)[0]
+            return reaction_quotient(rxn, pressures, p_std, t, molal)[0]
 
     elif at_conversion is not None:
         conv_in = read_at_conversion(at_conversion)
@@ -332,6 +349,8 @@ def assess(
             cross_actual = crossover_temperatures(
                 rxn, float(temps[0]), float(temps[-1]), p_std, ln_q
             )
+    if molal or any(sp.phase == "aq" for sp in rxn.species_used()):
+        notes.append(AQUEOUS_NOTE)
     lo_T, hi_T = float(temps.min()), float(temps.max())
     changes = rxn.phase_changes(lo_T, hi_T) if hi_T > lo_T else []
     meta = rxn.metastable(temps)
@@ -357,4 +376,5 @@ def assess(
         conv_in,
         cross_actual,
         (float(temps[0]), float(temps[-1])) if T_range is not None else None,
+        molal,
     )

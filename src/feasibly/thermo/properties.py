@@ -18,7 +18,7 @@ from ..conditions import (
     STANDARD_PRESSURE_PA,
 )
 from ..errors import InvalidTemperature, UnitError
-from ..library.cp_models import Nasa7, R
+from ..library.cp_models import Nasa7, Nasa9, R
 from .reaction import Reaction
 
 __all__ = [
@@ -73,22 +73,34 @@ class StandardProperties:
 
 
 class _ReactionPolynomial(NamedTuple):
-    """A reaction whose every term has one NASA-7 entry, folded into one polynomial per segment.
+    """A reaction whose every term has one NASA polynomial entry, folded into one polynomial per
+    segment.
 
     ΔrH°/RT, ΔrS°/R and ΔrCp°/R are linear in the coefficients, so Σν·a over the terms gives one
-    7-coefficient polynomial per stretch of temperature between the union of all species' breaks.
+    polynomial per stretch of temperature between the union of all species' breaks. The fold is
+    in the NASA-9 form; a NASA-7 interval is the NASA-9 one with a1 = a2 = 0 (its a1…a7 become
+    a3…a7, b1, b2), and when no term has the T⁻² and T⁻¹ terms they are left out of the sums.
     """
 
     inner: np.ndarray  # the union of the species' inner breaks, K (ascending)
-    h: np.ndarray  # (6, segments): a0, a1/2, a2/3, a3/4, a4/5, a5 (H/RT form)
-    s: np.ndarray  # (6, segments): a0, a1, a2/2, a3/3, a4/4, a6 (S/R form)
-    cp: np.ndarray  # (5, segments): a0 … a4 (Cp/R form)
+    h: np.ndarray  # (6, segments): a3, a4/2, a5/3, a6/4, a7/5, b1 (H/RT form)
+    s: np.ndarray  # (6, segments): a3, a4, a5/2, a6/3, a7/4, b2 (S/R form)
+    cp: np.ndarray  # (5, segments): a3 … a7 (Cp/R form)
+    low: np.ndarray | None  # (2, segments): a1, a2 (the T⁻² and T⁻¹ terms), None when all zero
     offset_h: float  # Σν (ΔfH°(298.15) − H_poly(298.15)), J/mol
     offset_s: float  # Σν (S°(298.15) − S_poly(298.15)), J/(mol·K)
     T_low: float  # the range every species covers, K
     T_high: float
     gas_change: float
     ids: tuple[str, ...]
+
+
+def _nine(model: Nasa7) -> np.ndarray:
+    """The intervals' coefficients in the NASA-9 form (n, 9)."""
+    c = np.asarray(model.coeffs, dtype=float)
+    if isinstance(model, Nasa9):
+        return c
+    return np.concatenate([np.zeros((c.shape[0], 2)), c], axis=1)
 
 
 # One folded polynomial per Reaction object (reactions are immutable once parsed).
@@ -98,20 +110,20 @@ _FOLDED: weakref.WeakKeyDictionary[Reaction, _ReactionPolynomial | None] = (
 
 
 def _fold(rxn: Reaction) -> _ReactionPolynomial | None:
-    """The folded polynomial of ``rxn``, or None when a term has several phases or no NASA-7.
-
-    Exactly NASA-7: a NASA-9 model (a subclass, nine coefficients per interval) is not folded.
-    """
+    """The folded polynomial of ``rxn``, or None when a term has several phases or no NASA
+    polynomial (NASA-7 or NASA-9)."""
     if rxn in _FOLDED:
         return _FOLDED[rxn]
     folded = None
     entries = [t.candidates[0] for t in rxn.terms if len(t.candidates) == 1]
-    if len(entries) == len(rxn.terms) and all(type(sp.cp_model) is Nasa7 for sp in entries):
+    if len(entries) == len(rxn.terms) and all(
+        type(sp.cp_model) in (Nasa7, Nasa9) for sp in entries
+    ):
         inner = np.unique(
             np.concatenate([np.asarray(sp.cp_model.breaks[1:-1]) for sp in entries])  # type: ignore[attr-defined]
         )
         edges = np.append(inner, np.inf)
-        a = np.zeros((edges.size, 7))
+        a = np.zeros((edges.size, 9))
         off_h = off_s = dn = 0.0
         for term, sp in zip(rxn.terms, entries, strict=True):
             model: Nasa7 = sp.cp_model  # type: ignore[assignment]
@@ -119,17 +131,19 @@ def _fold(rxn: Reaction) -> _ReactionPolynomial | None:
             # segment (u[s-1], u[s]] sits in the interval holding u[s] with side="left".
             k = np.searchsorted(np.asarray(model.breaks[1:-1]), edges, side="left")
             nu = term.nu * term.scale(0)  # amount of the entry per amount of the term
-            a += nu * model.coeffs[k]
+            a += nu * _nine(model)[k]
             h_ref, s_ref = model.absolute_298()
             off_h += nu * (sp.dHf.value - h_ref)
             off_s += nu * (sp.S298.value - s_ref)
             dn += nu * (sp.phase == "g")
         c = a.T
+        low = np.array(c[:2]) if np.any(c[:2] != 0.0) else None
         folded = _ReactionPolynomial(
             inner,
-            np.array([c[0], c[1] / 2, c[2] / 3, c[3] / 4, c[4] / 5, c[5]]),
-            np.array([c[0], c[1], c[2] / 2, c[3] / 3, c[4] / 4, c[6]]),
-            np.array(c[:5]),
+            np.array([c[2], c[3] / 2, c[4] / 3, c[5] / 4, c[6] / 5, c[7]]),
+            np.array([c[2], c[3], c[4] / 2, c[5] / 3, c[6] / 4, c[8]]),
+            np.array(c[2:7]),
+            low,
             off_h,
             off_s,
             max(sp.T_range[0] for sp in entries),
@@ -154,11 +168,19 @@ def _folded_properties(
     else:
         seg = np.searchsorted(f.inner, T, side="left")
         h, s, cp = (np.take(c, seg, axis=1) for c in (f.h, f.s, f.cp))
+    log_t = np.log(T)
     h_rt = h[0] + T * (h[1] + T * (h[2] + T * (h[3] + T * h[4]))) + h[5] / T
-    s_r = s[0] * np.log(T) + T * (s[1] + T * (s[2] + T * (s[3] + T * s[4]))) + s[5]
+    s_r = s[0] * log_t + T * (s[1] + T * (s[2] + T * (s[3] + T * s[4]))) + s[5]
+    cp_r = cp[0] + T * (cp[1] + T * (cp[2] + T * (cp[3] + T * cp[4])))
+    if f.low is not None:  # the NASA-9 T⁻² and T⁻¹ terms (TP-2002-211556, eqs. 1–3)
+        a1, a2 = f.low[:, first] if first == last else np.take(f.low, seg, axis=1)
+        inv = 1.0 / T
+        h_rt = h_rt + inv * (a2 * log_t - a1 * inv)
+        s_r = s_r - inv * (a2 + 0.5 * a1 * inv)
+        cp_r = cp_r + inv * (a2 + a1 * inv)
     dH = (R * T) * h_rt + f.offset_h
     dS = R * s_r + f.offset_s
-    dCp = R * (cp[0] + T * (cp[1] + T * (cp[2] + T * (cp[3] + T * cp[4]))))
+    dCp = R * cp_r
     dn = np.full(T.shape, f.gas_change)
     if standard_pressure != STANDARD_PRESSURE_PA:
         dS = dS - dn * R * math.log(standard_pressure / STANDARD_PRESSURE_PA)
@@ -258,21 +280,46 @@ def crossover_temperatures(
 
 
 def reaction_quotient(
-    rxn: Reaction, pressures: Mapping[str, float], standard_pressure: float, T: np.ndarray
+    rxn: Reaction,
+    pressures: Mapping[str, float],
+    standard_pressure: float,
+    T: np.ndarray,
+    molalities: Mapping[str, float] | None = None,
 ) -> tuple[np.ndarray, list[str]]:
-    """ln Q per T for ideal gases at given partial pressures; condensed phases at activity 1."""
+    """ln Q per T for ideal gases at given partial pressures and aqueous species at given
+    molalities (mol/kg; ideal dilute solution, activity = m / 1 mol/kg, γ = 1); pure condensed
+    phases, the solvent water among them, at activity 1. Species left out are at their standard
+    state and listed in the second return value."""
+    molalities = molalities or {}
     known = {t.formula: t for t in rxn.terms} | {t.label(): t for t in rxn.terms}
-    for name in pressures:
+    for name in [*pressures, *molalities]:
         if name not in known:
             raise UnitError(
                 name,
                 "species of this reaction",
-                f"partial pressure given for {name}, which is not in the equation",
+                f"a partial pressure or molality was given for {name}, which is not in the "
+                "equation",
+            )
+    for name in molalities:
+        term = known[name]
+        if not all(sp.phase == "aq" for sp in term.candidates):
+            raise UnitError(
+                name,
+                "aqueous species",
+                "a molality was given, but this species is not aqueous in the equation; "
+                "label it (aq)",
             )
     plan = rxn.phase_plan(T)
     lnQ = np.zeros(T.shape)
     assumed = []
     for term, idx in zip(rxn.terms, plan, strict=True):
+        if all(sp.phase == "aq" for sp in term.candidates):
+            m = molalities.get(term.label(), molalities.get(term.formula))
+            if m is None:
+                assumed.append(term.label())
+            else:
+                lnQ += term.nu * math.log(m)  # m / (1 mol/kg)
+            continue
         is_gas = np.array([sp.phase == "g" for sp in term.candidates])[idx]
         p = pressures.get(term.label(), pressures.get(term.formula))
         if p is not None and np.any(term.scale_array()[idx] != 1.0):

@@ -142,8 +142,14 @@ def _split_terms(side: str, text: str) -> list[str]:
     out: list[str] = []
     for piece in pieces:
         # "H2+O2" with no spaces: a '+' followed by a formula start (or a coefficient and a
-        # formula) separates terms; a trailing '+' is a charge.
-        out.extend(re.split(r"(?<=[\w)\]}])\+(?=\s*(?:\d*\.?\d+(?:/\d+)?\s*)?[A-Z(\[{])", piece))
+        # formula) separates terms; a trailing '+' is a charge, also before a phase label
+        # ("H+(aq)": a '(' followed by a lowercase letter opens a label, not a formula).
+        out.extend(
+            re.split(
+                r"(?<=[\w)\]}])\+(?=\s*(?:\d*\.?\d+(?:/\d+)?\s*)?(?:[A-Z\[{]|\((?![a-z])))",
+                piece,
+            )
+        )
     terms = [t.strip() for t in out]
     if any(not t or t.startswith("+") for t in terms):
         raise ReactionSyntaxError(text, "an empty term (two '+' in a row, or '+' at an end)")
@@ -360,6 +366,10 @@ def resolve_species(
                 candidates=[describe_compound(library, f) for f in alike],
             )
         raise UnknownSpecies(formula, library.suggest(formula))
+    if phase is None and any(sp.phase != "aq" for sp in hits):
+        # An aqueous species is a solute at 1 mol/kg, not a phase the pure substance turns
+        # into: it is used only when the equation says (aq) (or nothing else exists).
+        hits = [sp for sp in hits if sp.phase != "aq"]
     chosen = [
         sp
         for sp in hits
@@ -370,6 +380,22 @@ def resolve_species(
         want = ",".join(x for x in (phase, form) if x)
         raise UnknownSpecies(
             f"{hits[0].formula}({want})", [sp.id for sp in hits], detail=f"The library has {have}."
+        )
+    if (
+        phase is None
+        and all(sp.phase == "g" and sp.origin == "library" for sp in chosen)
+        and not any(sp.raw.get("phase_points") for sp in chosen if sp.raw)
+        and sum(chosen[0].elements.values()) > 1
+    ):
+        # Only a gas entry, and no tabulated melting or boiling point to say that the compound is
+        # a gas where it is used: an oxide such as NiO or FeO would silently become its vapour.
+        raise UnknownSpecies(
+            formula,
+            [sp.id for sp in chosen],
+            detail=f"The data library has only the gas {chosen[0].id} for it, and no tabulated "
+            "melting or boiling point to show it is a gas at your temperatures. Write "
+            f"{chosen[0].id} if you mean the gas; if you mean a solid or liquid, add that phase "
+            "in a species file.",
         )
     return hits[0].formula, tuple(chosen)
 
@@ -389,8 +415,29 @@ def _allotropes(library: Library, own: Sequence[Species]) -> list[tuple[Species,
     for sp in library:
         if sp.formula == first.formula or sp.charge or set(sp.elements) != {element}:
             continue
+        if sp.phase == "aq":  # a solute is not a molecular form of the pure element
+            continue
         out.append((sp, count / sp.elements[element]))
     return sorted(out, key=lambda x: x[0].id)
+
+
+def _check_ion_conventions(terms: Sequence[ReactionTerm], text: str) -> None:
+    """Refuse a reaction that mixes gas ions with aqueous ions: their ΔfH° rest on different
+    conventions (thermal electron for gas ions, H⁺(aq) = 0 for aqueous ones), so a sum over
+    both would be wrong by the convention's offset."""
+    gas_ion = [
+        t.label() for t in terms if any(sp.charge and sp.phase == "g" for sp in t.candidates)
+    ]
+    aq_ion = [
+        t.label() for t in terms if any(sp.charge and sp.phase == "aq" for sp in t.candidates)
+    ]
+    if gas_ion and aq_ion:
+        raise ReactionSyntaxError(
+            text,
+            f"gas ions ({', '.join(gas_ion)}) and aqueous ions ({', '.join(aq_ion)}) rest on "
+            "different conventions and cannot be combined in one reaction; label the ions (aq) "
+            "for a solution reaction or (g) for a gas-phase one",
+        )
 
 
 def _as_fraction(x: float) -> Fraction:
@@ -471,6 +518,7 @@ class Reaction:
                     f"{t.label()} appears more than once; write it once with its net coefficient",
                 )
             merged[key] = t
+        _check_ion_conventions(terms, text)
         rxn = cls(terms, text, library)
         if balance:
             return rxn.balanced()
@@ -674,9 +722,15 @@ class Reaction:
         for term, idx in zip(self.terms, plan, strict=True):
             if term.phase is None and term.form is None:
                 continue
+            aq = any(sp.phase == "aq" for sp in term.candidates)
+            # An aqueous solute and a pure phase are not rival phases (different standard
+            # states, and ions on different conventions): never compared.
             own = self.library.by_formula(term.formula)
-            others = [(sp, 1.0) for sp in own if sp not in term.candidates]
-            others += _allotropes(self.library, own)
+            others = [
+                (sp, 1.0) for sp in own if sp not in term.candidates and (sp.phase == "aq") == aq
+            ]
+            if not aq:
+                others += _allotropes(self.library, own)
             if not others:
                 continue
             used_g = np.array(

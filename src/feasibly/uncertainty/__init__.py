@@ -36,6 +36,7 @@ from .linear import (
     summarise,
     uncertain_species,
     window_phrase,
+    with_transition_parents,
 )
 from .route import Route, assess_route
 from .sampling import SampleSet, draw_samples, extend_samples
@@ -69,4 +70,5 @@ __all__ = [
     "uncertain_species",
     "verdict",
     "window_phrase",
+    "with_transition_parents",
 ]

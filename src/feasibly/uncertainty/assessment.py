@@ -23,6 +23,7 @@ from scipy import special
 from .._tables import TableExport
 from ..conditions import (
     read_confidence,
+    read_molalities,
     read_partial_pressures,
     read_standard_pressure,
     read_temperature,
@@ -122,6 +123,7 @@ class UncertainAssessment(TableExport):
         adaptive: AdaptiveReport | None = None,
         crossing_range: tuple[float, float] | None = None,
         at_conversion: Mapping[str, Any] | None = None,
+        molalities: Mapping[str, float] | None = None,
     ) -> None:
         self.reaction = reaction
         self.samples = samples
@@ -131,6 +133,7 @@ class UncertainAssessment(TableExport):
         self.threshold_text = threshold_text
         self.standard_pressure = standard_pressure
         self.partial_pressures_Pa = dict(pressures)
+        self.molalities_mol_per_kg = dict(molalities or {})
         self.overrides = list(overrides)
         self.library = library
         self.adaptive = adaptive
@@ -156,7 +159,12 @@ class UncertainAssessment(TableExport):
     def _ln_q(self, T: np.ndarray) -> np.ndarray | None:
         """ln Q at the user's conditions (partial pressures or a required conversion), or None."""
         return _ln_q(
-            self.reaction, self.partial_pressures_Pa, self.at_conversion, self.standard_pressure, T
+            self.reaction,
+            self.partial_pressures_Pa,
+            self.at_conversion,
+            self.standard_pressure,
+            T,
+            self.molalities_mol_per_kg,
         )
 
     @property
@@ -540,6 +548,7 @@ def assess_uncertainty(
     progress: bool | None = None,
     draws: SampleSet | None = None,
     at_conversion: Mapping[str, Any] | None = None,
+    molalities: Mapping[str, Any] | None = None,
 ) -> UncertainAssessment:
     """Monte Carlo feasibility of a reaction: P(ΔrG < threshold), verdict and window over T.
 
@@ -558,6 +567,9 @@ def assess_uncertainty(
     every input of the reaction); ``samples``, ``seed`` and ``method`` are then those of the
     draws, and adaptive mode, overrides and correlations are refused (the draws fix them).
 
+    ``molalities`` maps aqueous species to molalities with units (ideal dilute solution, as in
+    :func:`feasibly.assess`).
+
     >>> a = assess_uncertainty("MgCO3 -> MgO + CO2", T="800 K", samples=4096, seed=1)
     >>> a.verdicts
     ['feasible']
@@ -573,12 +585,21 @@ def assess_uncertainty(
     thr_fn, thr_text = _threshold_fn(threshold, required_K)
     pressures = read_partial_pressures(partial_pressures)
     conv_in = read_at_conversion(at_conversion) if at_conversion is not None else None
-    if (pressures or conv_in) and required_K is not None:
+    molal = read_molalities(molalities, "assess_uncertainty")
+    if conv_in and (pressures or molal):
+        raise UnitError(
+            None,
+            "conditions",
+            "give either partial pressures and molalities or a feed with a required conversion, "
+            "not both",
+        )
+    if (pressures or conv_in or molal) and required_K is not None:
         raise UnitError(
             required_K,
             "criterion",
             "a required K refers to the standard state; "
-            "with partial pressures or a required conversion give a ΔrG threshold instead",
+            "with partial pressures, molalities or a required conversion give a ΔrG threshold "
+            "instead",
         )
     inputs = build_inputs(uncertain_species(rxn), overrides)
     corr = correlation_matrix(inputs, correlations)
@@ -618,6 +639,7 @@ def assess_uncertainty(
             None,
             crossing_range,
             conv_in,
+            molal,
         )
     show = progress if progress is not None else (adaptive or n0 * temps.size >= _PROGRESS_WORK)
     bar = _Progress(max_trials if adaptive else n0, bool(show))
@@ -627,7 +649,7 @@ def assess_uncertainty(
     if adaptive:
 
         def one(s: SampleSet) -> Summary:
-            lnQ = _ln_q(rxn, pressures, conv_in, p_std, temps)
+            lnQ = _ln_q(rxn, pressures, conv_in, p_std, temps, molal)
             return summarise(linear_model(rxn, temps, s, p_std, lnQ), s, "G", thr_fn(temps))
 
         drawn, report = _adaptive(drawn, one, block, max_trials, bar)
@@ -646,6 +668,7 @@ def assess_uncertainty(
         report,
         crossing_range,
         conv_in,
+        molal,
     )
 
 
@@ -655,9 +678,10 @@ def _ln_q(
     at_conversion: Mapping[str, Any] | None,
     p_std: float,
     T: np.ndarray,
+    molalities: Mapping[str, float] | None = None,
 ) -> np.ndarray | None:
-    if pressures:
-        return reaction_quotient(rxn, pressures, p_std, T)[0]
+    if pressures or molalities:
+        return reaction_quotient(rxn, pressures, p_std, T, molalities)[0]
     if at_conversion:
         c = at_conversion
         return quotient_at_conversion(rxn, c["feed"], c["key"], c["required"], c["P_Pa"], p_std, T)

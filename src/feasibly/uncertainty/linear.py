@@ -50,6 +50,7 @@ __all__ = [
     "uncertain_species",
     "variance_shares",
     "window_phrase",
+    "with_transition_parents",
 ]
 
 _LN10 = math.log(10.0)
@@ -111,14 +112,19 @@ class LinearModel:
 def uncertain_species(rxn: Reaction) -> list[Species]:
     """Every entry whose inputs a reaction's uncertainty depends on: the phases it may use and
     the neighbours those are carried from at their transitions."""
+    return with_transition_parents(rxn.species_used(), rxn.library)
+
+
+def with_transition_parents(entries: Sequence[Species], library: Any) -> list[Species]:
+    """The entries and the neighbours they are carried from at their transitions, sorted by id."""
     seen: dict[str, Species] = {}
-    stack = list(rxn.species_used())
+    stack = list(entries)
     while stack:
         sp = stack.pop()
         if sp.id in seen:
             continue
         seen[sp.id] = sp
-        parent = rxn.library.transition_parent(sp)
+        parent = library.transition_parent(sp)
         if parent is not None:
             stack.append(parent)
     return [seen[k] for k in sorted(seen)]

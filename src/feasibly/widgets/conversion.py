@@ -172,6 +172,7 @@ class ConversionTarget(w.VBox):
             )
         return (
             note_html(html.escape(say))
+            + "".join(note_html(html.escape(n)) for n in res.get("notes", []))
             + "<table style='font-size:12px;border-spacing:14px 2px'><tr><th>T</th>"
             "<th>conversion</th><th>95 % interval</th><th>P(meets)</th></tr>" + body + "</table>"
         )
