@@ -172,6 +172,25 @@ def same_substance(cas: str, elements: Mapping[str, float]) -> bool:
     return comp is not None and same_comp(comp, elements)
 
 
+#: Limit of a CRC row's own ΔfG° check, J/mol: twice the combined u of a row's ΔfH° and T·S°
+#: under the provisional crc policies (4000 J/mol, 2 J/(mol K)), as crosschecks.py applies it.
+ROW_LIMIT = 2.0 * math.hypot(4000.0, T_REF * 2.0)
+
+
+def _row_fits(e: Entry, row: Mapping[str, Any], ref_s: Mapping[str, float]) -> bool:
+    """Whether a CRC row's ΔfH°, S°, ΔfG° are consistent with the entry's composition
+    (ΔfG° = ΔfH° − T(S° − ΣS°(elements))): a CAS the identifier database gives the wrong
+    compound pairs unrelated rows (measured: TiO(cr) against Ti3O5's −2459 kJ/mol)."""
+    from .sources import fnum
+
+    col = {"g": "g", "l": "l", "cr": "s"}[e["phase"]]
+    h, s, g = (fnum(row.get(f"{k}{col}")) for k in ("Hf", "S0", "Gf"))
+    if h is None or s is None or g is None or any(k not in ref_s for k in e["elements"]):
+        return True  # nothing to check the row with: compared as its CAS says
+    ds = s - sum(ref_s[k] * n for k, n in e["elements"].items())
+    return abs(g - (h - T_REF * ds)) <= ROW_LIMIT
+
+
 def _policy(block: Mapping[str, Any]) -> str | None:
     """The policy that set a value block's uncertainty (None when a source stated it)."""
     unc = block.get("uncertainty", {})
@@ -240,6 +259,12 @@ def collect(
             cas_count[(e["cas"], e["phase"])] = cas_count.get((e["cas"], e["phase"]), 0) + 1
     tables: dict[str, dict[float, tuple[float, float, float | None]]] = {}
     out: list[Comparison] = []
+    # S° per atom of each element's reference state, for the CRC rows' own ΔfG° check
+    ref_s = {
+        x["reference_state_of"]: x["S_298"]["value"] / sum(x["elements"].values())
+        for x in entries
+        if x["reference_state_of"]
+    }
     for e in sorted(entries, key=lambda x: x["id"]):
         sid = e["id"]
         jt = None
@@ -256,6 +281,8 @@ def collect(
             and same_substance(e["cas"], e["elements"])
         ):
             crow = crc.get(e["cas"])
+            if crow is not None and not _row_fits(e, crow, ref_s):
+                crow = None
         for q, field in (("dHf", "dHf_298"), ("S", "S_298")):
             cls = value_class(e, q)
             block = e[field]

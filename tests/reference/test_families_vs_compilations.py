@@ -155,6 +155,29 @@ def _same_substance(cas: str, items: tuple) -> bool:
     return set(comp) == set(els) and all(abs(float(comp[k]) - float(els[k])) < 1e-9 for k in comp)
 
 
+@cache
+def _element_s() -> dict[str, float]:
+    """S° per atom of each element's reference state in the library (J/(mol K))."""
+    return {
+        e["reference_state_of"]: e["S_298"]["value"] / sum(e["elements"].values())
+        for e in _library()
+        if e.get("reference_state_of")
+    }
+
+
+def _row_fits(e: dict, row: dict[str, str], letter: str) -> bool:
+    """A CRC row is compared only when its own ΔfG° = ΔfH° − T(S° − ΣS°(elements)) holds for
+    the entry's composition within twice the combined u of 4 kJ/mol and T × 2 J/(mol K) (a
+    wrong CAS in the identifier database pairs TiO(cr) with Ti3O5's row, −2459 kJ/mol)."""
+    cells = [row.get(f"{k}{letter}", "").strip() for k in ("Hf", "S0", "Gf")]
+    ref = _element_s()
+    if not all(cells) or any(k not in ref for k in e["elements"]):
+        return True
+    h, s, g = (float(c) for c in cells)
+    ds = s - sum(ref[k] * n for k, n in e["elements"].items())
+    return abs(g - (h - 298.15 * ds)) <= 2 * math.hypot(4000.0, 298.15 * 2.0)
+
+
 def _independent(e: dict) -> list[tuple[str, str, float]]:
     """(quantity, compilation, value) of every independent value of an entry at 298.15 K."""
     if e["hypothetical_298"] or e["phase"] == "aq":
@@ -169,7 +192,12 @@ def _independent(e: dict) -> list[tuple[str, str, float]]:
                     out.append((q, f"janaf-4 {idx}", float(row[col])))
     cas = e["cas"]
     letter = {"g": "g", "l": "l", "cr": "s"}[e["phase"]]
-    if cas and cas in _crc() and _same_substance(cas, tuple(sorted(e["elements"].items()))):
+    if (
+        cas
+        and cas in _crc()
+        and _same_substance(cas, tuple(sorted(e["elements"].items())))
+        and _row_fits(e, _crc()[cas], letter)
+    ):
         row = _crc()[cas]
         for q, col in (("dHf_298", f"Hf{letter}"), ("S_298", f"S0{letter}")):
             if row.get(col, "").strip() and e[q]["source"] != "crc-298":

@@ -19,6 +19,7 @@ from __future__ import annotations
 import csv
 import importlib.resources as ir
 import json
+import math
 from functools import cache
 from pathlib import Path
 
@@ -76,6 +77,29 @@ def _same_substance(cas: str, elements_items: object) -> bool:
     )
 
 
+@cache
+def _element_s() -> dict[str, float]:
+    """S° per atom of each element's reference state in the library (J/(mol K))."""
+    return {
+        e["reference_state_of"]: e["S_298"]["value"] / sum(e["elements"].values())
+        for e in _library()["species"]
+        if e.get("reference_state_of")
+    }
+
+
+def _row_fits(e: dict, row: dict[str, str], letter: str) -> bool:
+    """A CRC row is compared only when its own ΔfG° = ΔfH° − T(S° − ΣS°(elements)) holds for the
+    entry's composition within twice the combined u of 4 kJ/mol and T × 2 J/(mol K), as the
+    build does (a wrong CAS in the identifier database pairs TiO(cr) with Ti3O5's row)."""
+    cells = [row.get(f"{k}{letter}", "").strip() for k in ("Hf", "S0", "Gf")]
+    ref = _element_s()
+    if not all(cells) or any(k not in ref for k in e["elements"]):
+        return True
+    h, s, g = (float(c) for c in cells)
+    ds = s - sum(ref[k] * n for k, n in e["elements"].items())
+    return abs(g - (h - 298.15 * ds)) <= 2 * math.hypot(4000.0, 298.15 * 2.0)
+
+
 def _class_u(cls: str) -> float:
     return float(_calibration()[cls]["chosen_u"])
 
@@ -123,6 +147,7 @@ def _differences() -> list[tuple[str, str, float, float, str, float]]:
                 and _same_substance(e["cas"], tuple(sorted(e["elements"].items())))
                 and block["source"] != "crc-298"
                 and e["cas"] in crc
+                and _row_fits(e, crc[e["cas"]], cols[e["phase"]][0][-1])
             ):
                 cell = crc[e["cas"]][cols[e["phase"]][0 if q == "dHf" else 1]].strip()
                 if cell:
