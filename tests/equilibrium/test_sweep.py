@@ -102,11 +102,19 @@ def _check_state(A, g, n, gas, P_bar):
     """(balance not checked here) Gibbs residual over present species, worst absent margin."""
     ng = np.where(gas, n, 0.0)
     N = ng.sum()
-    present = (n > 0) & np.isfinite(g)
+    # Present: a normal float. A subnormal amount (below 2.2e-308 mol, e.g. C4 at 3e-323 over
+    # CO2 + O2 at 406 K) keeps only a few significant bits, so its log cannot carry the 1e-6 RT
+    # condition; it stands for an amount that underflows, and is judged as absent (its margin).
+    present = (n >= np.finfo(float).tiny) & np.isfinite(g)
     mu = np.where(gas, g + np.log(np.where(gas & present, n, 1.0) / N * P_bar), g)
     Ap = A[:, present]
     lam, *_ = np.linalg.lstsq(Ap.T, mu[present], rcond=None)
     resid = float(np.max(np.abs(Ap.T @ lam - mu[present])))
+    # a gas judged absent for underflow must be one the potentials put below 1e-290 mol too
+    under = gas & ~present & (n > 0) & np.isfinite(g)
+    if np.any(under):
+        ln_pred = A[:, under].T @ lam - g[under] + math.log(N / P_bar)
+        resid = max(resid, float(np.max(ln_pred - math.log(1e-290), initial=0.0)))
     # absent condensed phases with data at T whose composition the present species span
     absent = ~present & ~gas & np.isfinite(g)
     margin = np.inf
