@@ -13,7 +13,7 @@ from pathlib import Path
 from typing import Any
 
 from .._limits import MAX_POINTS
-from ..conditions import read_mole_fractions
+from ..conditions import GAS_MODELS, read_mole_fractions
 from ..errors import InvalidInput, UnitError
 from ..thermo import assess
 from ._terminal import (
@@ -113,7 +113,14 @@ def _cmd_assess(args: argparse.Namespace) -> int:
         library=lib,
         balance=args.balance,
         molalities=molalities,
+        gas_model=args.gas_model,
     )
+    if result.gas_model == "ideal" and result.fugacity_term is not None:
+        # Only calls at given pressures or a required conversion get here: a plain screen does
+        # not load the uncertainty wing.
+        from ..uncertainty import with_gas_model_warning
+
+        with_gas_model_warning(result)
     if args.record and args.seed is None and (args.samples is not None or args.adaptive):
         # A record must be reproducible: draw the seed here and write it into the record.
         args.seed = secrets.randbits(32)
@@ -145,6 +152,7 @@ def _cmd_assess(args: argparse.Namespace) -> int:
             library=lib,
             at_conversion=result.at_conversion,
             molalities=molalities,
+            gas_model=args.gas_model,
         )
     elif args.threshold or args.require_K or args.override or args.correlate:
         raise UnitError(
@@ -428,9 +436,10 @@ def register(sub: Any) -> None:
         "--gas-model",
         dest="gas_model",
         default="ideal",
-        choices=["ideal", "peng-robinson"],
-        help="gases in the equilibrium: ideal, or with Peng–Robinson fugacity coefficients "
-        "(for tens of bar and more; default ideal)",
+        choices=list(GAS_MODELS),
+        help="gases in ΔrG at --p/--y or at the required conversion, and in the equilibrium: "
+        "ideal, or with Peng–Robinson fugacity coefficients (for tens of bar and more; "
+        "default ideal)",
     )
     h = a.add_argument_group("heat (needs --feed)")
     h.add_argument(
