@@ -208,3 +208,12 @@ def test_record_refuses_a_monte_carlo_run_of_another_gas_model():
 def test_library_face_offers_the_option():
     a = feasibly.assess(NH3, T="723.15 K", partial_pressures=HIGH, gas_model="pr")
     assert a.gas_model == "peng-robinson"
+
+
+def test_monte_carlo_call_gets_the_same_warning_as_the_nominal_call():
+    kw = {"T": (np.array([700.0, 723.15]), "K"), "partial_pressures": HIGH}
+    a = assess(NH3, **kw)
+    u = assess_uncertainty(NH3, samples=1024, seed=1, **kw)
+    assert gas_model_warning(u) == gas_model_warning(a) is not None
+    pr = assess_uncertainty(NH3, samples=1024, seed=1, gas_model="pr", **kw)
+    assert gas_model_warning(pr) is None

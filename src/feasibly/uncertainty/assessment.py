@@ -32,7 +32,7 @@ from ..conditions import (
     read_temperatures_as_given,
     read_trials,
 )
-from ..errors import InvalidInput, InvalidUncertainty, UnitError
+from ..errors import FeasiblyError, InvalidInput, InvalidUncertainty, UnitError
 from ..library.catalogue import Library, default_library
 from ..library.cp_models import R
 from ..thermo import (
@@ -708,28 +708,43 @@ def _ln_q(
     return lnQ
 
 
-def gas_model_warning(assessment: Assessment) -> str | None:
+def gas_model_warning(assessment: Assessment | UncertainAssessment) -> str | None:
     """The warning an ideal-gas call needs where non-ideality matters, or None.
 
     Where the Peng–Robinson estimate of Σ ν ln φ at the call's conditions
-    (``assessment.fugacity_term``) moves ΔrG by more than the standard uncertainty of ΔrG° from
-    the data (GUM, first order; exact here, ΔrG° being linear in the library's independent
-    inputs) at some temperature, the warning gives the size of the correction there.
+    (``Assessment.fugacity_term``; computed here for a Monte Carlo call) moves ΔrG by more than
+    the standard uncertainty of ΔrG° from the data (GUM, first order; exact here, ΔrG° being
+    linear in the library's independent inputs) at some temperature, the warning gives the size
+    of the correction there.
     """
     a = assessment
-    term = a.fugacity_term
-    if a.gas_model != "ideal" or term is None or a.dG_actual is None:
+    if a.gas_model != "ideal":
         return None
-    T = a.standard.T
+    if isinstance(a, UncertainAssessment):
+        T, p_std = a.T, a.standard_pressure
+        if not (a.partial_pressures_Pa or a.at_conversion) or not any(
+            sp.phase == "g" for sp in a.reaction.species_used()
+        ):
+            return None
+        try:
+            term = fugacity_term(a.reaction, T, a.partial_pressures_Pa, a.at_conversion)
+        except FeasiblyError:
+            return None  # no estimate: a gas without constants, or an open mixture
+        finite = np.isfinite(a.model.G0)
+    else:
+        if a.fugacity_term is None or a.dG_actual is None:
+            return None
+        T, p_std, term = a.standard.T, a.standard.standard_pressure, a.fugacity_term
+        finite = np.isfinite(a.dG_actual)
     inputs = build_inputs(uncertain_species(a.reaction))
     # two draws: the linear model needs only the inputs' keys from a sample set
     drawn = draw_samples(inputs, 2, seed=0)
     cov = np.diag(np.array([inp.u for inp in inputs]) ** 2)  # independent library inputs
-    u = gum_uncertainty(linear_model(a.reaction, T, drawn, a.standard.standard_pressure), cov)
+    u = gum_uncertainty(linear_model(a.reaction, T, drawn, p_std), cov)
     shift = R * T * term
     with np.errstate(divide="ignore", invalid="ignore"):
         ratio = np.where(u > 0, np.abs(shift) / u, np.where(shift != 0, np.inf, 0.0))
-    ratio = np.where(np.isfinite(a.dG_actual), ratio, 0.0)  # an infinite ΔrG is not moved
+    ratio = np.where(finite, ratio, 0.0)  # an infinite ΔrG is not moved
     i = int(np.argmax(ratio))
     if not ratio[i] > 1.0:
         return None
