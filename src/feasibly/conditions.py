@@ -1,6 +1,6 @@
 """The one reader of the conditions a call is made at: temperatures, the standard-state pressure,
 partial pressures, total pressure with mole fractions, feeds, and the settings of a call
-(confidence level, number of points, trials).
+(confidence level, number of points, trials, gas model).
 
 Every entry point (the kernel's functions, the command line, the widgets and the records) reads
 user conditions here, so "800 degC", ``(800, "degC")`` and ``Q_(800, "degC")`` mean the same

@@ -179,6 +179,10 @@ def test_record_carries_the_gas_model_of_the_call_and_verify_recomputes_with_it(
     assert rec["conditions"]["gas_model"] == "peng-robinson"
     assert "Peng–Robinson gases" in rec["results"]["summary"]["headline"]
     assert verify_record(rec).identical
+    # the report says which gases the partial pressures are for
+    from feasibly.records import record_html
+
+    assert "Partial pressures (Peng–Robinson gas mixture, fugacities φ y P" in record_html(rec)
     # the same record said to be ideal (and re-sealed) no longer reproduces
     edited = json.loads(json.dumps(rec))
     edited["conditions"]["gas_model"] = "ideal"
