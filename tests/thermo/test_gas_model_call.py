@@ -171,6 +171,16 @@ def test_command_line_applies_the_gas_model_to_the_call(capsys):
                  "--gas-model", "peng-robinson"]) == 2  # fmt: skip
     err = capsys.readouterr().err
     assert "H2, NH3 have none" in err and "Traceback" not in err
+    # mole fractions that leave part of the gas unknown cannot give the mixture's φ
+    some = ["assess", NH3, "--T", "700", "K", "--P", "300", "bar", "--y", "N2=0.2", "--y",
+            "H2=0.6", "--y", "NH3=0.1"]  # fmt: skip
+    assert main([*some, "--gas-model", "peng-robinson"]) == 2
+    assert "must add up to 1" in capsys.readouterr().err
+    assert main(some) == 0  # the ideal-gas call does not need the rest of the gas
+    capsys.readouterr()
+    whole = [*some[:-1], "NH3=0.2", "--gas-model", "peng-robinson", "--json"]
+    assert main(whole) == 0
+    assert json.loads(capsys.readouterr().out)["gas_model"] == "peng-robinson"
 
 
 def test_record_carries_the_gas_model_of_the_call_and_verify_recomputes_with_it():

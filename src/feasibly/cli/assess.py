@@ -13,7 +13,7 @@ from pathlib import Path
 from typing import Any
 
 from .._limits import MAX_POINTS
-from ..conditions import GAS_MODELS, read_mole_fractions
+from ..conditions import GAS_MODELS, read_mole_fractions, read_pressure
 from ..errors import InvalidInput, UnitError
 from ..thermo import assess
 from ._terminal import (
@@ -67,6 +67,16 @@ def _cmd_assess(args: argparse.Namespace) -> int:
         fractions = read_mole_fractions(
             _quantity_text(args.P, "pressure"), _pressure_pairs(args.y, "mole fraction")
         )
+        total = read_pressure(_quantity_text(args.P, "pressure"))
+        # 1e-9 relative: fractions typed to 9 decimals that add to 1 are the whole gas
+        if args.gas_model == "peng-robinson" and sum(fractions.values()) < total * (1 - 1e-9):
+            raise UnitError(
+                " ".join(" ".join(t) for t in args.y),
+                "set of mole fractions",
+                "with --gas-model peng-robinson they must add up to 1: the fugacity "
+                "coefficients depend on the whole gas mixture, and the rest of it is unknown "
+                "(give every gas, or use the ideal-gas model)",
+            )
         for name, p_pa in fractions.items():
             pressures[name] = (p_pa, "Pa")
     elif args.P is not None and not args.feed:
