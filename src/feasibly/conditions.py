@@ -1,6 +1,6 @@
 """The one reader of the conditions a call is made at: temperatures, the standard-state pressure,
 partial pressures, total pressure with mole fractions, feeds, and the settings of a call
-(confidence level, number of points, trials).
+(confidence level, number of points, trials, gas model).
 
 Every entry point (the kernel's functions, the command line, the widgets and the records) reads
 user conditions here, so "800 degC", ``(800, "degC")`` and ``Q_(800, "degC")`` mean the same
@@ -37,6 +37,7 @@ from .errors import InvalidInput, InvalidUncertainty, UnitError
 from .units import to_kelvin, to_pascal
 
 __all__ = [
+    "GAS_MODELS",
     "MAX_FEED_AMOUNT",
     "ONE_ATM_PA",
     "STANDARD_PRESSURE_PA",
@@ -44,6 +45,7 @@ __all__ = [
     "read_conversion",
     "read_count",
     "read_feed",
+    "read_gas_model",
     "read_molalities",
     "read_mole_fractions",
     "read_partial_pressures",
@@ -65,6 +67,8 @@ STANDARD_PRESSURE_PA = 100000.0
 MAX_FEED_AMOUNT = 1e12
 #: The older standard-state pressure some tables use (1 atm = 101 325 Pa, exact by definition).
 ONE_ATM_PA = 101325.0
+#: The gas models on offer: ideal gas (φ = 1) and the Peng–Robinson equation of state.
+GAS_MODELS = ("ideal", "peng-robinson")
 
 
 def read_temperatures(
@@ -279,6 +283,20 @@ def read_molalities(molalities: Mapping[str, Any] | None, function: str = "") ->
             raise UnitError(value, f"molality of {name}", "a molality must be finite and above 0")
         out[str(name)] = m
     return out
+
+
+def read_gas_model(value: object, function: str) -> str:
+    """``"ideal"`` or ``"peng-robinson"`` (case and the spelling "Peng-Robinson"/"PR" accepted).
+
+    >>> read_gas_model("Peng-Robinson", "assess")
+    'peng-robinson'
+    """
+    text = str(value).strip().lower().replace("–", "-").replace("_", "-").replace(" ", "-")
+    if text in ("pr", "peng-robinson"):
+        return "peng-robinson"
+    if text in ("ideal", "ideal-gas"):
+        return "ideal"
+    raise InvalidInput("gas_model", function, "'ideal' or 'peng-robinson'", value)
 
 
 def read_confidence(confidence: Any, function: str) -> float:

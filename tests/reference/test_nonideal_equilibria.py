@@ -199,3 +199,124 @@ def test_methanol_synthesis_fugacity_raises_conversion():
         ]
         assert rows["fugacity_term_lnK"] < -n_u * rows["u_lnK"]
         assert rows["conversion_peng_robinson"] > rows["conversion_ideal_gas"] + 0.02
+
+
+# --- the call at the user's conditions: ΔrG = ΔrG° + RT ln Q with fugacities --------------------
+def _thermo_ln_phi(ids, T, P, y):
+    crit = critical_constants([LIB[i] for i in ids])
+    eos = thermo.PR78MIX(
+        Tcs=[c.Tc for c in crit],
+        Pcs=[c.Pc for c in crit],
+        omegas=[c.omega for c in crit],
+        zs=list(y),
+        T=T,
+        P=P,
+    )
+    # one root above the mixture's critical point: thermo files it as gas or liquid
+    return np.array(eos.lnphis_g if hasattr(eos, "lnphis_g") else eos.lnphis_l)
+
+
+@pytest.mark.parametrize(
+    ("equation", "ids", "nu", "T", "pressures_bar"),
+    [
+        (
+            "N2 + 3 H2 -> 2 NH3",
+            ("N2(g)", "H2(g)", "NH3(g)"),
+            (-1, -3, 2),
+            723.15,
+            {"N2": 50.0, "H2": 150.0, "NH3": 100.0},
+        ),
+        (
+            "CO + 2 H2 -> CH3OH",
+            ("CO(g)", "H2(g)", "CH3OH(g)"),
+            (-1, -2, 1),
+            523.15,
+            {"CO": 15.0, "H2": 60.0, "CH3OH": 5.0},
+        ),
+        (
+            "CO2 + H2 -> CO + H2O",
+            ("CO2(g)", "H2(g)", "CO(g)", "H2O(g)"),
+            (-1, -1, 1, 1),
+            500.0,
+            {"CO2": 10.0, "H2": 60.0, "CO": 5.0, "H2O": 2.0},
+        ),
+    ],
+)
+def test_call_at_partial_pressures_uses_the_fugacities_of_the_thermo_package(
+    equation, ids, nu, T, pressures_bar
+):
+    """ΔrG(Peng–Robinson) − ΔrG(ideal) = RT Σ ν ln φ with φ from thermo.PR78MIX for the mixture
+    of the gases given, at the sum of their partial pressures."""
+    pp = {k: f"{v} bar" for k, v in pressures_bar.items()}
+    ideal = feasibly.assess(equation, T=f"{T} K", partial_pressures=pp)
+    pr = feasibly.assess(equation, T=f"{T} K", partial_pressures=pp, gas_model="peng-robinson")
+    P = sum(pressures_bar.values()) * 1e5
+    y = np.array(list(pressures_bar.values())) * 1e5 / P
+    ref = float(np.dot(nu, _thermo_ln_phi(ids, T, P, y)))
+    # 1e-7 in ln units: the two codes' Ωa, Ωb rounding (as in the test of ln φ above)
+    assert pr.fugacity_term[0] == pytest.approx(ref, abs=1e-7)
+    assert pr.dG_actual[0] - ideal.dG_actual[0] == pytest.approx(R * T * ref, abs=1e-6 * R * T)
+    assert pr.log10_Q - ideal.log10_Q == pytest.approx(ref / math.log(10), abs=1e-7)
+
+
+def test_call_at_required_conversion_uses_the_fugacities_of_the_thermo_package():
+    """At the composition of 30 % conversion of N2 (feed N2:1, H2:3, Ar:0.2, 200 bar) the
+    correction is RT Σ ν ln φ with φ from thermo.PR78MIX for that mixture, argon included."""
+    T = 700.0
+    at = {"feed": "N2:1, H2:3, Ar:0.2", "key": "N2", "required": 0.3, "P": "200 bar"}
+    ideal = feasibly.assess("N2 + 3 H2 -> 2 NH3", T=f"{T} K", at_conversion=at)
+    pr = feasibly.assess("N2 + 3 H2 -> 2 NH3", T=f"{T} K", at_conversion=at, gas_model="pr")
+    n = np.array([0.7, 3 - 0.9, 0.6, 0.2])  # N2, H2, NH3, Ar at 30 % conversion of N2
+    ln_phi = _thermo_ln_phi(("N2(g)", "H2(g)", "NH3(g)", "Ar(g)"), T, 200e5, n / n.sum())
+    ref = float(np.dot([-1, -3, 2], ln_phi[:3]))
+    assert pr.fugacity_term[0] == pytest.approx(ref, abs=1e-7)
+    assert pr.dG_actual[0] - ideal.dG_actual[0] == pytest.approx(R * T * ref, abs=1e-6 * R * T)
+
+
+@pytest.mark.parametrize("T_C", sorted(LARSON_DODGE))
+def test_ammonia_call_at_the_measured_equilibrium_is_near_zero_with_fugacities(T_C):
+    """At the measured equilibrium composition (Larson & Dodge 1923, Larson 1924; 3:1 H2:N2)
+    ΔrG is 0 by definition. With Peng–Robinson fugacities the call's ΔrG there lies within 2 u
+    (k = 2) of 0 up to 100 atm, u being the data's standard uncertainty of ΔrG° (GUM; 0.60 and
+    0.64 kJ/mol at 450 and 500 °C on the recalibrated data). At 300 and 600 atm the ideal gas
+    lies beyond 2 u (3.2–7.8 kJ/mol) and Peng–Robinson removes more than half of that gap, but
+    not all of it: with k_ij = 0 it gives 40–70 % of the measured fugacity effect (the K_p test
+    above), which leaves +0.8 and +1.6 kJ/mol at 300 atm (1.3 u and 2.4 u) and +2.2 and
+    +2.6 kJ/mol at 600 atm. So the test asks for 2 u up to 100 atm and for "closer to 0 by at
+    least half" from 300 atm on."""
+    from feasibly.uncertainty import gas_model_warning
+
+    T = T_C + 273.15
+    for P_atm, y_pc in LARSON_DODGE[T_C].items():
+        P, y = P_atm * 101325.0, y_pc / 100.0
+        pp = {
+            "N2": ((1 - y) / 4 * P, "Pa"),
+            "H2": (3 * (1 - y) / 4 * P, "Pa"),
+            "NH3": (y * P, "Pa"),
+        }
+        ideal = feasibly.assess("N2 + 3 H2 -> 2 NH3", T=(T, "K"), partial_pressures=pp)
+        pr = feasibly.assess(
+            "N2 + 3 H2 -> 2 NH3", T=(T, "K"), partial_pressures=pp, gas_model="peng-robinson"
+        )
+        u = non_ideality("N2 + 3 H2 -> 2 NH3", (T, "K"), "1 bar", "N2:1, H2:3", "N2")["rows"][0][
+            "u_lnK"
+        ] * (R * T)
+        g_id, g_pr = float(ideal.dG_actual[0]), float(pr.dG_actual[0])
+        print(
+            f"{T_C:g} °C {P_atm} atm: ΔrG ideal {g_id / 1e3:+.2f}, Peng–Robinson "
+            f"{g_pr / 1e3:+.2f} kJ/mol; u(ΔrG°) {u / 1e3:.2f} kJ/mol"
+        )
+        if P_atm <= 50:
+            # near-ideal: both within 2 u of the measured equilibrium
+            assert abs(g_id) < 2 * u and abs(g_pr) < 2 * u
+            continue
+        assert abs(g_pr) < abs(g_id)
+        if P_atm <= 100:
+            assert abs(g_pr) < 2 * u
+        else:
+            assert abs(g_pr) < 0.5 * abs(g_id)
+        if P_atm >= 300:
+            assert abs(g_id) > 2 * u
+            # the ideal-gas call warns, with the size of the correction
+            warning = gas_model_warning(ideal)
+            assert warning is not None and f"{g_pr / 1e3 - g_id / 1e3:+.3g} kJ/mol" in warning

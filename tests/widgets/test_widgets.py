@@ -399,6 +399,25 @@ def test_phase_notes_show_metastable_and_missing_phases(counters):
     )
 
 
+def test_high_pressure_ideal_gas_call_shows_the_non_ideality_warning(counters):
+    # The worksheet's call uses ideal gases; at 300 bar of ammonia synthesis gas the
+    # Peng–Robinson correction exceeds the data's uncertainty and the warning is on screen
+    # (the same text as feasibly.uncertainty.gas_model_warning gives the call).
+    from feasibly.uncertainty import gas_model_warning
+
+    ws = FeasibilityWorksheet(
+        "N2 + 3 H2 -> 2 NH3", T="700 K", T_window=("650 K", "750 K"), samples=N
+    )
+    assert "Non-ideal gases" not in ws._phase_notes.value
+    with ws.conditions.hold_trait_notifications():
+        ws.conditions.total_pressure = "300 bar"
+        ws.conditions.entries = {"N2": "50 bar", "H2": "150 bar", "NH3": "100 bar"}
+    assert not ws.error and not ws.conditions.error
+    text = gas_model_warning(ws.panel.result)
+    assert text is not None and "Non-ideal gases" in ws._phase_notes.value
+    assert "Peng–Robinson fugacity coefficients would move ln Q" in ws._phase_notes.value
+
+
 def test_equation_and_pressure_changes_update_the_figure_in_place(sheet, monkeypatch):
     # No rebuild: the same FigureWidget and the same trace objects, new numbers in them.
     builds = []

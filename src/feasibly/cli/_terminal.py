@@ -240,9 +240,14 @@ def _print_assessment(a: Assessment) -> None:
             print(
                 f"  (the 298.15 K shortcut ΔrH°/ΔrS° would say {a.crossover_298_estimate_K:.1f} K)"
             )
+    gases = (
+        "Peng–Robinson gas mixture (fugacities φ y P)"
+        if a.gas_model == "peng-robinson"
+        else "ideal gases"
+    )
     if a.dG_actual is not None and a.at_conversion is not None:
         print(
-            f"ΔrG at {a.conditions}: at the composition that conversion gives; ideal gases, "
+            f"ΔrG at {a.conditions}: at the composition that conversion gives; {gases}, "
             "condensed phases pure. ΔrG < 0 exactly where the equilibrium conversion is higher."
         )
     elif a.dG_actual is not None:
@@ -250,7 +255,7 @@ def _print_assessment(a: Assessment) -> None:
             [f"{k} {v / 1e5:g} bar" for k, v in a.partial_pressures_Pa.items()]
             + [f"{k} {m:g} mol/kg" for k, m in a.molalities_mol_per_kg.items()]
         )
-        print(f"ΔrG at {given}; ideal gases, ideal dilute solution (γ = 1), condensed phases pure.")
+        print(f"ΔrG at {given}; {gases}, ideal dilute solution (γ = 1), condensed phases pure.")
         if a.assumed_standard:
             print(
                 f"  At the standard state (no pressure or molality given): "

@@ -13,7 +13,7 @@ from pathlib import Path
 from typing import Any
 
 from .._limits import MAX_POINTS
-from ..conditions import read_mole_fractions
+from ..conditions import GAS_MODELS, read_mole_fractions, read_pressure
 from ..errors import InvalidInput, UnitError
 from ..thermo import assess
 from ._terminal import (
@@ -67,6 +67,16 @@ def _cmd_assess(args: argparse.Namespace) -> int:
         fractions = read_mole_fractions(
             _quantity_text(args.P, "pressure"), _pressure_pairs(args.y, "mole fraction")
         )
+        total = read_pressure(_quantity_text(args.P, "pressure"))
+        # 1e-9 relative: fractions typed to 9 decimals that add to 1 are the whole gas
+        if args.gas_model == "peng-robinson" and sum(fractions.values()) < total * (1 - 1e-9):
+            raise UnitError(
+                " ".join(" ".join(t) for t in args.y),
+                "set of mole fractions",
+                "with --gas-model peng-robinson they must add up to 1: the fugacity "
+                "coefficients depend on the whole gas mixture, and the rest of it is unknown "
+                "(give every gas, or use the ideal-gas model)",
+            )
         for name, p_pa in fractions.items():
             pressures[name] = (p_pa, "Pa")
     elif args.P is not None and not args.feed:
@@ -113,7 +123,14 @@ def _cmd_assess(args: argparse.Namespace) -> int:
         library=lib,
         balance=args.balance,
         molalities=molalities,
+        gas_model=args.gas_model,
     )
+    if result.gas_model == "ideal" and result.fugacity_term is not None:
+        # Only calls at given pressures or a required conversion get here: a plain screen does
+        # not load the uncertainty wing.
+        from ..uncertainty import with_gas_model_warning
+
+        with_gas_model_warning(result)
     if args.record and args.seed is None and (args.samples is not None or args.adaptive):
         # A record must be reproducible: draw the seed here and write it into the record.
         args.seed = secrets.randbits(32)
@@ -145,6 +162,7 @@ def _cmd_assess(args: argparse.Namespace) -> int:
             library=lib,
             at_conversion=result.at_conversion,
             molalities=molalities,
+            gas_model=args.gas_model,
         )
     elif args.threshold or args.require_K or args.override or args.correlate:
         raise UnitError(
@@ -428,9 +446,10 @@ def register(sub: Any) -> None:
         "--gas-model",
         dest="gas_model",
         default="ideal",
-        choices=["ideal", "peng-robinson"],
-        help="gases in the equilibrium: ideal, or with Peng–Robinson fugacity coefficients "
-        "(for tens of bar and more; default ideal)",
+        choices=list(GAS_MODELS),
+        help="gases in ΔrG at --p/--y or at the required conversion, and in the equilibrium: "
+        "ideal, or with Peng–Robinson fugacity coefficients (for tens of bar and more; "
+        "default ideal)",
     )
     h = a.add_argument_group("heat (needs --feed)")
     h.add_argument(

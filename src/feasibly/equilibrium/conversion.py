@@ -455,18 +455,17 @@ def conversion_bands(
     q = np.empty((3, T_K.size))
     p = np.empty(T_K.size)
     ln_p = np.log(P_Pa / _P_STD)
-    # temperature rows per block: a few MB of sampled states at a time
-    step = max(1, block_rows(drawn.n * (nu.size + 4)))
+    # With ideal gases each row's conversion is a non-decreasing function of ln K alone, so its
+    # order statistics are those of ln K: a few extents per row give the same bands and P.
+    bands = _bands_by_rank if mixture is None else _bands_full
+    # temperature rows per block: a few MB of sampled states at a time (the full solve holds
+    # the states of every trial; the rank route three arrays of ln K and conversions)
+    step = block_rows(drawn.n * (nu.size + 4) if bands is _bands_full else drawn.n)
     for a in range(0, T_K.size, step):
         sl = slice(a, min(a + step, T_K.size))
         ln_k = -model.values("G", drawn, sl) / (R * T_K[sl, None])
-        xi, _, _ = _extent_states(
-            nu, gas[sl], n0, inert, ln_k, ln_p[sl], T_K[sl], P_Pa[sl], mixture
-        )
-        x = -nu[k] * xi / n0[k]
-        q[:, sl] = np.quantile(x, BAND_PROBS, axis=1)
-        # 1e-12: a conversion equal to the requirement up to rounding counts as meeting it
-        p[sl] = np.mean(x >= req - 1e-12, axis=1) if req is not None else np.nan
+        states = _States(nu, gas[sl], n0, inert, ln_p[sl], T_K[sl], P_Pa[sl], k, mixture)
+        q[:, sl], p[sl] = bands(states, ln_k, req)
     n_tr = drawn.n
     return ConversionBands(
         T_K,
@@ -481,6 +480,126 @@ def conversion_bands(
         n_tr,
         drawn.seed,
     )
+
+
+@dataclass
+class _States:
+    """One block of temperature rows of a conversion: what the extent solver needs per row."""
+
+    nu: np.ndarray
+    gas: np.ndarray
+    n0: np.ndarray
+    inert: float
+    ln_p: np.ndarray
+    T: np.ndarray
+    P: np.ndarray
+    key: int
+    mixture: _GasMixture | None
+
+    def conversion(self, ln_k: np.ndarray) -> np.ndarray:
+        """Conversion of the key at each ln K (rows × any number of states per row)."""
+        xi, _, _ = _extent_states(
+            self.nu, self.gas, self.n0, self.inert, ln_k, self.ln_p, self.T, self.P,
+            self.mixture,
+        )  # fmt: skip
+        return -self.nu[self.key] * xi / self.n0[self.key]
+
+
+# A conversion equal to the requirement up to rounding counts as meeting it.
+_MEETS_TOL = 1e-12
+
+
+def _bands_full(
+    states: _States, ln_k: np.ndarray, req: float | None
+) -> tuple[np.ndarray, np.ndarray]:
+    """Band quantiles (3 × rows) and P(conversion ≥ req) per row, from an extent per trial."""
+    x = states.conversion(ln_k)
+    p = np.mean(x >= req - _MEETS_TOL, axis=1) if req is not None else np.full(x.shape[0], np.nan)
+    return np.quantile(x, BAND_PROBS, axis=1), p
+
+
+def _bands_by_rank(
+    states: _States, ln_k: np.ndarray, req: float | None
+) -> tuple[np.ndarray, np.ndarray]:
+    """The same numbers as :func:`_bands_full` for ideal gases, from a few extents per row.
+
+    In a row (one T, P and feed) the extent is a non-decreasing function of ln K alone (the
+    equilibrium condition g(ξ) = ln K has g non-decreasing in ξ), so the conversion of the trial
+    holding the r-th smallest ln K is the r-th smallest conversion. The quantiles need the
+    conversions at the ranks next to each band's position only: ln K is partitioned at those
+    ranks, the extents are solved there, every other position takes the value of the nearest
+    solved rank below it (which keeps the order), and ``np.quantile`` interpolates exactly as on
+    the full set. P(conversion ≥ req) counts the trials whose ln K lies above the ln K at which
+    the conversion equals the requirement (g at that composition); trials within a relative
+    1e-7 of it, far wider than the solver's tolerance (|g − ln K| ≤ 1e-12), are solved. The
+    extent of a state does not depend on the other states solved with it, so the numbers are
+    those of the full solve (``tests/equilibrium/test_conversion_by_rank.py`` compares them
+    bit for bit).
+    """
+    rows, n = ln_k.shape
+    # numpy's linear quantile reads ranks floor(p(N − 1)) and the one above; one more rank each
+    # side covers any rounding of its position
+    base = np.floor(np.array(BAND_PROBS) * (n - 1)).astype(int)
+    ranks = np.unique(np.clip(np.concatenate([base + d for d in (-1, 0, 1, 2)]), 0, n - 1))
+    part = np.partition(ln_k, ranks, axis=1)
+    at = states.conversion(part[:, ranks])
+    below = np.maximum(np.searchsorted(ranks, np.arange(n), side="right") - 1, 0)
+    q = np.quantile(at[:, below], BAND_PROBS, axis=1)
+    if req is None:
+        return q, np.full(rows, np.nan)
+    return q, _share_meeting(states, ln_k, req - _MEETS_TOL)
+
+
+def _share_meeting(states: _States, ln_k: np.ndarray, c: float) -> np.ndarray:
+    """Share of each row's trials whose conversion is at least ``c``, as np.mean would give it."""
+    rows, n = ln_k.shape
+    nu, k = states.nu, states.key
+    xi_c = c * states.n0[k] / -nu[k]
+    amounts = states.n0 + nu * xi_c
+    scale = max(float(np.max(states.n0)), 1.0)
+    count = np.zeros(rows)
+    for i in range(rows):
+        gas = states.gas[i]
+        if np.any(amounts < -1e-9 * scale):
+            continue  # beyond what the feed allows: no trial reaches c
+        if np.any(amounts <= 1e-9 * scale) or not np.any(gas):
+            # at a bound or with no gas: count by the solver itself, over the sorted trials
+            count[i] = _count_by_bisection(states, ln_k, c, i)
+            continue
+        N = float(np.sum(amounts[gas])) + states.inert
+        dnu = float(np.sum(nu[gas]))
+        # ln K at which the equilibrium conversion is exactly c (the solver's f = 0 there)
+        ln_k_c = float(np.sum(nu[gas] * np.log(amounts[gas]))) - dnu * np.log(N)
+        ln_k_c += dnu * states.ln_p[i]
+        # 1e-7 relative: 1e5 times the solver's tolerance in ln K, yet rarely holds a trial
+        delta = 1e-7 * max(1.0, abs(ln_k_c))
+        row = ln_k[i]
+        near = np.abs(row - ln_k_c) <= delta
+        count[i] = np.count_nonzero(row > ln_k_c + delta)
+        if np.any(near):
+            one = _States(
+                nu, states.gas[i : i + 1], states.n0, states.inert, states.ln_p[i : i + 1],
+                states.T[i : i + 1], states.P[i : i + 1], k, None,
+            )  # fmt: skip
+            count[i] += np.count_nonzero(one.conversion(row[near][None, :]) >= c)
+    return count / n
+
+
+def _count_by_bisection(states: _States, ln_k: np.ndarray, c: float, i: int) -> int:
+    """Trials of row ``i`` whose conversion is at least ``c``: bisection over the sorted ln K."""
+    srt = np.sort(ln_k[i])
+    one = _States(
+        states.nu, states.gas[i : i + 1], states.n0, states.inert, states.ln_p[i : i + 1],
+        states.T[i : i + 1], states.P[i : i + 1], states.key, None,
+    )  # fmt: skip
+    lo, hi = 0, srt.size  # ranks below lo fail, from hi on they meet
+    while lo < hi:
+        mid = (lo + hi) // 2
+        if one.conversion(srt[mid : mid + 1][None, :])[0, 0] >= c:
+            hi = mid
+        else:
+            lo = mid + 1
+    return srt.size - lo
 
 
 def conversion_window(

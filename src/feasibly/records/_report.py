@@ -267,7 +267,14 @@ def _settings(doc: Mapping[str, Any]) -> str:
     pp = cond["partial_pressures_Pa"]
     if pp:
         given = ", ".join(f"{_e(k)} {v / 1e5:g} bar" for k, v in pp.items())
-        items.append(f"Partial pressures (ideal gases, condensed phases pure): {given}")
+        gases = (
+            "Peng–Robinson gas mixture, fugacities φ y P"
+            if cond.get("gas_model") == "peng-robinson"
+            else "ideal gases"
+        )
+        items.append(f"Partial pressures ({gases}, condensed phases pure): {given}")
+    if cond.get("gas_model") == "peng-robinson" and cond.get("call_at_required_conversion"):
+        items.append("Gases: Peng–Robinson mixture (fugacities φ y P) at the required conversion")
     if unc is None:
         items.append("No Monte Carlo run: standard values only, no confidence level.")
     else:

@@ -25,7 +25,12 @@ from ..library.cp_models import R
 from ..library.species import Species
 from ..thermo.assessment import NO_UNCERTAINTY, Assessment, assess
 from ..thermo.reaction import Reaction
-from ..uncertainty import ADAPTIVE_MAX_TRIALS, UncertainAssessment, assess_uncertainty
+from ..uncertainty import (
+    ADAPTIVE_MAX_TRIALS,
+    UncertainAssessment,
+    assess_uncertainty,
+    gas_model_warning,
+)
 from ..uncertainty.inputs import InputKey, Method, Override
 from ..uncertainty.linear import uncertain_species
 from .document import SCHEMA_MARK, SCHEMA_VERSION, _seal
@@ -160,9 +165,15 @@ def summary(a: Assessment, u: UncertainAssessment | None) -> dict[str, str]:
 
 
 def results_section(a: Assessment, u: UncertainAssessment | None, t_sens: float) -> dict[str, Any]:
+    assessment = plain(a.to_dict())
+    # An ideal-gas call where non-ideality exceeds the data's uncertainty carries the warning in
+    # every record, whether or not the caller added it to the notes (verify recomputes it here).
+    warning = gas_model_warning(a)
+    if warning is not None and warning not in assessment["notes"]:
+        assessment["notes"].append(warning)
     return {
         "summary": summary(a, u),
-        "assessment": plain(a.to_dict()),
+        "assessment": assessment,
         "uncertainty": plain(u.to_dict(t_sens)) if u is not None else None,
     }
 
@@ -324,6 +335,8 @@ def record_from(
             problems.append("field uncertain: it was run at another standard pressure")
         if u.at_conversion != a.at_conversion:
             problems.append("field uncertain: its call was made at other conditions")
+        if u.gas_model != a.gas_model:
+            problems.append("field uncertain: it was run with another gas model")
     if a.at_conversion is not None:
         same = conversion_inputs is not None and all(
             conversion_inputs.get(k) == a.at_conversion[k] for k in ("feed", "key", "required")
@@ -385,6 +398,7 @@ def record_from(
             "standard_pressure_Pa": float(a.standard.standard_pressure),
             "partial_pressures_Pa": plain(a.partial_pressures_Pa),
             "call_at_required_conversion": a.at_conversion is not None,
+            "gas_model": a.gas_model,
         },
         "uncertainty": (
             _uncertainty_inputs(u, required_K, max_trials, t_sens) if u is not None else None
@@ -430,6 +444,7 @@ def make_record(
     author: str = "",
     reviewer: str = "",
     rationale: str = "",
+    gas_model: str = "ideal",
 ) -> dict[str, Any]:
     """Run the call (:func:`feasibly.assess`, and the Monte Carlo run when ``samples`` or
     ``adaptive`` is given) and return its decision record.
@@ -451,6 +466,7 @@ def make_record(
         standard_pressure=standard_pressure,
         library=library,
         balance=balance,
+        gas_model=gas_model,
     )
     u = None
     if samples is not None or adaptive:
@@ -477,6 +493,7 @@ def make_record(
             library=library,
             max_trials=max_trials,
             progress=False,
+            gas_model=gas_model,
         )
     return record_from(
         a,

@@ -112,6 +112,8 @@ def _rerun(doc: Mapping[str, Any]) -> dict[str, Any]:
         standard_pressure=p_std,
         library=lib,
         balance=rxn["balance"],
+        # records made before the gas model was recorded used ideal gases
+        gas_model=cond.get("gas_model", "ideal"),
     )
 
     def conversion_of(u: Any) -> dict[str, Any]:
@@ -183,6 +185,7 @@ def _rerun(doc: Mapping[str, Any]) -> dict[str, Any]:
         library=lib,
         progress=False,
         at_conversion=at_conversion,
+        gas_model=cond.get("gas_model", "ideal"),
     )
     return record_from(
         a,

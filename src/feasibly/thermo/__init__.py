@@ -15,6 +15,7 @@ Layer rule: imports :mod:`feasibly.library`, :mod:`feasibly.units` and
 :mod:`feasibly.conditions` below it; never uncertainty, equilibrium, records or widgets.
 """
 
+from ..conditions import GAS_MODELS, read_gas_model
 from .assessment import (
     NO_UNCERTAINTY,
     Assessment,
@@ -23,16 +24,16 @@ from .assessment import (
     read_at_conversion,
 )
 from .fugacity import (
-    GAS_MODELS,
     Critical,
     critical_constants,
     ln_fugacity_coefficients,
-    read_gas_model,
+    reaction_fugacity_term,
 )
 from .missing_phases import missing_stable_phases
 from .properties import (
     StandardProperties,
     crossover_temperatures,
+    fugacity_term,
     quotient_at_conversion,
     reaction_quotient,
     standard_properties,
@@ -72,11 +73,13 @@ __all__ = [
     "critical_constants",
     "crossover_temperatures",
     "describe_compound",
+    "fugacity_term",
     "ln_fugacity_coefficients",
     "missing_stable_phases",
     "parse_equation",
     "pressure_caution",
     "quotient_at_conversion",
+    "reaction_fugacity_term",
     "reaction_quotient",
     "read_at_conversion",
     "read_gas_model",

@@ -18,6 +18,7 @@ from .._tables import TableExport
 from ..conditions import (
     read_conversion,
     read_feed,
+    read_gas_model,
     read_molalities,
     read_partial_pressures,
     read_standard_pressure,
@@ -32,6 +33,7 @@ from .properties import (
     _LN10,
     StandardProperties,
     crossover_temperatures,
+    fugacity_term,
     quotient_at_conversion,
     reaction_quotient,
     standard_properties,
@@ -85,20 +87,28 @@ def read_at_conversion(at_conversion: Mapping[str, Any]) -> dict[str, Any]:
 
 
 def conditions_label(
-    pressures: Mapping[str, float], at_conversion: Mapping[str, Any] | None
+    pressures: Mapping[str, float],
+    at_conversion: Mapping[str, Any] | None,
+    gas_model: str = "ideal",
 ) -> str:
     """The user's conditions in words, e.g. ``p(CO2) = 0.15 bar``; empty at standard state.
 
     >>> conditions_label({"CO2": 15000.0}, None)
     'p(CO2) = 0.15 bar'
+    >>> conditions_label({"CO2": 15000.0}, None, "peng-robinson")
+    'p(CO2) = 0.15 bar, Peng–Robinson gases'
     """
     if at_conversion:
         feed = ", ".join(f"{k}:{v:g}" for k, v in at_conversion["feed"].items())
-        return (
+        text = (
             f"{at_conversion['required']:.0%} conversion of {at_conversion['key']} "
             f"from feed {feed} at {at_conversion['P_Pa'] / 1e5:g} bar"
         )
-    return ", ".join(f"p({k}) = {v / 1e5:g} bar" for k, v in pressures.items())
+    else:
+        text = ", ".join(f"p({k}) = {v / 1e5:g} bar" for k, v in pressures.items())
+    if text and gas_model == "peng-robinson":
+        text += ", Peng–Robinson gases"
+    return text
 
 
 @dataclass
@@ -127,6 +137,12 @@ class Assessment(TableExport):
     crossover_at_conditions_K: list[float] | None = None
     T_range_K: tuple[float, float] | None = None
     molalities_mol_per_kg: dict[str, float] = field(default_factory=dict)
+    #: The gases in ΔrG at the user's conditions: "ideal" or "peng-robinson".
+    gas_model: str = "ideal"
+    #: Σ ν_i ln φ_i (Peng–Robinson) at the user's conditions per T: in ln Q when ``gas_model`` is
+    #: "peng-robinson"; with ideal gases the estimate of what they leave out (None where it
+    #: cannot be estimated, or at standard state).
+    fugacity_term: np.ndarray | None = None
 
     @property
     def feasible_standard(self) -> np.ndarray:
@@ -140,7 +156,7 @@ class Assessment(TableExport):
     @property
     def conditions(self) -> str:
         """The user's conditions in words; empty when the call is at standard state."""
-        return conditions_label(self.partial_pressures_Pa, self.at_conversion)
+        return conditions_label(self.partial_pressures_Pa, self.at_conversion, self.gas_model)
 
     @property
     def dG_call(self) -> np.ndarray:
@@ -210,6 +226,8 @@ class Assessment(TableExport):
             if self.dG_actual is not None:
                 dga = float(self.dG_actual[i])
                 row["dG_actual_J_per_mol"] = dga if np.isfinite(dga) else None
+                if self.gas_model != "ideal" and self.fugacity_term is not None:
+                    row["fugacity_term_lnQ"] = float(self.fugacity_term[i])
             row["call"] = "favourable" if self.favourable[i] else "not favourable"
             rows.append(row)
         out: dict[str, Any] = {
@@ -251,6 +269,9 @@ class Assessment(TableExport):
             out["log10_Q"] = self.log10_Q
             if self.molalities_mol_per_kg:
                 out["molalities_mol_per_kg"] = dict(self.molalities_mol_per_kg)
+        if self.gas_model != "ideal":
+            # only when not ideal, so the results of records made before the option read the same
+            out["gas_model"] = self.gas_model
         return out
 
 
@@ -265,6 +286,7 @@ def assess(
     balance: bool = False,
     at_conversion: Mapping[str, Any] | None = None,
     molalities: Mapping[str, Any] | None = None,
+    gas_model: str = "ideal",
 ) -> Assessment:
     """Screen one reaction: standard Δr quantities and K at ``T`` or over ``T_range``.
 
@@ -279,6 +301,11 @@ def assess(
     the user's conditions; the standard values stay beside them.
     ``molalities`` maps aqueous species to molalities with units (``{"Ca+2": "0.01 mol/kg"}``;
     ideal dilute solution, γ = 1); other aqueous species are at 1 mol/kg and listed likewise.
+    ``gas_model="peng-robinson"`` puts fugacities f_i = φ_i y_i P in Q (Peng–Robinson, k_ij = 0,
+    :func:`~feasibly.thermo.properties.fugacity_term`): at partial pressures every gas of the
+    equation needs one. With ideal gases ``fugacity_term`` holds the estimate of what that
+    leaves out (:func:`feasibly.uncertainty.gas_model_warning` compares it with the data's
+    uncertainty). At standard state the gas model does not enter.
 
     >>> a = assess("CaCO3 -> CaO + CO2", T="900 degC")
     >>> a.reaction.equation()
@@ -307,6 +334,7 @@ def assess(
             )
     pressures = read_partial_pressures(partial_pressures)
     molal = read_molalities(molalities, "assess")
+    model = read_gas_model(gas_model, "assess")
     dG_actual = log10_Q = None
     assumed: list[str] = []
     conv_in: dict[str, Any] | None = None
@@ -341,6 +369,26 @@ def assess(
 
         lnQ = ln_q(temps)
     cross_actual = None
+    phi_term = None
+    if ln_q is not None and any(sp.phase == "g" for sp in rxn.species_used()):
+        ideal_q = ln_q
+
+        def phi_of(t: np.ndarray) -> np.ndarray:
+            return fugacity_term(rxn, t, pressures, conv_in, "assess")
+
+        if model == "peng-robinson":
+            phi_term = phi_of(temps)
+            lnQ = lnQ + phi_term
+
+            def ln_q(t: np.ndarray) -> np.ndarray:
+                return ideal_q(t) + phi_of(t)
+
+            notes.append(gas_model_note(phi_term, temps))
+        else:
+            try:
+                phi_term = phi_of(temps)
+            except FeasiblyError:
+                phi_term = None  # no estimate: a gas without constants, or an open mixture
     if ln_q is not None:
         with np.errstate(invalid="ignore"):
             dG_actual = std.dG + R * temps * lnQ
@@ -377,4 +425,18 @@ def assess(
         cross_actual,
         (float(temps[0]), float(temps[-1])) if T_range is not None else None,
         molal,
+        model,
+        phi_term,
+    )
+
+
+def gas_model_note(term: np.ndarray, T: np.ndarray) -> str:
+    """What the Peng–Robinson correction did to ΔrG at the user's conditions, in words."""
+    i = int(np.argmax(np.abs(term)))
+    shift = R * T[i] * term[i]
+    return (
+        "Gas model: Peng–Robinson fugacity coefficients (k_ij = 0; critical constants from the "
+        f"chemicals package). At {T[i]:.6g} K they move ln Q by {term[i]:+.3g} and ΔrG by "
+        f"{shift / 1000:+.3g} kJ/mol against ideal gases (the largest change over the "
+        "temperatures assessed)."
     )

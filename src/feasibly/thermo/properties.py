@@ -17,13 +17,16 @@ from ..conditions import (
     ONE_ATM_PA,
     STANDARD_PRESSURE_PA,
 )
-from ..errors import InvalidTemperature, UnitError
+from ..errors import InvalidInput, InvalidTemperature, UnitError
 from ..library.cp_models import Nasa7, Nasa9, R
+from ..library.species import Species
+from .fugacity import reaction_fugacity_term
 from .reaction import Reaction
 
 __all__ = [
     "StandardProperties",
     "crossover_temperatures",
+    "fugacity_term",
     "quotient_at_conversion",
     "reaction_quotient",
     "standard_properties",
@@ -361,12 +364,36 @@ def quotient_at_conversion(
     negative exactly where the equilibrium conversion exceeds ``required`` (G falls along the
     extent up to equilibrium), so its sign is the call on the conversion the user needs. A
     requirement the feed cannot reach by stoichiometry (another reactant runs out) gives +inf.
+    (:func:`fugacity_term` gives what Peng–Robinson fugacity coefficients add to it.)
     """
+    T = np.atleast_1d(np.asarray(T, dtype=float))
+    state = _conversion_state(rxn, feed, key, required, T)
+    if state is None:
+        return np.full(T.shape, np.inf)
+    n, nu, gas, inerts = state
+    n_gas = np.sum(gas * n, axis=1) + sum(a for _, a in inerts)
+    out = np.zeros(T.shape)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        for j in range(len(rxn.terms)):
+            y = np.where(gas[:, j], n[:, j] / np.where(n_gas > 0, n_gas, 1.0), 1.0)
+            term = nu[:, j] * np.log(
+                np.where(gas[:, j], y * total_pressure / standard_pressure, 1.0)
+            )
+            # A condensed reactant used up ends the reaction: no further extent is possible.
+            term = np.where(~gas[:, j] & (n[:, j] <= 0) & (nu[:, j] < 0), np.inf, term)
+            out = out + np.where(np.isnan(term), np.inf, term)
+    return out
+
+
+def _conversion_state(
+    rxn: Reaction, feed: Mapping[str, float], key: str, required: float, T: np.ndarray
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, list[tuple[Species, float]]] | None:
+    """Amounts (T × terms, of the form used), ν of that form, the gas mask and the inert gases
+    with their amounts at the required conversion; None when the feed cannot reach it."""
     from .reaction import resolve_species, split_phase_label
 
-    T = np.atleast_1d(np.asarray(T, dtype=float))
     n0 = np.zeros(len(rxn.terms))
-    inert = 0.0
+    inerts: list[tuple[Species, float]] = []
 
     def index(name: str) -> int | None:
         formula, phase, _ = split_phase_label(name)
@@ -387,8 +414,9 @@ def quotient_at_conversion(
             continue
         formula, phase, form = split_phase_label(name)
         _, found = resolve_species(rxn.library, formula, phase, form, name)
-        if any(sp.phase == "g" for sp in found):
-            inert += float(amount)  # a condensed inert does not change any activity
+        gases = [sp for sp in found if sp.phase == "g"]
+        if gases:
+            inerts.append((gases[0], float(amount)))  # a condensed inert changes no activity
     k = index(key)
     nu = np.array([t.nu for t in rxn.terms])
     if k is None or nu[k] >= 0 or n0[k] <= 0:
@@ -398,7 +426,7 @@ def quotient_at_conversion(
     # A relative 1e-12 absorbs rounding in n0 + ν ξ for a reactant used up exactly.
     n = np.where(np.abs(n) < 1e-12 * max(float(n0.max()), 1.0), 0.0, n)
     if np.any(n < 0):
-        return np.full(T.shape, np.inf)
+        return None
     plan = rxn.phase_plan(T)
     gas = np.stack(
         [
@@ -409,17 +437,60 @@ def quotient_at_conversion(
     )
     # Molecules of the form used per amount of the term (S2(g) standing for S: 1/2).
     scale = np.stack([t.scale_array()[idx] for t, idx in zip(rxn.terms, plan, strict=True)], axis=1)
-    n = n * scale
-    nu = nu * scale
-    n_gas = np.sum(gas * n, axis=1) + inert
-    out = np.zeros(T.shape)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        for j in range(len(rxn.terms)):
-            y = np.where(gas[:, j], n[:, j] / np.where(n_gas > 0, n_gas, 1.0), 1.0)
-            term = nu[:, j] * np.log(
-                np.where(gas[:, j], y * total_pressure / standard_pressure, 1.0)
-            )
-            # A condensed reactant used up ends the reaction: no further extent is possible.
-            term = np.where(~gas[:, j] & (n[:, j] <= 0) & (nu[:, j] < 0), np.inf, term)
-            out = out + np.where(np.isnan(term), np.inf, term)
-    return out
+    return n * scale, nu * scale, gas, inerts
+
+
+def fugacity_term(
+    rxn: Reaction,
+    T: np.ndarray,
+    pressures: Mapping[str, float] | None = None,
+    at_conversion: Mapping[str, Any] | None = None,
+    function: str = "assess",
+) -> np.ndarray:
+    """Σ ν_i ln φ_i per T (Peng–Robinson, k_ij = 0): what fugacities f_i = φ_i y_i P add to the
+    ideal-gas ln Q at the call's conditions, so ΔrG moves by RT times it.
+
+    At ``pressures`` (Pa, by species as in the equation) the gas is the mixture of the gases
+    given, at the sum of their partial pressures: every gas of the equation must then have one
+    (a gas "at its standard state" has activity 1 whatever the model, but its place in the
+    mixture would be unknown). At ``at_conversion`` (``feed``, ``key``, ``required``, ``P_Pa``)
+    the gas is the composition of the required conversion, inerts included, at ``P_Pa``.
+    Refused (:class:`~feasibly.errors.InvalidInput`) when a gas lacks critical constants, when
+    the mixture would be a liquid, or when the conditions leave the mixture unknown.
+    """
+    T = np.atleast_1d(np.asarray(T, dtype=float))
+    if at_conversion:
+        c = at_conversion
+        state = _conversion_state(rxn, c["feed"], c["key"], c["required"], T)
+        if state is None:  # the feed cannot reach the requirement: ln Q is +inf either way
+            return np.zeros(T.shape)
+        n, nu, gas, inerts = state
+        P = np.full(T.shape, float(c["P_Pa"]))
+        return reaction_fugacity_term(rxn, T, P, n, nu, gas, inerts, function)
+    pressures = pressures or {}
+    plan = rxn.phase_plan(T)
+    J = len(rxn.terms)
+    amounts = np.zeros((T.size, J))
+    gas = np.zeros((T.size, J), dtype=bool)
+    missing = []
+    for j, (term, idx) in enumerate(zip(rxn.terms, plan, strict=True)):
+        is_gas = np.array([sp.phase == "g" for sp in term.candidates])[idx]
+        p = pressures.get(term.label(), pressures.get(term.formula))
+        if p is None:
+            if np.any(is_gas):
+                missing.append(term.label())
+            continue
+        amounts[:, j] = p
+        gas[:, j] = is_gas
+    if missing:
+        raise InvalidInput(
+            "gas_model",
+            function,
+            "'ideal' here, or give the partial pressure of every gas of the equation: "
+            "Peng–Robinson fugacity coefficients need the whole gas mixture, and "
+            f"{', '.join(missing)} {'has' if len(missing) == 1 else 'have'} none",
+            "peng-robinson",
+        )
+    nu = np.broadcast_to(np.array([t.nu for t in rxn.terms], dtype=float), (T.size, J))
+    total = np.sum(np.where(gas, amounts, 0.0), axis=1)
+    return reaction_fugacity_term(rxn, T, total, amounts, nu, gas, (), function)

@@ -15,7 +15,14 @@ figures or widgets.
 """
 
 from .adaptive import ADAPTIVE_MAX_TRIALS, AdaptiveReport
-from .assessment import VERDICTS, UncertainAssessment, assess_uncertainty, verdict
+from .assessment import (
+    VERDICTS,
+    UncertainAssessment,
+    assess_uncertainty,
+    gas_model_warning,
+    verdict,
+    with_gas_model_warning,
+)
 from .inputs import (
     QUANTITIES,
     Correlations,
@@ -62,6 +69,7 @@ __all__ = [
     "deviation_rows",
     "draw_samples",
     "extend_samples",
+    "gas_model_warning",
     "level_window",
     "linear_model",
     "numerical_tolerance",
@@ -70,5 +78,6 @@ __all__ = [
     "uncertain_species",
     "verdict",
     "window_phrase",
+    "with_gas_model_warning",
     "with_transition_parents",
 ]

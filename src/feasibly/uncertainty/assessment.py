@@ -23,6 +23,7 @@ from scipy import special
 from .._tables import TableExport
 from ..conditions import (
     read_confidence,
+    read_gas_model,
     read_molalities,
     read_partial_pressures,
     read_standard_pressure,
@@ -31,11 +32,13 @@ from ..conditions import (
     read_temperatures_as_given,
     read_trials,
 )
-from ..errors import InvalidInput, InvalidUncertainty, UnitError
+from ..errors import FeasiblyError, InvalidInput, InvalidUncertainty, UnitError
 from ..library.catalogue import Library, default_library
 from ..library.cp_models import R
 from ..thermo import (
+    Assessment,
     conditions_label,
+    fugacity_term,
     missing_stable_phases,
     quotient_at_conversion,
     reaction_quotient,
@@ -73,7 +76,9 @@ __all__ = [
     "VERDICTS",
     "UncertainAssessment",
     "assess_uncertainty",
+    "gas_model_warning",
     "verdict",
+    "with_gas_model_warning",
 ]
 
 VERDICTS = ("feasible", "not feasible", "too close to call")
@@ -124,8 +129,10 @@ class UncertainAssessment(TableExport):
         crossing_range: tuple[float, float] | None = None,
         at_conversion: Mapping[str, Any] | None = None,
         molalities: Mapping[str, float] | None = None,
+        gas_model: str = "ideal",
     ) -> None:
         self.reaction = reaction
+        self.gas_model = gas_model
         self.samples = samples
         self.T = T
         self.confidence = confidence
@@ -165,12 +172,13 @@ class UncertainAssessment(TableExport):
             self.standard_pressure,
             T,
             self.molalities_mol_per_kg,
+            self.gas_model,
         )
 
     @property
     def conditions(self) -> str:
         """The user's conditions in words; empty at standard state."""
-        return conditions_label(self.partial_pressures_Pa, self.at_conversion)
+        return conditions_label(self.partial_pressures_Pa, self.at_conversion, self.gas_model)
 
     def _model(self, T: np.ndarray) -> LinearModel:
         lnQ = self._ln_q(T)
@@ -433,12 +441,13 @@ class UncertainAssessment(TableExport):
     def to_dict(self, sensitivity_at: float | None = None) -> dict[str, Any]:
         """Plain data: settings, per-T rows, window, crossover and the ranked sensitivity."""
         t_sens = sensitivity_at if sensitivity_at is not None else float(self.T[len(self.T) // 2])
-        out = {
+        out: dict[str, Any] = {
             "confidence": self.confidence,
             "threshold": self.threshold_text,
             "method": self.samples.method,
             "seed": self.samples.seed,
             "trials": self.trials,
+            **({"gas_model": self.gas_model} if self.gas_model != "ideal" else {}),
             "rows": self.rows(),
             "feasible_window": self.window(),
             "sensitivity_T_K": t_sens,
@@ -549,6 +558,7 @@ def assess_uncertainty(
     draws: SampleSet | None = None,
     at_conversion: Mapping[str, Any] | None = None,
     molalities: Mapping[str, Any] | None = None,
+    gas_model: str = "ideal",
 ) -> UncertainAssessment:
     """Monte Carlo feasibility of a reaction: P(ΔrG < threshold), verdict and window over T.
 
@@ -568,7 +578,9 @@ def assess_uncertainty(
     draws, and adaptive mode, overrides and correlations are refused (the draws fix them).
 
     ``molalities`` maps aqueous species to molalities with units (ideal dilute solution, as in
-    :func:`feasibly.assess`).
+    :func:`feasibly.assess`). ``gas_model="peng-robinson"`` puts Peng–Robinson fugacities in Q,
+    as in :func:`feasibly.assess` (the correction depends on the state, not on the data, so every
+    trial carries the same one).
 
     >>> a = assess_uncertainty("MgCO3 -> MgO + CO2", T="800 K", samples=4096, seed=1)
     >>> a.verdicts
@@ -586,6 +598,7 @@ def assess_uncertainty(
     pressures = read_partial_pressures(partial_pressures)
     conv_in = read_at_conversion(at_conversion) if at_conversion is not None else None
     molal = read_molalities(molalities, "assess_uncertainty")
+    model = read_gas_model(gas_model, "assess_uncertainty")
     if conv_in and (pressures or molal):
         raise UnitError(
             None,
@@ -640,6 +653,7 @@ def assess_uncertainty(
             crossing_range,
             conv_in,
             molal,
+            model,
         )
     show = progress if progress is not None else (adaptive or n0 * temps.size >= _PROGRESS_WORK)
     bar = _Progress(max_trials if adaptive else n0, bool(show))
@@ -649,7 +663,7 @@ def assess_uncertainty(
     if adaptive:
 
         def one(s: SampleSet) -> Summary:
-            lnQ = _ln_q(rxn, pressures, conv_in, p_std, temps, molal)
+            lnQ = _ln_q(rxn, pressures, conv_in, p_std, temps, molal, model)
             return summarise(linear_model(rxn, temps, s, p_std, lnQ), s, "G", thr_fn(temps))
 
         drawn, report = _adaptive(drawn, one, block, max_trials, bar)
@@ -669,6 +683,7 @@ def assess_uncertainty(
         crossing_range,
         conv_in,
         molal,
+        model,
     )
 
 
@@ -679,10 +694,74 @@ def _ln_q(
     p_std: float,
     T: np.ndarray,
     molalities: Mapping[str, float] | None = None,
+    gas_model: str = "ideal",
 ) -> np.ndarray | None:
     if pressures or molalities:
-        return reaction_quotient(rxn, pressures, p_std, T, molalities)[0]
-    if at_conversion:
+        lnQ = reaction_quotient(rxn, pressures, p_std, T, molalities)[0]
+    elif at_conversion:
         c = at_conversion
-        return quotient_at_conversion(rxn, c["feed"], c["key"], c["required"], c["P_Pa"], p_std, T)
-    return None
+        lnQ = quotient_at_conversion(rxn, c["feed"], c["key"], c["required"], c["P_Pa"], p_std, T)
+    else:
+        return None
+    if gas_model == "peng-robinson" and any(sp.phase == "g" for sp in rxn.species_used()):
+        lnQ = lnQ + fugacity_term(rxn, T, pressures, at_conversion, "assess_uncertainty")
+    return lnQ
+
+
+def gas_model_warning(assessment: Assessment | UncertainAssessment) -> str | None:
+    """The warning an ideal-gas call needs where non-ideality matters, or None.
+
+    Where the Peng–Robinson estimate of Σ ν ln φ at the call's conditions
+    (``Assessment.fugacity_term``; computed here for a Monte Carlo call) moves ΔrG by more than
+    the standard uncertainty of ΔrG° from the data (GUM, first order; exact here, ΔrG° being
+    linear in the library's independent inputs) at some temperature, the warning gives the size
+    of the correction there.
+    """
+    a = assessment
+    if a.gas_model != "ideal":
+        return None
+    if isinstance(a, UncertainAssessment):
+        T, p_std = a.T, a.standard_pressure
+        if not (a.partial_pressures_Pa or a.at_conversion) or not any(
+            sp.phase == "g" for sp in a.reaction.species_used()
+        ):
+            return None
+        try:
+            term = fugacity_term(a.reaction, T, a.partial_pressures_Pa, a.at_conversion)
+        except FeasiblyError:
+            return None  # no estimate: a gas without constants, or an open mixture
+        finite = np.isfinite(a.model.G0)
+    else:
+        if a.fugacity_term is None or a.dG_actual is None:
+            return None
+        T, p_std, term = a.standard.T, a.standard.standard_pressure, a.fugacity_term
+        finite = np.isfinite(a.dG_actual)
+    inputs = build_inputs(uncertain_species(a.reaction))
+    # two draws: the linear model needs only the inputs' keys from a sample set
+    drawn = draw_samples(inputs, 2, seed=0)
+    cov = np.diag(np.array([inp.u for inp in inputs]) ** 2)  # independent library inputs
+    u = gum_uncertainty(linear_model(a.reaction, T, drawn, p_std), cov)
+    shift = R * T * term
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ratio = np.where(u > 0, np.abs(shift) / u, np.where(shift != 0, np.inf, 0.0))
+    ratio = np.where(finite, ratio, 0.0)  # an infinite ΔrG is not moved
+    i = int(np.argmax(ratio))
+    if not ratio[i] > 1.0:
+        return None
+    return (
+        f"Non-ideal gases: at {T[i]:.6g} K and {a.conditions}, Peng–Robinson fugacity "
+        f"coefficients would move ln Q by {term[i]:+.3g} and ΔrG by {shift[i] / 1000:+.3g} "
+        f"kJ/mol ({ratio[i]:.2g} times the data's standard uncertainty of ΔrG°, "
+        f"{u[i] / 1000:.2g} kJ/mol). This ideal-gas call is not reliable here; use the "
+        "Peng–Robinson gas model (gas_model='peng-robinson'; command line: --gas-model "
+        "peng-robinson)."
+    )
+
+
+def with_gas_model_warning(assessment: Assessment) -> Assessment:
+    """The assessment with :func:`gas_model_warning` added to its notes (once), for the command
+    line, the widgets and the records, which all show the notes."""
+    text = gas_model_warning(assessment)
+    if text is not None and text not in assessment.notes:
+        assessment.notes.append(text)
+    return assessment

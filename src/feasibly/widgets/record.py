@@ -100,6 +100,7 @@ class RecordExport(w.VBox):
                     standard_pressure=(u.standard_pressure, "Pa"),
                     library=u.library,
                     at_conversion=u.at_conversion,
+                    gas_model=u.gas_model,
                 )
                 extra: dict[str, Any] = {}
                 if ctx.get("conversion"):

@@ -15,7 +15,7 @@ from ..errors import FeasiblyError, InvalidInput, OutsideDataRange
 from ..library.catalogue import Library, default_library
 from ..thermo.missing_phases import missing_stable_phases
 from ..thermo.reaction import Reaction
-from ..uncertainty import assess_uncertainty
+from ..uncertainty import assess_uncertainty, gas_model_warning
 from ._common import error_html, guarded, note_html, static_copy_wanted
 from .conditions import Conditions
 from .conversion import ConversionTarget
@@ -356,7 +356,10 @@ class FeasibilityWorksheet(w.VBox):
             return
         self.resamples += 1
         self.error = ""
-        self._phase_notes.value = self._notes_html(rxn, result.T)
+        gas_warning = gas_model_warning(result)
+        self._phase_notes.value = self._notes_html(rxn, result.T) + (
+            note_html(gas_warning) if gas_warning else ""
+        )
         with self.panel.hold():
             self.temperature.set_range(rxn.valid_range())
             if self.panel.result is None and self._requested_T is not None:
