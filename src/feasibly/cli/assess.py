@@ -199,6 +199,18 @@ def _cmd_assess(args: argparse.Namespace) -> int:
                     "gas_model": conversion["gas_model"],
                 },
             }
+        if args.heat:
+            if not args.feed:
+                raise InvalidInput(
+                    "--heat", "", "used with --feed (the amounts fed, e.g. CaCO3:1)", None
+                )
+            # The record recomputes the heat balance from these inputs and the call's draws.
+            conv_kwargs["heat"] = {
+                "feed": args.feed,
+                "T_feed": _quantity_text(args.feed_T, "temperature") if args.feed_T else None,
+                "P": _quantity_text(args.P, "pressure") if args.P else "1 bar",
+                **_heat_conversion(args),
+            }
         record = record_from(
             result,
             uncertain,
@@ -266,9 +278,7 @@ def _heat(args: argparse.Namespace, result: Any, uncertain: Any, T: Any) -> dict
     if not args.feed:
         raise InvalidInput("--heat", "", "used with --feed (the amounts fed, e.g. CaCO3:1)", None)
     feed_T = _quantity_text(args.feed_T, "temperature") if args.feed_T else None
-    conv: dict[str, Any] = {}
-    if args.require_conversion and args.key:
-        conv = {"conversion": args.require_conversion, "key": args.key}
+    conv = _heat_conversion(args)
     P = _quantity_text(args.P, "pressure") if args.P else "1 bar"
     duties = [
         heat_duty(
@@ -296,6 +306,13 @@ def _heat(args: argparse.Namespace, result: Any, uncertain: Any, T: Any) -> dict
     if hot.interval is not None:
         out["adiabatic_T_K_interval_95"] = list(hot.interval)
     return out
+
+
+def _heat_conversion(args: argparse.Namespace) -> dict[str, Any]:
+    """The conversion of the heat balance: the required one of --key, else complete."""
+    if args.require_conversion and args.key:
+        return {"conversion": args.require_conversion, "key": args.key}
+    return {}
 
 
 def _print_heat(heat: dict[str, Any]) -> None:

@@ -57,7 +57,8 @@ class HeatDuty:
     ``J`` is for the feed as given; ``J_per_mol_reaction`` divides by the extent;
     ``J_per_kg_product`` by the mass of ``product`` formed and ``J_per_kg_feed`` by the mass fed.
     ``interval`` is the 95 % interval of ``J_per_mol_reaction`` over ``samples`` draws (None
-    without sampling); ``draws`` holds those values (J/mol).
+    without sampling); ``draws`` holds those values (J/mol). ``interval_per_kg_product`` and
+    ``interval_per_kg_feed`` are the 95 % intervals of the per-kg figures over the same draws.
     """
 
     equation: str
@@ -75,6 +76,8 @@ class HeatDuty:
     interval: tuple[float, float] | None = None
     draws: np.ndarray | None = field(default=None, repr=False)
     notes: list[str] = field(default_factory=list)
+    interval_per_kg_product: tuple[float, float] | None = None
+    interval_per_kg_feed: tuple[float, float] | None = None
 
     def to_dict(self) -> dict[str, Any]:
         """Plain JSON-ready data (SI units in the key names)."""
@@ -95,6 +98,10 @@ class HeatDuty:
         }
         if self.interval is not None:
             out["duty_J_per_mol_interval_95"] = list(self.interval)
+        if self.interval_per_kg_product is not None:
+            out["duty_J_per_kg_product_interval_95"] = list(self.interval_per_kg_product)
+        if self.interval_per_kg_feed is not None:
+            out["duty_J_per_kg_feed_interval_95"] = list(self.interval_per_kg_feed)
         return out
 
 
@@ -248,7 +255,8 @@ def heat_duty(
     h_in = sum(float(stream_enthalpy([it], t_in[it.label])[0]) for it in inlet if it.amount)
     total = h_out - h_in
     feed_mass = sum(it.amount * it.molar_mass for it in inlet) / 1000.0
-    prod_label, per_kg_product = _per_product(rxn, product, extent, total)
+    prod_label, kg_product = _per_product(rxn, product, extent)
+    per_kg_product = None if kg_product is None else total / kg_product
     result = HeatDuty(
         rxn.equation(),
         T_K,
@@ -273,11 +281,20 @@ def heat_duty(
         for it in inlet:
             if it.amount:
                 row = row + enthalpy_rows(rxn, [it], t_in[it.label], drawn, -1.0)[0]
-        values = (total + row @ drawn.values) / extent
-        lo, hi = np.quantile(values, [(1 - _COVERAGE) / 2, (1 + _COVERAGE) / 2])
-        result.interval = (float(lo), float(hi))
+        totals = total + row @ drawn.values
+        values = totals / extent
+        result.interval = _interval(values)
         result.draws = values
+        if kg_product is not None:
+            result.interval_per_kg_product = _interval(totals / kg_product)
+        result.interval_per_kg_feed = _interval(totals / feed_mass)
     return result
+
+
+def _interval(values: np.ndarray) -> tuple[float, float]:
+    """The probabilistically symmetric 95 % interval of ``values`` (JCGM 101 §7.7)."""
+    lo, hi = np.quantile(values, [(1 - _COVERAGE) / 2, (1 + _COVERAGE) / 2])
+    return (float(lo), float(hi))
 
 
 def amounts_of(rxn: Reaction, amounts: Mapping[str, float]) -> np.ndarray:
@@ -335,8 +352,9 @@ def _feed_temperatures(
 
 
 def _per_product(
-    rxn: Reaction, product: str | None, extent: float, total: float
+    rxn: Reaction, product: str | None, extent: float
 ) -> tuple[str | None, float | None]:
+    """The product the per-kg figure counts (given, or the heaviest formed) and its kg."""
     prods = [t for t in rxn.terms if t.nu > 0]
     if product is None:
         if not prods:
@@ -353,4 +371,4 @@ def _per_product(
             )
         term = found[0]
     kg = term.nu * extent * term.candidates[0].molar_mass / 1000.0
-    return term.label(), total / kg
+    return term.label(), kg
