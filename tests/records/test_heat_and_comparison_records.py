@@ -282,6 +282,35 @@ def test_a_heat_record_without_draws_is_nominal_and_verifies() -> None:
     jsonschema.Draft202012Validator(SCHEMA).validate(rec)
 
 
+def test_a_heat_record_at_the_equilibrium_conversion_verifies() -> None:
+    """Heat at the equilibrium conversion: each draw of the call at its own extent, for the duty
+    and for the adiabatic temperature; recorded, schema-valid, verified, shown."""
+    a = feasibly.assess("CO + H2O -> CO2 + H2", T_range=("800 K", "1000 K"), points=2)
+    u = feasibly.assess_uncertainty(a.reaction, T_range=("800 K", "1000 K"), points=2,
+                                    samples=2048, seed=12)  # fmt: skip
+    rec = record_from(a, u, heat={"feed": "CO:1, H2O:1", "T_feed": "500 K",
+                                  "conversion": "equilibrium"})  # fmt: skip
+    heat = rec["results"]["heat"]
+    assert rec["heat"]["conversion"] == "equilibrium"
+    for row in heat["rows"]:
+        assert row["conversion"] is None
+        lo, hi = row["extent_mol_interval_95"]
+        assert lo < row["extent_mol"] < hi
+        lo, hi = row["duty_J_per_mol_interval_95"]
+        assert lo < row["duty_J_per_mol"] < hi
+    hot = heat["adiabatic"]
+    assert hot["conversion"] is None and "extent_mol_interval_95" in hot
+    jsonschema.Draft202012Validator(SCHEMA).validate(rec)
+    assert verify_record(rec).identical
+    edited = _nudged(rec, ["results", "heat", "rows", 1, "extent_mol_interval_95", 0])
+    assert [d.field for d in verify_record(_resealed(edited)).differences] == [
+        "results.heat.rows[1].extent_mol_interval_95[0]"
+    ]
+    html = record_html(rec)
+    assert "the equilibrium conversion at each temperature" in html
+    assert "at the equilibrium conversion there" in html
+
+
 # --- schema ---------------------------------------------------------------------------------------
 def test_schema_accepts_heat_and_comparison_records(record: dict[str, Any]) -> None:
     jsonschema.Draft202012Validator.check_schema(SCHEMA)

@@ -155,7 +155,7 @@ def _cmd_assess(args: argparse.Namespace) -> int:
     conversion = None
     # --feed alone is the feed of a heat balance (--heat); with a required conversion it is also
     # the feed of the conversion criterion.
-    if args.require_conversion or args.key or (args.feed and not args.heat):
+    if args.require_conversion or ((args.key or args.feed) and not args.heat):
         if not (args.feed and args.require_conversion and args.key):
             raise UnitError(
                 None,
@@ -295,7 +295,7 @@ def _heat(args: argparse.Namespace, result: Any, uncertain: Any, T: Any) -> dict
         "adiabatic_T_K": None,
     }
     try:
-        hot = adiabatic_temperature(result.reaction, args.feed, t_in, call=uncertain, **conv)
+        hot = adiabatic_temperature(result.reaction, args.feed, t_in, P=P, call=uncertain, **conv)
     except InvalidInput as exc:  # an endothermic step has no adiabatic temperature to quote
         reason = exc.expected.replace("a step that releases heat: this one", "this step")
         out["adiabatic_note"] = f"No adiabatic temperature: {reason}."
@@ -309,7 +309,10 @@ def _heat(args: argparse.Namespace, result: Any, uncertain: Any, T: Any) -> dict
 
 
 def _heat_conversion(args: argparse.Namespace) -> dict[str, Any]:
-    """The conversion of the heat balance: the required one of --key, else complete."""
+    """The conversion of the heat balance: --heat-conversion, else the required one of --key,
+    else complete."""
+    if args.heat_conversion:
+        return {"conversion": args.heat_conversion, "key": args.key}
     if args.require_conversion and args.key:
         return {"conversion": args.require_conversion, "key": args.key}
     return {}
@@ -455,6 +458,14 @@ def register(sub: Any) -> None:
         action="store_true",
         help="heat duty at each temperature and the adiabatic temperature of the feed, with "
         "their 95 %% intervals when sampled (JSON: duty_J_per_mol per row, heat.adiabatic_T_K)",
+    )
+    h.add_argument(
+        "--heat-conversion",
+        dest="heat_conversion",
+        metavar="X",
+        help="conversion of the heat balance: a fraction of --key (or of the limiting reactant), "
+        "e.g. 90%%, or 'equilibrium' (each Monte Carlo draw at its own extent; default: "
+        "--require-conversion, else complete)",
     )
     h.add_argument(
         "--feed-T",

@@ -19,7 +19,7 @@ import numpy as np
 
 from .. import __about__
 from ..conditions import read_feed, read_pressure, read_temperature
-from ..errors import InvalidInput, RecordError, UnbalancedReaction
+from ..errors import InvalidInput, OutsideDataRange, RecordError, UnbalancedReaction
 from ..library.catalogue import Library
 from ..library.cp_models import R
 from ..library.species import Species
@@ -271,10 +271,15 @@ def heat_section(
     if t_in is None:
         t_in = float(a.standard.T[0])
     try:
-        hot = adiabatic_temperature(a.reaction, inputs["feed"], (t_in, "K"), call=u, **common)
+        hot = adiabatic_temperature(
+            a.reaction, inputs["feed"], (t_in, "K"), P=(inputs["P_Pa"], "Pa"), call=u, **common
+        )
     except InvalidInput as exc:  # an endothermic step has no adiabatic temperature to quote
         reason = exc.expected.replace("a step that releases heat: this one", "this step")
         out["adiabatic_note"] = f"No adiabatic temperature: {reason}."
+        return plain(out)
+    except OutsideDataRange as exc:  # the outlet would leave the range of its data
+        out["adiabatic_note"] = f"No adiabatic temperature within the data: {exc}"
         return plain(out)
     adiabatic = hot.to_dict()
     adiabatic.pop("equation")
