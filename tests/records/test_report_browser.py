@@ -144,6 +144,12 @@ def test_report_shows_heat_balance_and_formation_lines_offline(
             )
             page = context.new_page()
             page.goto(html.as_uri())
+            caution = page.locator(".caution")
+            # The exotherm caution quotes the adiabatic temperature with its band, and defers.
+            assert "95 % interval" in caution.inner_text()
+            assert "process-safety review" in caution.inner_text()
+            ARTIFACTS.mkdir(exist_ok=True)
+            caution.screenshot(path=str(ARTIFACTS / "record-report-exotherm-caution.png"))
             heat = page.locator("#heat")
             assert heat.is_visible()
             adiabatic = page.locator("#adiabatic").inner_text()

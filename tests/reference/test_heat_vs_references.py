@@ -233,3 +233,30 @@ def test_recorded_heat_section_vs_cantera_enthalpy_sums() -> None:
         per_kg_co2 = (h_out - h_in) / m["CO2(g)"]
         assert row["duty_J_per_kg_product"] == pytest.approx(per_kg_co2, rel=1e-9)
     assert rec["results"]["heat"]["product"] == "CO2"
+
+
+def test_exotherm_caution_quotes_cantera_adiabatic_temperature() -> None:
+    """The exotherm caution's adiabatic temperature (CO + H2O fed undiluted at 500 K, fully
+    converted) is Cantera's frozen HP temperature of the products on the same polynomials, and
+    the quoted 95 % interval brackets it."""
+    import re
+
+    from feasibly.heat import cautions_with_draws
+
+    gas = _gas(["CO(g)", "H2O(g)", "CO2(g)", "H2(g)"])
+    gas.TPX = 500.0, 1e5, {"CO(g)": 1.0, "H2O(g)": 1.0}
+    h_mass = gas.enthalpy_mass
+    gas.TPX = 1000.0, 1e5, {"CO2(g)": 1.0, "H2(g)": 1.0}  # same mass as the feed
+    gas.HP = h_mass, 1e5
+    a = feasibly.assess("CO + H2O -> CO2 + H2", T="500 K")
+    call = feasibly.assess_uncertainty(a.reaction, T="500 K", samples=4096, seed=3)
+    (message,) = [
+        c.message
+        for c in cautions_with_draws(a.cautions, call, a.standard.T, a.standard.dH)
+        if c.kind == "strongly exothermic"
+    ]
+    found = re.search(r"about (\d+) K \(95 % interval (\d+)–(\d+) K", message)
+    assert found is not None, message
+    quoted, lo, hi = (float(g) for g in found.groups())
+    assert quoted == round(gas.T)  # the caution rounds to whole kelvin
+    assert lo <= gas.T <= hi

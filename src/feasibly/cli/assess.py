@@ -243,8 +243,14 @@ def _cmd_assess(args: argparse.Namespace) -> int:
             )
         print("exported: " + ", ".join(str(p) for p in written_files), file=sys.stderr)
     heat = _heat(args, result, uncertain, T) if args.heat else None
+    cautions = result.cautions
+    if uncertain is not None and any(c.kind == "strongly exothermic" for c in cautions):
+        from ..heat import cautions_with_draws  # the adiabatic temperature's interval
+
+        cautions = cautions_with_draws(cautions, uncertain, result.standard.T, result.standard.dH)
     if args.json:
         doc = result.to_dict()
+        doc["cautions"] = [c.as_dict() for c in cautions]
         if heat is not None:
             for row, duty in zip(doc["rows"], heat["duties"], strict=True):
                 row["duty_J_per_mol"] = duty.J_per_mol_reaction
@@ -261,7 +267,7 @@ def _cmd_assess(args: argparse.Namespace) -> int:
         print(json.dumps(doc, indent=2, ensure_ascii=False))
     else:
         _print_call(result, uncertain, conversion)
-        _print_assessment(result)
+        _print_assessment(result, cautions)
         if uncertain is not None:
             _print_uncertainty(uncertain)
         if conversion is not None:

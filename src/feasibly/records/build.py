@@ -160,9 +160,16 @@ def summary(a: Assessment, u: UncertainAssessment | None) -> dict[str, str]:
 
 
 def results_section(a: Assessment, u: UncertainAssessment | None, t_sens: float) -> dict[str, Any]:
+    assessment = plain(a.to_dict())
+    if u is not None and any(c.kind == "strongly exothermic" for c in a.cautions):
+        # With draws, the exotherm caution quotes the adiabatic temperature with its interval.
+        from ..heat import cautions_with_draws
+
+        banded = cautions_with_draws(a.cautions, u, a.standard.T, a.standard.dH)
+        assessment["cautions"] = [plain(c.as_dict()) for c in banded]
     return {
         "summary": summary(a, u),
-        "assessment": plain(a.to_dict()),
+        "assessment": assessment,
         "uncertainty": plain(u.to_dict(t_sens)) if u is not None else None,
     }
 
