@@ -384,3 +384,31 @@ def test_cli_record_carries_the_heat_balance(tmp_path: Path) -> None:
     assert verify_record(path).identical
     assert "Heat duty and adiabatic temperature" in path.with_suffix(".html").read_text("utf-8")
     assert "Heat duty" in record_markdown(doc)
+
+
+def test_cli_record_carries_a_comparison_from_the_calls_seed(tmp_path: Path) -> None:
+    path = tmp_path / "reduce.json"
+    argv = [
+        "assess", "2 FeO + C -> 2 Fe + CO2", "--T-range", "900", "1300", "K", "--points", "3",
+        "--samples", "1024", "--seed", "8", "--record", str(path), "--compare", "FeO", "Cu2O",
+        "--compare-T-range", "800", "1600", "K", "--compare-points", "5",
+    ]  # fmt: skip
+    assert main(argv) == 0
+    doc = json.loads(path.read_text("utf-8"))
+    assert doc["comparison"] == {
+        "compounds": ["FeO", "Cu2O"],
+        "reagent": "O2",
+        "T_lo_K": 800.0,
+        "T_hi_K": 1600.0,
+        "points": 5,
+        "samples": 1024,
+        "seed": 8,
+    }
+    assert [p["a"] for p in doc["results"]["comparison"]["p_below"]] == ["FeO"]
+    assert verify_record(path).identical
+    assert "Formation lines compared" in path.with_suffix(".html").read_text("utf-8")
+
+
+def test_cli_compare_needs_a_record(capsys: pytest.CaptureFixture[str]) -> None:
+    assert main(["assess", "2 FeO + C -> 2 Fe + CO2", "--T", "900", "K", "--compare", "FeO"]) == 2
+    assert "--record" in capsys.readouterr().err

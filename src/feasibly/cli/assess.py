@@ -52,6 +52,8 @@ def _pressure_pairs(items: list[list[str]] | None, what: str) -> dict[str, str]:
 
 
 def _cmd_assess(args: argparse.Namespace) -> int:
+    if args.compare and not args.record:
+        raise InvalidInput("--compare", "", "used together with --record PATH", args.compare)
     if args.sign_with and not args.record:
         raise InvalidInput("--sign-with", "", "used together with --record PATH", args.sign_with)
     if args.record is not None and not args.record.strip():
@@ -211,6 +213,8 @@ def _cmd_assess(args: argparse.Namespace) -> int:
                 "P": _quantity_text(args.P, "pressure") if args.P else "1 bar",
                 **_heat_conversion(args),
             }
+        if args.compare:
+            conv_kwargs["comparison"] = _comparison(args, uncertain)
         record = record_from(
             result,
             uncertain,
@@ -312,6 +316,25 @@ def _heat(args: argparse.Namespace, result: Any, uncertain: Any, T: Any) -> dict
     if hot.interval is not None:
         out["adiabatic_T_K_interval_95"] = list(hot.interval)
     return out
+
+
+def _comparison(args: argparse.Namespace, uncertain: Any) -> dict[str, Any]:
+    """The formation-line comparison a record carries: its compounds and range, and as many
+    draws as the call, from the call's seed (the lines are other reactions: their own draws)."""
+    tokens = args.compare_T_range
+    if len(tokens) != 3:
+        raise InvalidInput(
+            "--compare-T-range", "", "LOW HIGH UNIT, e.g. --compare-T-range 500 1800 K", tokens
+        )
+    lo, hi, unit = tokens
+    return {
+        "compounds": args.compare,
+        "reagent": args.compare_per,
+        "T_range": (f"{lo} {unit}", f"{hi} {unit}"),
+        "points": args.compare_points,
+        "samples": uncertain.trials if uncertain is not None else None,
+        "seed": uncertain.samples.seed if uncertain is not None else None,
+    }
 
 
 def _heat_conversion(args: argparse.Namespace) -> dict[str, Any]:
@@ -493,6 +516,31 @@ def register(sub: Any) -> None:
         "--record",
         metavar="PATH",
         help="write a reproducible record (JSON) and its report (PATH with .html)",
+    )
+    r.add_argument(
+        "--compare",
+        nargs="+",
+        metavar="COMPOUND",
+        help="put formation lines of these compounds (e.g. Cu2O FeO Cr2O3) compared per mole "
+        "of --compare-per into the record, with bands from as many draws as the call",
+    )
+    r.add_argument(
+        "--compare-per", dest="compare_per", default="O2", help="reagent gas (default O2)"
+    )
+    r.add_argument(
+        "--compare-T-range",
+        nargs=3,
+        dest="compare_T_range",
+        default=["500", "1800", "K"],
+        metavar="T",
+        help="range of the compared lines (default 500 1800 K)",
+    )
+    r.add_argument(
+        "--compare-points",
+        dest="compare_points",
+        type=int,
+        default=14,
+        help="temperatures of the compared lines (default 14)",
     )
     r.add_argument("--author", help="who made the call (goes into the record)")
     r.add_argument("--reviewer", help="who reviews it (goes into the record)")
