@@ -146,7 +146,7 @@ _DISSOCIATION_K = 2500.0
 
 
 def stoichiometric_feed(rxn: Reaction) -> dict[str, float]:
-    """The undiluted stoichiometric feed of one mole of reaction: reactant label → |ν| (mol)."""
+    """The undiluted stoichiometric feed of one mole of reaction: reactant label → −ν (mol)."""
     return {t.label(): -t.nu for t in rxn.terms if t.nu < 0}
 
 
