@@ -36,8 +36,12 @@ __all__ = ["AdiabaticTemperature", "adiabatic_temperature"]
 
 #: Coverage of the reported interval (JCGM 101:2008 §7.7).
 _COVERAGE = 0.95
-#: Bisection halvings for the draws: 2⁻⁶⁰ of a bracket of a few thousand K is far below 1e-9 K.
-_HALVINGS = 60
+#: Half-width of the first bracket around the nominal answer, K: the data's doubt moves an
+#: adiabatic temperature by tens of kelvin, so most draws' roots lie inside it; the others widen
+#: their own bracket (threefold each time) until it holds the root or reaches the data's range.
+_START_K = 64.0
+#: Bracket width at which bisection stops, K (as the nominal balance in thermo.energy).
+_T_TOL = 1e-7
 
 
 @dataclass
@@ -142,21 +146,12 @@ def adiabatic_temperature(
     target = h_in + enthalpy_rows(rxn, inlet, t_in, drawn)[0] @ x_draws
     lo_T = max(min(sp.T_range[0] for sp in it.candidates) for it in outlet if it.amount)
     hi_T = min(max(sp.T_range[1] for sp in it.candidates) for it in outlet if it.amount)
-    a = np.full(drawn.n, lo_T)
-    b = np.full(drawn.n, hi_T)
 
     def h_out(T: np.ndarray) -> np.ndarray:
         rows = enthalpy_rows(rxn, outlet, T, drawn)
         return stream_enthalpy(outlet, T) + np.einsum("ij,ji->i", rows, x_draws)
 
-    if np.any(h_out(a) > target) or np.any(h_out(b) < target):
-        raise OutsideDataRange("the outlet stream in some draws of the data", T_ad, lo_T, hi_T)
-    for _ in range(_HALVINGS):
-        mid = 0.5 * (a + b)
-        below = h_out(mid) < target
-        a = np.where(below, mid, a)
-        b = np.where(below, b, mid)
-    values = 0.5 * (a + b)
+    values = _roots(h_out, target, T_ad, lo_T, hi_T, "the outlet stream in some draws of the data")
     q = np.quantile(values, [(1 - _COVERAGE) / 2, (1 + _COVERAGE) / 2])
     result.interval = (float(q[0]), float(q[1]))
     result.draws = values
@@ -192,23 +187,8 @@ def _at_equilibrium(
         xi = extents_at(rxn, T, P_Pa, amounts, standard_properties(rxn, T).dG)
         return stream_enthalpy(outlet0, T) + xi * stream_enthalpy(per_mole, T), xi
 
-    def bisect(h: Any, target: np.ndarray, n: int) -> np.ndarray:
-        a, b = np.full(n, lo_T), np.full(n, hi_T)
-        if np.any(h(a)[0] > target) or np.any(h(b)[0] < target):
-            raise OutsideDataRange(
-                "the equilibrium outlet stream (" + ", ".join(it.label for it in present) + ")",
-                float(t_in),
-                lo_T,
-                hi_T,
-            )
-        for _ in range(_HALVINGS):
-            mid = 0.5 * (a + b)
-            below = h(mid)[0] < target
-            a = np.where(below, mid, a)
-            b = np.where(below, b, mid)
-        return 0.5 * (a + b)
-
-    T_ad = float(bisect(nominal, np.array([h_in]), 1)[0])
+    what = "the equilibrium outlet stream (" + ", ".join(it.label for it in present) + ")"
+    T_ad = float(_roots(lambda T: nominal(T)[0], np.array([h_in]), t_in, lo_T, hi_T, what)[0])
     extent = float(nominal(np.array([T_ad]))[1][0])
     result = AdiabaticTemperature(rxn.equation(), t_in, None, extent, T_ad, rise_K=T_ad - t_in)
     result.notes.append(
@@ -223,8 +203,14 @@ def _at_equilibrium(
         return result
     x = drawn.values
     target = h_in + enthalpy_rows(rxn, inlet0, t_in, drawn)[0] @ x
-    values = bisect(lambda T: _sampled(rxn, amounts, P_Pa, outlet0, per_mole, drawn, T), target,
-                    drawn.n)  # fmt: skip
+    values = _roots(
+        lambda T: _sampled(rxn, amounts, P_Pa, outlet0, per_mole, drawn, T)[0],
+        target,
+        T_ad,
+        lo_T,
+        hi_T,
+        what + " in some draws of the data",
+    )
     xi = _sampled(rxn, amounts, P_Pa, outlet0, per_mole, drawn, values)[1]
     q = np.quantile(values, [(1 - _COVERAGE) / 2, (1 + _COVERAGE) / 2])
     result.interval = (float(q[0]), float(q[1]))
@@ -232,6 +218,38 @@ def _at_equilibrium(
     e = np.quantile(xi, [(1 - _COVERAGE) / 2, (1 + _COVERAGE) / 2])
     result.extent_interval = (float(e[0]), float(e[1]))
     return result
+
+
+def _roots(
+    h: Any, target: np.ndarray, centre: float, lo_T: float, hi_T: float, what: str
+) -> np.ndarray:
+    """T with h(T) = target for each state, by bisection: h is increasing in T (it may jump up at a
+    phase change; a target inside a jump gives the transition temperature). Brackets start at
+    ``centre`` ± :data:`_START_K` and widen per state; a root beyond the data's range
+    [``lo_T``, ``hi_T``] is refused."""
+    n = target.size
+    a = np.full(n, max(lo_T, centre - _START_K))
+    b = np.full(n, min(hi_T, centre + _START_K))
+    while True:
+        low = h(a) > target  # the root lies below a
+        high = h(b) < target  # the root lies above b
+        if not (np.any(low) or np.any(high)):
+            break
+        if np.any(low & (a <= lo_T)) or np.any(high & (b >= hi_T)):
+            raise OutsideDataRange(what, centre, lo_T, hi_T)
+        width = b - a
+        a, b = (
+            np.where(low, np.maximum(lo_T, a - 2 * width), np.where(high, b, a)),
+            np.where(high, np.minimum(hi_T, b + 2 * width), np.where(low, a, b)),
+        )
+    # enough halvings for the widest bracket to shrink below the tolerance
+    halvings = int(np.ceil(np.log2(max(float(np.max(b - a)), _T_TOL) / _T_TOL)))
+    for _ in range(halvings):
+        mid = 0.5 * (a + b)
+        below = h(mid) < target
+        a = np.where(below, mid, a)
+        b = np.where(below, b, mid)
+    return 0.5 * (a + b)
 
 
 def _sampled(
