@@ -412,3 +412,19 @@ def test_cli_record_carries_a_comparison_from_the_calls_seed(tmp_path: Path) -> 
 def test_cli_compare_needs_a_record(capsys: pytest.CaptureFixture[str]) -> None:
     assert main(["assess", "2 FeO + C -> 2 Fe + CO2", "--T", "900", "K", "--compare", "FeO"]) == 2
     assert "--record" in capsys.readouterr().err
+
+
+def test_cli_heat_conversion_needs_heat_and_reaches_the_record(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
+    argv = ["assess", "CO + H2O -> CO2 + H2", "--T", "900", "K", "--heat-conversion", "equilibrium"]
+    assert main(argv) == 2
+    assert "--heat" in capsys.readouterr().err
+    path = tmp_path / "shift.json"
+    argv += ["--heat", "--feed", "CO:1, H2O:1", "--feed-T", "500", "K", "--samples", "1024",
+             "--seed", "2", "--record", str(path)]  # fmt: skip
+    assert main(argv) == 0
+    doc = json.loads(path.read_text("utf-8"))
+    assert doc["heat"]["conversion"] == "equilibrium"
+    assert "extent_mol_interval_95" in doc["results"]["heat"]["rows"][0]
+    assert verify_record(path).identical

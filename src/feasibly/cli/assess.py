@@ -52,6 +52,10 @@ def _pressure_pairs(items: list[list[str]] | None, what: str) -> dict[str, str]:
 
 
 def _cmd_assess(args: argparse.Namespace) -> int:
+    if args.heat_conversion and not args.heat:
+        raise InvalidInput(
+            "--heat-conversion", "", "used together with --heat", args.heat_conversion
+        )
     if args.compare and not args.record:
         raise InvalidInput("--compare", "", "used together with --record PATH", args.compare)
     if args.sign_with and not args.record:
@@ -339,11 +343,13 @@ def _comparison(args: argparse.Namespace, uncertain: Any) -> dict[str, Any]:
 
 def _heat_conversion(args: argparse.Namespace) -> dict[str, Any]:
     """The conversion of the heat balance: --heat-conversion, else the required one of --key,
-    else complete."""
+    else all of --key, else all of the limiting reactant."""
     if args.heat_conversion:
         return {"conversion": args.heat_conversion, "key": args.key}
     if args.require_conversion and args.key:
         return {"conversion": args.require_conversion, "key": args.key}
+    if args.key:  # all of the key reactant converted
+        return {"conversion": 1.0, "key": args.key}
     return {}
 
 
