@@ -428,3 +428,15 @@ def test_cli_heat_conversion_needs_heat_and_reaches_the_record(
     assert doc["heat"]["conversion"] == "equilibrium"
     assert "extent_mol_interval_95" in doc["results"]["heat"]["rows"][0]
     assert verify_record(path).identical
+
+
+def test_the_report_escapes_text_from_the_new_sections(record: dict[str, Any]) -> None:
+    evil = "<script>alert(1)</script>"
+    doc = copy.deepcopy(record)
+    doc["heat"]["feed"] = {evil: 1.0}
+    doc["results"]["heat"]["product"] = evil
+    doc["results"]["comparison"]["lines"][0]["label"] = evil
+    doc["results"]["comparison"]["lines"][0]["equation"] = evil
+    doc["results"]["comparison"]["p_below"][0]["a"] = evil
+    html = record_html(_resealed(doc))
+    assert "<script>" not in html and "&lt;script&gt;" in html
