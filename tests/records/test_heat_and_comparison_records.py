@@ -181,6 +181,10 @@ def test_round_trip_and_verify_identical(record: dict[str, Any], tmp_path: Path)
     assert "Heat duty and adiabatic temperature" in html
     assert "Formation lines compared (per mole of O2)" in html
     assert "P(Cu2O below FeO)" in html
+    # the reductant ratios each oxide needs, as recorded (nominal, 3 significant figures)
+    feo = record["results"]["comparison"]["lines"][1]
+    assert "FeO: CO/CO2" in html and "FeO: H2/H2O" in html
+    assert f"<td>{10 ** feo['log10_CO_per_CO2_needed']['nominal'][2]:.3g}</td>" in html
     md = (tmp_path / "r.md").read_text("utf-8")
     assert "## Heat duty" in md and "Adiabatic outlet temperature" in md
     assert "P(FeO below Cr2O3)" in md

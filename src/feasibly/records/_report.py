@@ -551,6 +551,25 @@ def _comparison(doc: Mapping[str, Any]) -> str:
             "its element able to reduce the other's compound), counted draw by draw:</p>"
             + _table(p_head, p_rows)
         )
+    ratio_keys = [k for k in res["lines"][0] if k.startswith("log10_") and k.endswith("_needed")]
+    if ratio_keys:
+        names = {
+            k: k.removeprefix("log10_").removesuffix("_needed").replace("_per_", "/")
+            for k in ratio_keys
+        }
+        r_head = ["T / K"] + [
+            f"{ln['label']}: {names[k]}" for ln in res["lines"] for k in ratio_keys
+        ]
+        r_rows = [
+            [_num(t)]
+            + [f"{10 ** ln[k]['nominal'][i]:.3g}" for ln in res["lines"] for k in ratio_keys]
+            for i, t in enumerate(T)
+        ]
+        out += (
+            "<p>Reductant ratio each reduction needs at equilibrium (nominal data; a furnace gas "
+            "richer in CO or H2 than this reduces the oxide; 95 % bands are in the JSON "
+            "record):</p>" + _table(r_head, r_rows)
+        )
     out += (
         "<p class='muted'>"
         + (
