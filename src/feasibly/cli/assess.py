@@ -264,6 +264,10 @@ def _cmd_assess(args: argparse.Namespace) -> int:
                 row["duty_J_per_mol"] = duty.J_per_mol_reaction
                 if duty.interval is not None:
                     row["duty_J_per_mol_interval_95"] = list(duty.interval)
+                full = duty.to_dict()
+                for key in _HEAT_JSON:
+                    if key in full:
+                        row[key] = full[key]
             doc["heat"] = {k: v for k, v in heat.items() if k != "duties"}
         if uncertain is not None:
             extra = uncertain.to_dict()
@@ -283,6 +287,17 @@ def _cmd_assess(args: argparse.Namespace) -> int:
         if heat is not None:
             _print_heat(heat)
     return EXIT_OK
+
+
+#: Per-row heat figures of the JSON beside duty_J_per_mol (SI units in the names).
+_HEAT_JSON = (
+    "extent_mol",
+    "extent_mol_interval_95",
+    "duty_J_per_kg_product",
+    "duty_J_per_kg_product_interval_95",
+    "duty_J_per_kg_feed",
+    "duty_J_per_kg_feed_interval_95",
+)
 
 
 def _heat(args: argparse.Namespace, result: Any, uncertain: Any, T: Any) -> dict[str, Any]:
@@ -492,7 +507,8 @@ def register(sub: Any) -> None:
         "--heat",
         action="store_true",
         help="heat duty at each temperature and the adiabatic temperature of the feed, with "
-        "their 95 %% intervals when sampled (JSON: duty_J_per_mol per row, heat.adiabatic_T_K)",
+        "their 95 %% intervals when sampled (JSON: duty_J_per_mol, duty_J_per_kg_product, "
+        "duty_J_per_kg_feed, extent_mol per row; heat.adiabatic_T_K)",
     )
     h.add_argument(
         "--heat-conversion",
