@@ -38,7 +38,7 @@ from feasibly.records import (
 SCHEMA = json.loads(data_text("record-schema.json"))
 BURN = "CH4 + 2 O2 -> CO2 + 2 H2O"
 FEED = "CH4:1, O2:2.5, N2:9"
-COMPOUNDS = ["Cu2O", "FeO", "Cr2O3"]
+COMPOUNDS = ["Cu2O", "Fe3O4", "Cr2O3"]
 
 
 @pytest.fixture(scope="module")
@@ -162,10 +162,10 @@ def test_the_record_holds_the_comparison_and_the_kernels_own_lines(
         assert line["lo95_J_per_mol"] == lines.bands[0, i].tolist()
         assert line["hi68_J_per_mol"] == lines.bands[3, i].tolist()
     pairs = {(p["a"], p["b"]): p["P"] for p in res["p_below"]}
-    assert set(pairs) == {("Cu2O", "FeO"), ("Cu2O", "Cr2O3"), ("FeO", "Cr2O3")}
-    assert pairs[("FeO", "Cr2O3")] == lines.p_below("FeO", "Cr2O3").tolist()
-    # Cr2O3 lies far below FeO (several hundred kJ/mol): no draw puts FeO below it
-    assert pairs[("FeO", "Cr2O3")] == [0.0] * 5
+    assert set(pairs) == {("Cu2O", "Fe3O4"), ("Cu2O", "Cr2O3"), ("Fe3O4", "Cr2O3")}
+    assert pairs[("Fe3O4", "Cr2O3")] == lines.p_below("Fe3O4", "Cr2O3").tolist()
+    # Cr2O3 lies far below Fe3O4 (about 200 kJ/mol per O2): no draw puts Fe3O4 below it
+    assert pairs[("Fe3O4", "Cr2O3")] == [0.0] * 5
     changes = res["lines"][0]["phase_changes"]
     assert changes and changes[0]["to"] == "Cu(l)"  # copper melts at 1358 K
 
@@ -180,14 +180,14 @@ def test_round_trip_and_verify_identical(record: dict[str, Any], tmp_path: Path)
     html = (tmp_path / "r.html").read_text("utf-8")
     assert "Heat duty and adiabatic temperature" in html
     assert "Formation lines compared (per mole of O2)" in html
-    assert "P(Cu2O below FeO)" in html
+    assert "P(Cu2O below Fe3O4)" in html
     # the reductant ratios each oxide needs, as recorded (nominal, 3 significant figures)
-    feo = record["results"]["comparison"]["lines"][1]
-    assert "FeO: CO/CO2" in html and "FeO: H2/H2O" in html
-    assert f"<td>{10 ** feo['log10_CO_per_CO2_needed']['nominal'][2]:.3g}</td>" in html
+    magnetite = record["results"]["comparison"]["lines"][1]
+    assert "Fe3O4: CO/CO2" in html and "Fe3O4: H2/H2O" in html
+    assert f"<td>{10 ** magnetite['log10_CO_per_CO2_needed']['nominal'][2]:.3g}</td>" in html
     md = (tmp_path / "r.md").read_text("utf-8")
     assert "## Heat duty" in md and "Adiabatic outlet temperature" in md
-    assert "P(FeO below Cr2O3)" in md
+    assert "P(Fe3O4 below Cr2O3)" in md
 
 
 TAMPER = [
@@ -226,15 +226,16 @@ def test_a_changed_number_fails_verification_naming_the_field(
 
 
 def test_a_changed_probability_fails_verification() -> None:
-    """P(a below b) of lines close to each other (FeO and Fe3O4 per mole of O2 cross near the
-    wüstite limit, about 840 K): edit one probability, and recomputation names it."""
+    """P(a below b) of lines that cross (carbon's CO and CO2 lines, the Boudouard equilibrium near
+    980 K): edit one probability, and recomputation names it."""
     a = feasibly.assess("MgCO3 -> MgO + CO2", T="800 K")
     rec = record_from(
         a,
         comparison={
-            "compounds": ["FeO", "Fe3O4"],
-            "T_range": ("600 K", "1200 K"),
-            "points": 4,
+            "compounds": ["2 C + O2 -> 2 CO", "C + O2 -> CO2"],
+            # 2 K apart around the crossing: the data's doubt moves it by a few kelvin
+            "T_range": ("960 K", "1000 K"),
+            "points": 21,
             "samples": 2048,
             "seed": 11,
         },
@@ -353,10 +354,10 @@ def test_malformed_sections_name_the_field(
         ({"heat": {"feed": "CH4:1, O2:2", "colour": "red"}}, "field heat.colour: unknown"),
         ({"heat": {"T_feed": "298.15 K"}}, "field heat.feed: missing"),
         (
-            {"comparison": {"compounds": ["FeO"], "samples": 100}},
+            {"comparison": {"compounds": ["Cu2O"], "samples": 100}},
             "field comparison.seed",
         ),
-        ({"comparison": {"compounds": "FeO"}}, "field comparison.compounds"),
+        ({"comparison": {"compounds": "Cu2O"}}, "field comparison.compounds"),
     ],
     ids=["unknown-heat-field", "no-feed", "no-seed", "compounds-as-text"],
 )
@@ -393,14 +394,14 @@ def test_cli_record_carries_the_heat_balance(tmp_path: Path) -> None:
 def test_cli_record_carries_a_comparison_from_the_calls_seed(tmp_path: Path) -> None:
     path = tmp_path / "reduce.json"
     argv = [
-        "assess", "2 FeO + C -> 2 Fe + CO2", "--T-range", "900", "1300", "K", "--points", "3",
-        "--samples", "1024", "--seed", "8", "--record", str(path), "--compare", "FeO", "Cu2O",
-        "--compare-T-range", "800", "1600", "K", "--compare-points", "5",
+        "assess", "Fe3O4 + 2 C -> 3 Fe + 2 CO2", "--T-range", "900", "1300", "K", "--points",
+        "3", "--samples", "1024", "--seed", "8", "--record", str(path), "--compare", "Fe3O4",
+        "Cu2O", "--compare-T-range", "800", "1600", "K", "--compare-points", "5",
     ]  # fmt: skip
     assert main(argv) == 0
     doc = json.loads(path.read_text("utf-8"))
     assert doc["comparison"] == {
-        "compounds": ["FeO", "Cu2O"],
+        "compounds": ["Fe3O4", "Cu2O"],
         "reagent": "O2",
         "T_lo_K": 800.0,
         "T_hi_K": 1600.0,
@@ -408,13 +409,15 @@ def test_cli_record_carries_a_comparison_from_the_calls_seed(tmp_path: Path) -> 
         "samples": 1024,
         "seed": 8,
     }
-    assert [p["a"] for p in doc["results"]["comparison"]["p_below"]] == ["FeO"]
+    assert [p["a"] for p in doc["results"]["comparison"]["p_below"]] == ["Fe3O4"]
     assert verify_record(path).identical
     assert "Formation lines compared" in path.with_suffix(".html").read_text("utf-8")
 
 
 def test_cli_compare_needs_a_record(capsys: pytest.CaptureFixture[str]) -> None:
-    assert main(["assess", "2 FeO + C -> 2 Fe + CO2", "--T", "900", "K", "--compare", "FeO"]) == 2
+    assert (
+        main(["assess", "Fe3O4 + 2 C -> 3 Fe + 2 CO2", "--T", "900", "K", "--compare", "Cu2O"]) == 2
+    )
     assert "--record" in capsys.readouterr().err
 
 

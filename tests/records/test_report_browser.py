@@ -117,7 +117,7 @@ def test_report_shows_heat_balance_and_formation_lines_offline(
         u,
         heat={"feed": "CH4:1, O2:2.5, N2:9", "T_feed": "25 degC"},
         comparison={
-            "compounds": ["Cu2O", "FeO", "Cr2O3"],
+            "compounds": ["Cu2O", "Fe3O4", "Cr2O3"],
             "T_range": ("600 K", "1400 K"),
             "points": 9,
             "samples": 4096,
@@ -166,7 +166,7 @@ def test_report_shows_heat_balance_and_formation_lines_offline(
             assert lines_figure.locator("polyline").count() == 3
             box = lines_figure.bounding_box()
             assert box is not None and box["width"] > 300 and box["height"] > 150
-            assert page.get_by_text("P(FeO below Cr2O3)").is_visible()
+            assert page.get_by_text("P(Fe3O4 below Cr2O3)").is_visible()
             ARTIFACTS.mkdir(exist_ok=True)
             y = page.evaluate(
                 "document.querySelector('#heat').getBoundingClientRect().top + window.scrollY"

@@ -175,10 +175,13 @@ def test_duty_at_equilibrium_conversion_vs_cantera_tp_equilibrium() -> None:
     call = feasibly.assess_uncertainty("CO + H2O -> CO2 + H2", T="1000 K", samples=8192, seed=3)
     d = heat_duty("CO + H2O -> CO2 + H2", "1000 K", "CO:1, H2O:1", T_feed="500 K",
                   conversion="equilibrium", call=call)  # fmt: skip
-    # 1e-8 relative: Cantera's equilibrium stops at rtol 1e-14 in its element potentials; the
-    # two sets of h(T) agree to 1e-9 (test_duty_equals_cantera_enthalpy_sums)
+    # 1e-8 relative: Cantera's equilibrium stops at rtol 1e-14 in its element potentials
     assert d.extent == pytest.approx(xi, rel=1e-8)
-    assert d.J_per_mol_reaction == pytest.approx(reference, rel=1e-8)
+    # The duty is a difference of enthalpies some 30 times larger than itself: 1e-8 of those
+    # terms (the two implementations' h(T) agree to about 1e-9 each, NASA-9 regions included)
+    assert d.J_per_mol_reaction == pytest.approx(
+        reference, abs=1e-8 * (abs(h_out) + abs(h_in)) / xi
+    )
     import numpy as np
 
     assert d.draws is not None and d.interval is not None
