@@ -34,6 +34,26 @@ def test_sampled_heat_has_intervals(capsys: pytest.CaptureFixture[str]) -> None:
     assert lo < doc["heat"]["adiabatic_T_K"] < hi
 
 
+def test_json_at_the_equilibrium_conversion_has_every_interval(
+    capsys: pytest.CaptureFixture[str],
+) -> None:
+    """Each draw of the call at its own extent: the JSON rows carry the extent and the per-kg
+    figures with their intervals, the same as heat_duty with the call's draws."""
+    from feasibly import assess_uncertainty
+
+    args = ["assess", "CO + H2O -> CO2 + H2", "--T", "900", "K", "--feed", "CO:1, H2O:1"]
+    args += ["--heat", "--heat-conversion", "equilibrium", "--samples", "1024", "--seed", "5"]
+    assert main([*args, "--json"]) == 0
+    row = json.loads(capsys.readouterr().out)["rows"][0]
+    call = assess_uncertainty("CO + H2O -> CO2 + H2", T="900 K", samples=1024, seed=5)
+    direct = heat_duty("CO + H2O -> CO2 + H2", "900 K", "CO:1, H2O:1",
+                       conversion="equilibrium", call=call)  # fmt: skip
+    assert row["extent_mol"] == direct.extent
+    assert row["extent_mol_interval_95"] == list(direct.extent_interval or ())
+    assert row["duty_J_per_kg_feed_interval_95"] == list(direct.interval_per_kg_feed or ())
+    assert row["duty_J_per_kg_product_interval_95"] == list(direct.interval_per_kg_product or ())
+
+
 def test_endothermic_step_says_why_there_is_no_adiabatic_temperature(
     capsys: pytest.CaptureFixture[str],
 ) -> None:

@@ -113,3 +113,31 @@ def test_p_below_names_the_lines_it_has() -> None:
     lines = formation_lines(["Cu2O", "Fe3O4"], T_range=("700 K", "900 K"), points=2, samples=64)
     with pytest.raises(feasibly.InvalidInput, match="Cu2O, Fe3O4"):
         lines.p_below("Cu2O", "FeO")
+
+
+def test_p_below_follows_the_normal_law_of_the_difference() -> None:
+    """Both lines are linear in normal inputs, so line a − line b is normal with the first-order
+    (GUM, JCGM 100:2008 eq. 13) standard uncertainty from the inputs' own u: P(a below b) =
+    Φ((G_b − G_a)/u) (scipy.stats.norm). The count over the shared draws lies within 4 binomial
+    standard errors of it. The CO and CO2 lines of carbon cross (the Boudouard equilibrium, near
+    980 K at 1 bar), so P runs from 0 to 1 over 800–1200 K: a real test."""
+    from scipy.stats import norm
+
+    from feasibly.thermo import Reaction
+    from feasibly.uncertainty import build_inputs, draw_samples, linear_model, uncertain_species
+
+    n = 20_000
+    co, co2 = "2 C + O2 -> 2 CO", "C + O2 -> CO2"
+    lines = formation_lines([co, co2], T_range=("800 K", "1200 K"), points=9, samples=n, seed=5)
+    rxns = [Reaction.parse(eq) for eq in lines.equations]
+    species = {sp.id: sp for r in rxns for sp in uncertain_species(r)}
+    inputs = build_inputs(species.values())
+    order = draw_samples(inputs, 2, seed=0)  # only fixes the order of the inputs
+    m_a, m_b = (linear_model(r, lines.T, order) for r in rxns)
+    coef = m_a.aG - m_b.aG  # both equations consume one O2: no rescaling
+    u = np.sqrt(np.einsum("ij,j,ij->i", coef, np.array([i.u for i in order.inputs]) ** 2, coef))
+    expected = norm.cdf((m_b.G0 - m_a.G0) / u)
+    p = lines.p_below(co, co2)
+    assert p.min() < 0.05 and p.max() > 0.95  # the lines cross inside the range
+    se = np.sqrt(expected * (1 - expected) / n)
+    assert np.all(np.abs(p - expected) <= 4 * se + 1.0 / n)

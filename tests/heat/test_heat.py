@@ -135,19 +135,13 @@ def test_more_inert_means_cooler() -> None:
     [
         (lambda: heat_duty(CALCINE, "1173 K", "CaCO3:1", conversion=1.5), "'conversion'"),
         (lambda: heat_duty(CALCINE, "1173 K", "CaCO3:1", conversion="most"), "'conversion'"),
-        (
-            lambda: heat_duty(CALCINE, "1173 K", "CaCO3:1", conversion="equilibrium", samples=99),
-            "equilibrium solve per draw",
-        ),
         (lambda: heat_duty(CALCINE, "1173 K", "CaCO3:1", key="CO2"), "'key'"),
         (lambda: heat_duty(CALCINE, "1173 K", "CaCO3:1", product="CaCO3"), "'product'"),
         (lambda: heat_duty(CALCINE, "1173 K", "CaO:1"), "'feed'"),
         (lambda: heat_duty(CALCINE, "1173 K", "CaCO3:1", T_feed={"CO2": "300 K"}), "T_feed"),
         (lambda: heat_duty(CALCINE, 1173, "CaCO3:1"), "bare number"),
         (
-            lambda: adiabatic_temperature(
-                BURN, "CH4:1, O2:2", "298.15 K", conversion="equilibrium"
-            ),
+            lambda: adiabatic_temperature(BURN, "CH4:1, O2:2", "298.15 K", conversion="all"),
             "'conversion'",
         ),
     ],
@@ -171,3 +165,111 @@ def test_invalid_input_is_the_family() -> None:
 def test_an_endothermic_step_has_no_adiabatic_temperature() -> None:
     with pytest.raises(InvalidInput, match="takes in 178"):
         adiabatic_temperature(CALCINE, "CaCO3:1", "298.15 K")
+
+
+# --- at the equilibrium conversion, with the call's draws ---------------------------------------
+SHIFT = "CO + H2O -> CO2 + H2"
+SO2 = "2 SO2 + O2 -> 2 SO3"
+SO2_FEED = "SO2:10, O2:11, N2:79"
+
+
+@pytest.fixture(scope="module")
+def shift_call() -> feasibly.UncertainAssessment:
+    # 4096 draws: enough to compare draw by draw; the interval itself is not asserted here
+    return feasibly.assess_uncertainty(SHIFT, T="1000 K", samples=4096, seed=2)
+
+
+def test_equilibrium_duty_draw_by_draw_equals_the_duty_at_that_draws_extent(
+    shift_call: feasibly.UncertainAssessment,
+) -> None:
+    """Each draw's duty at its own equilibrium extent equals the duty computed directly at a
+    given conversion equal to that extent (a separate path: the whole outlet stream built at
+    that extent), for the same draw of the data."""
+    d = heat_duty(SHIFT, "1000 K", "CO:1, H2O:1", T_feed="500 K", conversion="equilibrium",
+                  call=shift_call)  # fmt: skip
+    assert d.draws is not None and d.extent_draws is not None and d.extent_interval is not None
+    assert d.extent_interval[0] < d.extent < d.extent_interval[1]
+    for k in (0, 17, 1000, 4095):
+        direct = heat_duty(SHIFT, "1000 K", "CO:1, H2O:1", T_feed="500 K",
+                           conversion=float(d.extent_draws[k]), call=shift_call)  # fmt: skip
+        assert direct.draws is not None
+        # 1e-12 relative: two orders of the same sums, rounding only
+        assert d.draws[k] == pytest.approx(direct.draws[k], rel=1e-12)
+    # Nominal: the equilibrium extent of the nominal data, and the duty at that extent.
+    nominal = heat_duty(SHIFT, "1000 K", "CO:1, H2O:1", T_feed="500 K", conversion=d.extent)
+    assert d.J_per_mol_reaction == pytest.approx(nominal.J_per_mol_reaction, rel=1e-12)
+
+
+def test_each_draws_extent_satisfies_its_own_equilibrium(
+    shift_call: feasibly.UncertainAssessment,
+) -> None:
+    """K of each draw (from that draw's ΔrG°) equals the quotient of the amounts at its extent:
+    x(CO2)·x(H2)/(x(CO)·x(H2O)) = exp(−ΔrG°/RT) (Δn = 0, so pressure drops out)."""
+    d = heat_duty(SHIFT, "1000 K", "CO:1, H2O:1", conversion="equilibrium", call=shift_call)
+    assert d.extent_draws is not None
+    xi = d.extent_draws
+    dG = shift_call.model.values("G", shift_call.samples)[0]
+    ln_q = 2 * np.log(xi) - 2 * np.log(1 - xi)
+    # 1e-9: the extent solver's root tolerance (1e-12 in ln units) and rounding of ln Q
+    np.testing.assert_allclose(ln_q, -dG / (8.314462618 * 1000.0), rtol=0, atol=1e-9)
+
+
+def test_equilibrium_intervals_of_per_kg_figures_use_each_draws_product() -> None:
+    call = feasibly.assess_uncertainty(SHIFT, T="900 K", samples=2048, seed=4)
+    d = heat_duty(SHIFT, "900 K", "CO:1, H2O:2", T_feed="450 K", conversion="equilibrium",
+                  product="H2", call=call)  # fmt: skip
+    assert d.draws is not None and d.extent_draws is not None
+    assert d.interval_per_kg_product is not None and d.interval_per_kg_feed is not None
+    m_h2 = feasibly.default_library()["H2(g)"].molar_mass / 1000
+    per_kg = d.draws / m_h2  # per mole of reaction → per kg of H2 (one H2 per mole)
+    lo, hi = np.quantile(per_kg, [0.025, 0.975])
+    assert d.interval_per_kg_product == pytest.approx((lo, hi), rel=1e-12)
+    feed_kg = sum(
+        n * feasibly.default_library()[s].molar_mass / 1000
+        for s, n in (("CO(g)", 1), ("H2O(g)", 2))
+    )
+    lo, hi = np.quantile(d.draws * d.extent_draws / feed_kg, [0.025, 0.975])
+    assert d.interval_per_kg_feed == pytest.approx((lo, hi), rel=1e-12)
+
+
+def test_a_draw_in_which_the_reaction_does_not_run_is_refused() -> None:
+    """Just above calcite's decomposition temperature (ΔrG° = 0 at 1 bar CO2, from the kernel's
+    own crossover) the nominal data decompose the charge fully, but some draws of the data do
+    not decompose it at all: the duty per mole at the equilibrium conversion is then undefined,
+    and the refusal says in how many draws."""
+    a = feasibly.assess(CALCINE, T_range=("1000 K", "1200 K"), points=21)
+    assert a.crossover_K
+    T = (a.crossover_K[0] + 1.0, "K")  # 1 K above: nominal K > 1, well inside the data's doubt
+    assert heat_duty(CALCINE, T, "CaCO3:1", conversion="equilibrium").extent == 1.0
+    with pytest.raises(InvalidInput, match="does not run forward"):
+        heat_duty(CALCINE, T, "CaCO3:1", conversion="equilibrium", samples=2048, seed=1)
+
+
+def test_adiabatic_equilibrium_draw_by_draw_closes_at_a_fixed_extent() -> None:
+    """Each draw's adiabatic temperature at equilibrium is the adiabatic temperature at a given
+    conversion equal to that draw's extent there (the fixed-extent path), for the same draw."""
+    call = feasibly.assess_uncertainty(SO2, T="700 K", samples=1024, seed=6)
+    hot = adiabatic_temperature(SO2, SO2_FEED, "700 K", conversion="equilibrium", call=call)
+    assert hot.draws is not None and hot.interval is not None and hot.conversion is None
+    assert hot.interval[0] < hot.T_K < hot.interval[1]
+    from feasibly.equilibrium import extents_at
+    from feasibly.uncertainty import linear_model
+
+    rxn = call.reaction
+    for k in (0, 511, 1023):
+        T_k = np.array([hot.draws[k]])
+        model = linear_model(rxn, T_k, call.samples)
+        dG = model.G0 + model.aG @ call.samples.values[:, k]
+        xi = float(extents_at(rxn, T_k, 1e5, {"SO2": 10, "O2": 11, "N2": 79}, dG)[0])
+        fixed = adiabatic_temperature(SO2, SO2_FEED, "700 K", conversion=xi / 5.0, call=call)
+        assert fixed.draws is not None
+        # 1e-6 K: both bisections end far below it (60 halvings of a few thousand K)
+        assert fixed.draws[k] == pytest.approx(hot.draws[k], abs=1e-6)
+
+
+def test_adiabatic_equilibrium_of_an_endothermic_step_cools() -> None:
+    """Steam reforming fed hot with no heat supplied runs until its own cooling stops it."""
+    hot = adiabatic_temperature(
+        "CH4 + H2O -> CO + 3 H2", "CH4:1, H2O:3", "1000 K", conversion="equilibrium"
+    )
+    assert hot.T_K < 1000.0 and hot.extent > 0.0

@@ -197,6 +197,16 @@ def test_panel_reads_the_kept_draws_without_resampling():
     assert "Gas is produced" in p._cautions.value  # the kernel's caution, shown
 
 
+def test_panel_caution_quotes_the_adiabatic_temperature_band():
+    """With the result's draws, the exotherm caution carries the 95 % interval of the adiabatic
+    temperature (feasibly.heat.cautions_with_draws) and the deferral to process-safety review."""
+    r = assess_uncertainty("CO + H2O -> CO2 + H2", T="500 K", samples=N, seed=1)
+    p = FeasibilityPanel(r, temperature=500.0)
+    assert "Strongly exothermic" in p._cautions.value
+    assert "95 % interval" in p._cautions.value
+    assert "process-safety review" in p._cautions.value
+
+
 def test_one_change_one_recomputation(sheet, counters):
     sheet.temperature.value = 700.0
     assert counters == {"sample": 0, "snapshot": 1}

@@ -7,11 +7,12 @@ import io
 import math
 import re
 import sys
+from collections.abc import Sequence
 from typing import TYPE_CHECKING, Any
 
 from ..conditions import STANDARD_PRESSURE_PA
 from ..library import Library, default_library
-from ..thermo import NO_UNCERTAINTY, Assessment
+from ..thermo import NO_UNCERTAINTY, Assessment, Caution
 
 if TYPE_CHECKING:
     from ..uncertainty import UncertainAssessment
@@ -190,7 +191,7 @@ def _print_call(a: Assessment, u: UncertainAssessment | None, conv: dict[str, An
     print("━━ The numbers behind it ━━")
 
 
-def _print_assessment(a: Assessment) -> None:
+def _print_assessment(a: Assessment, cautions: Sequence[Caution] | None = None) -> None:
     s = a.standard
     print(f"Reaction   {a.reaction.equation(pretty=True)}")
     if a.reaction.equation() != " ".join(a.reaction.text.split()):
@@ -268,10 +269,11 @@ def _print_assessment(a: Assessment) -> None:
             f"Note: {used} is metastable at {T:.1f} K ({stable} has lower G°); "
             "it is used because the equation names that phase."
         )
-    if a.cautions:
+    shown = a.cautions if cautions is None else cautions
+    if shown:
         print()
         print("CAUTION")
-        for c in a.cautions:
+        for c in shown:
             print(f"  - {c.message}")
     for note in a.notes:
         print()

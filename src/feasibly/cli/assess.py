@@ -52,6 +52,12 @@ def _pressure_pairs(items: list[list[str]] | None, what: str) -> dict[str, str]:
 
 
 def _cmd_assess(args: argparse.Namespace) -> int:
+    if args.heat_conversion and not args.heat:
+        raise InvalidInput(
+            "--heat-conversion", "", "used together with --heat", args.heat_conversion
+        )
+    if args.compare and not args.record:
+        raise InvalidInput("--compare", "", "used together with --record PATH", args.compare)
     if args.sign_with and not args.record:
         raise InvalidInput("--sign-with", "", "used together with --record PATH", args.sign_with)
     if args.record is not None and not args.record.strip():
@@ -173,7 +179,7 @@ def _cmd_assess(args: argparse.Namespace) -> int:
     conversion = None
     # --feed alone is the feed of a heat balance (--heat); with a required conversion it is also
     # the feed of the conversion criterion.
-    if args.require_conversion or args.key or (args.feed and not args.heat):
+    if args.require_conversion or ((args.key or args.feed) and not args.heat):
         if not (args.feed and args.require_conversion and args.key):
             raise UnitError(
                 None,
@@ -217,6 +223,20 @@ def _cmd_assess(args: argparse.Namespace) -> int:
                     "gas_model": conversion["gas_model"],
                 },
             }
+        if args.heat:
+            if not args.feed:
+                raise InvalidInput(
+                    "--heat", "", "used with --feed (the amounts fed, e.g. CaCO3:1)", None
+                )
+            # The record recomputes the heat balance from these inputs and the call's draws.
+            conv_kwargs["heat"] = {
+                "feed": args.feed,
+                "T_feed": _quantity_text(args.feed_T, "temperature") if args.feed_T else None,
+                "P": _quantity_text(args.P, "pressure") if args.P else "1 bar",
+                **_heat_conversion(args),
+            }
+        if args.compare:
+            conv_kwargs["comparison"] = _comparison(args, uncertain)
         record = record_from(
             result,
             uncertain,
@@ -249,13 +269,23 @@ def _cmd_assess(args: argparse.Namespace) -> int:
             )
         print("exported: " + ", ".join(str(p) for p in written_files), file=sys.stderr)
     heat = _heat(args, result, uncertain, T) if args.heat else None
+    cautions = result.cautions
+    if uncertain is not None and any(c.kind == "strongly exothermic" for c in cautions):
+        from ..heat import cautions_with_draws  # the adiabatic temperature's interval
+
+        cautions = cautions_with_draws(cautions, uncertain, result.standard.T, result.standard.dH)
     if args.json:
         doc = result.to_dict()
+        doc["cautions"] = [c.as_dict() for c in cautions]
         if heat is not None:
             for row, duty in zip(doc["rows"], heat["duties"], strict=True):
                 row["duty_J_per_mol"] = duty.J_per_mol_reaction
                 if duty.interval is not None:
                     row["duty_J_per_mol_interval_95"] = list(duty.interval)
+                full = duty.to_dict()
+                for key in _HEAT_JSON:
+                    if key in full:
+                        row[key] = full[key]
             doc["heat"] = {k: v for k, v in heat.items() if k != "duties"}
         if uncertain is not None:
             extra = uncertain.to_dict()
@@ -267,7 +297,7 @@ def _cmd_assess(args: argparse.Namespace) -> int:
         print(json.dumps(doc, indent=2, ensure_ascii=False))
     else:
         _print_call(result, uncertain, conversion)
-        _print_assessment(result)
+        _print_assessment(result, cautions)
         if uncertain is not None:
             _print_uncertainty(uncertain)
         if conversion is not None:
@@ -277,6 +307,17 @@ def _cmd_assess(args: argparse.Namespace) -> int:
     return EXIT_OK
 
 
+#: Per-row heat figures of the JSON beside duty_J_per_mol (SI units in the names).
+_HEAT_JSON = (
+    "extent_mol",
+    "extent_mol_interval_95",
+    "duty_J_per_kg_product",
+    "duty_J_per_kg_product_interval_95",
+    "duty_J_per_kg_feed",
+    "duty_J_per_kg_feed_interval_95",
+)
+
+
 def _heat(args: argparse.Namespace, result: Any, uncertain: Any, T: Any) -> dict[str, Any]:
     """Heat duty at each temperature and the adiabatic temperature, from the call's draws."""
     from ..heat import adiabatic_temperature, heat_duty
@@ -284,9 +325,7 @@ def _heat(args: argparse.Namespace, result: Any, uncertain: Any, T: Any) -> dict
     if not args.feed:
         raise InvalidInput("--heat", "", "used with --feed (the amounts fed, e.g. CaCO3:1)", None)
     feed_T = _quantity_text(args.feed_T, "temperature") if args.feed_T else None
-    conv: dict[str, Any] = {}
-    if args.require_conversion and args.key:
-        conv = {"conversion": args.require_conversion, "key": args.key}
+    conv = _heat_conversion(args)
     P = _quantity_text(args.P, "pressure") if args.P else "1 bar"
     duties = [
         heat_duty(
@@ -303,7 +342,7 @@ def _heat(args: argparse.Namespace, result: Any, uncertain: Any, T: Any) -> dict
         "adiabatic_T_K": None,
     }
     try:
-        hot = adiabatic_temperature(result.reaction, args.feed, t_in, call=uncertain, **conv)
+        hot = adiabatic_temperature(result.reaction, args.feed, t_in, P=P, call=uncertain, **conv)
     except InvalidInput as exc:  # an endothermic step has no adiabatic temperature to quote
         reason = exc.expected.replace("a step that releases heat: this one", "this step")
         out["adiabatic_note"] = f"No adiabatic temperature: {reason}."
@@ -314,6 +353,37 @@ def _heat(args: argparse.Namespace, result: Any, uncertain: Any, T: Any) -> dict
     if hot.interval is not None:
         out["adiabatic_T_K_interval_95"] = list(hot.interval)
     return out
+
+
+def _comparison(args: argparse.Namespace, uncertain: Any) -> dict[str, Any]:
+    """The formation-line comparison a record carries: its compounds and range, and as many
+    draws as the call, from the call's seed (the lines are other reactions: their own draws)."""
+    tokens = args.compare_T_range
+    if len(tokens) != 3:
+        raise InvalidInput(
+            "--compare-T-range", "", "LOW HIGH UNIT, e.g. --compare-T-range 500 1800 K", tokens
+        )
+    lo, hi, unit = tokens
+    return {
+        "compounds": args.compare,
+        "reagent": args.compare_per,
+        "T_range": (f"{lo} {unit}", f"{hi} {unit}"),
+        "points": args.compare_points,
+        "samples": uncertain.trials if uncertain is not None else None,
+        "seed": uncertain.samples.seed if uncertain is not None else None,
+    }
+
+
+def _heat_conversion(args: argparse.Namespace) -> dict[str, Any]:
+    """The conversion of the heat balance: --heat-conversion, else the required one of --key,
+    else all of --key, else all of the limiting reactant."""
+    if args.heat_conversion:
+        return {"conversion": args.heat_conversion, "key": args.key}
+    if args.require_conversion and args.key:
+        return {"conversion": args.require_conversion, "key": args.key}
+    if args.key:  # all of the key reactant converted
+        return {"conversion": 1.0, "key": args.key}
+    return {}
 
 
 def _print_heat(heat: dict[str, Any]) -> None:
@@ -456,7 +526,16 @@ def register(sub: Any) -> None:
         "--heat",
         action="store_true",
         help="heat duty at each temperature and the adiabatic temperature of the feed, with "
-        "their 95 %% intervals when sampled (JSON: duty_J_per_mol per row, heat.adiabatic_T_K)",
+        "their 95 %% intervals when sampled (JSON: duty_J_per_mol, duty_J_per_kg_product, "
+        "duty_J_per_kg_feed, extent_mol per row; heat.adiabatic_T_K)",
+    )
+    h.add_argument(
+        "--heat-conversion",
+        dest="heat_conversion",
+        metavar="X",
+        help="conversion of the heat balance: a fraction of --key (or of the limiting reactant), "
+        "e.g. 90%%, or 'equilibrium' (each Monte Carlo draw at its own extent; default: "
+        "--require-conversion, else complete)",
     )
     h.add_argument(
         "--feed-T",
@@ -478,6 +557,31 @@ def register(sub: Any) -> None:
         "--record",
         metavar="PATH",
         help="write a reproducible record (JSON) and its report (PATH with .html)",
+    )
+    r.add_argument(
+        "--compare",
+        nargs="+",
+        metavar="COMPOUND",
+        help="put formation lines of these compounds (e.g. Cu2O FeO Cr2O3) compared per mole "
+        "of --compare-per into the record, with bands from as many draws as the call",
+    )
+    r.add_argument(
+        "--compare-per", dest="compare_per", default="O2", help="reagent gas (default O2)"
+    )
+    r.add_argument(
+        "--compare-T-range",
+        nargs=3,
+        dest="compare_T_range",
+        default=["500", "1800", "K"],
+        metavar="T",
+        help="range of the compared lines (default 500 1800 K)",
+    )
+    r.add_argument(
+        "--compare-points",
+        dest="compare_points",
+        type=int,
+        default=14,
+        help="temperatures of the compared lines (default 14)",
     )
     r.add_argument("--author", help="who made the call (goes into the record)")
     r.add_argument("--reviewer", help="who reviews it (goes into the record)")

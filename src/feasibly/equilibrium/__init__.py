@@ -18,6 +18,7 @@ from .conversion import (
     conversion_bands,
     conversion_window,
     equilibrium_extent,
+    extents_at,
 )
 
 __all__ = [
@@ -30,5 +31,6 @@ __all__ = [
     "conversion_window",
     "equilibrate",
     "equilibrium_extent",
+    "extents_at",
     "parse_feed",
 ]

@@ -82,6 +82,7 @@ __all__ = [
     "conversion_window",
     "equilibrate",
     "equilibrium_extent",
+    "extents_at",
     "non_ideality",
     "parse_feed",
 ]
@@ -334,6 +335,29 @@ def equilibrium_extent(
         rxn, T_K, P_Pa, tuple(t.label() for t in rxn.terms), amounts, xi, n, key, conv,
         model, shift,
     )  # fmt: skip
+
+
+def extents_at(
+    rxn: Reaction,
+    T_K: np.ndarray,
+    P_Pa: float,
+    feed: Mapping[str, float],
+    dG: np.ndarray,
+) -> np.ndarray:
+    """Equilibrium extent (ideal gases at total pressure ``P_Pa``) for given ΔrG° values.
+
+    ``dG`` (J/mol) is shaped like the states: (M,) with one temperature each in ``T_K`` (M,),
+    or (T, N) with the temperatures ``T_K`` (T,) along its rows — e.g. the sampled ΔrG° of a
+    call's draws, one extent per draw. The same solver as :func:`equilibrium_extent`, which
+    these values reproduce for the nominal ΔrG°.
+    """
+    T_K = np.atleast_1d(np.asarray(T_K, dtype=float))
+    dG = np.asarray(dG, dtype=float)
+    nu, gas, n0, inert, _ = _reaction_inputs(rxn, feed, None, T_K)
+    P = np.full(T_K.size, float(P_Pa))
+    ln_k = -dG / (R * (T_K if dG.ndim == 1 else T_K[:, None]))
+    xi, _, _ = _extent_states(nu, gas, n0, inert, ln_k, np.log(P / _P_STD), T_K, P)
+    return xi
 
 
 @dataclass

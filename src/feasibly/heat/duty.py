@@ -18,7 +18,7 @@ from typing import Any
 import numpy as np
 
 from ..conditions import read_feed, read_pressure, read_temperature
-from ..equilibrium import equilibrium_extent
+from ..equilibrium import equilibrium_extent, extents_at
 from ..errors import InvalidInput
 from ..library import Library, Species, default_library
 from ..thermo import Reaction
@@ -35,6 +35,8 @@ from ..uncertainty import (
     build_inputs,
     deviation_rows,
     draw_samples,
+    linear_model,
+    uncertain_species,
     with_transition_parents,
 )
 
@@ -57,7 +59,10 @@ class HeatDuty:
     ``J`` is for the feed as given; ``J_per_mol_reaction`` divides by the extent;
     ``J_per_kg_product`` by the mass of ``product`` formed and ``J_per_kg_feed`` by the mass fed.
     ``interval`` is the 95 % interval of ``J_per_mol_reaction`` over ``samples`` draws (None
-    without sampling); ``draws`` holds those values (J/mol).
+    without sampling); ``draws`` holds those values (J/mol). ``interval_per_kg_product`` and
+    ``interval_per_kg_feed`` are the 95 % intervals of the per-kg figures over the same draws.
+    At the equilibrium conversion each draw has its own extent: ``extent_interval`` and
+    ``extent_draws`` hold them (mol; None at a given conversion).
     """
 
     equation: str
@@ -75,6 +80,10 @@ class HeatDuty:
     interval: tuple[float, float] | None = None
     draws: np.ndarray | None = field(default=None, repr=False)
     notes: list[str] = field(default_factory=list)
+    interval_per_kg_product: tuple[float, float] | None = None
+    interval_per_kg_feed: tuple[float, float] | None = None
+    extent_interval: tuple[float, float] | None = None
+    extent_draws: np.ndarray | None = field(default=None, repr=False)
 
     def to_dict(self) -> dict[str, Any]:
         """Plain JSON-ready data (SI units in the key names)."""
@@ -95,6 +104,12 @@ class HeatDuty:
         }
         if self.interval is not None:
             out["duty_J_per_mol_interval_95"] = list(self.interval)
+        if self.interval_per_kg_product is not None:
+            out["duty_J_per_kg_product_interval_95"] = list(self.interval_per_kg_product)
+        if self.interval_per_kg_feed is not None:
+            out["duty_J_per_kg_feed_interval_95"] = list(self.interval_per_kg_feed)
+        if self.extent_interval is not None:
+            out["extent_mol_interval_95"] = list(self.extent_interval)
         return out
 
 
@@ -199,7 +214,9 @@ def heat_duty(
     ``conversion`` is the fraction of ``key`` converted (default: all of the limiting reactant)
     or ``"equilibrium"`` (ideal gases at total pressure ``P``). With ``samples`` (and ``seed``), or
     with ``call`` (an :class:`~feasibly.uncertainty.UncertainAssessment` of the same reaction,
-    whose draws are then used), the duty per mole of reaction gets its 95 % interval.
+    whose draws are then used), the duty per mole of reaction gets its 95 % interval; at the
+    equilibrium conversion each draw's ΔrG° sets its own extent, so the interval includes the
+    doubt about how far the reaction goes.
 
     >>> d = heat_duty("CaCO3 -> CaO + CO2", "1173 K", "CaCO3:1", T_feed="298.15 K")
     >>> round(d.J_per_mol_reaction / 1000)  # heat to warm the charge and calcine it
@@ -219,15 +236,6 @@ def heat_duty(
     notes: list[str] = []
     limiting = _limiting_extent(rxn, amounts)
     if choice == "equilibrium":
-        if samples is not None or call is not None:
-            raise InvalidInput(
-                "conversion",
-                "heat_duty",
-                "a given conversion when an interval is asked for (the interval at the "
-                "equilibrium conversion needs an equilibrium solve per draw, which this "
-                "function does not make)",
-                conversion,
-            )
         eq = equilibrium_extent(rxn, (T_K, "K"), (P_Pa, "Pa"), amounts)
         extent = float(eq.extent[0])
         conv_value: float | None = None
@@ -248,7 +256,8 @@ def heat_duty(
     h_in = sum(float(stream_enthalpy([it], t_in[it.label])[0]) for it in inlet if it.amount)
     total = h_out - h_in
     feed_mass = sum(it.amount * it.molar_mass for it in inlet) / 1000.0
-    prod_label, per_kg_product = _per_product(rxn, product, extent, total)
+    prod_label, kg_product = _per_product(rxn, product, extent)
+    per_kg_product = None if kg_product is None else total / kg_product
     result = HeatDuty(
         rxn.equation(),
         T_K,
@@ -267,17 +276,82 @@ def heat_duty(
     entries = _stable_entries(outlet, T_K) + [
         sp for it in inlet if it.amount for sp in _stable_entries([it], t_in[it.label])
     ]
+    if choice == "equilibrium":
+        # every phase the equilibrium may use: ΔrG° of each draw sets that draw's extent
+        entries += list(uncertain_species(rxn))
     drawn = stream_samples(rxn, entries, samples=samples, seed=seed, call=call)
-    if drawn is not None:
+    if drawn is not None and choice == "equilibrium":
+        _equilibrium_draws(result, rxn, amounts, t_in, h_in, drawn, kg_product, feed_mass)
+    elif drawn is not None:
         row = enthalpy_rows(rxn, outlet, T_K, drawn)[0]
         for it in inlet:
             if it.amount:
                 row = row + enthalpy_rows(rxn, [it], t_in[it.label], drawn, -1.0)[0]
-        values = (total + row @ drawn.values) / extent
-        lo, hi = np.quantile(values, [(1 - _COVERAGE) / 2, (1 + _COVERAGE) / 2])
-        result.interval = (float(lo), float(hi))
+        totals = total + row @ drawn.values
+        values = totals / extent
+        result.interval = _interval(values)
         result.draws = values
+        if kg_product is not None:
+            result.interval_per_kg_product = _interval(totals / kg_product)
+        result.interval_per_kg_feed = _interval(totals / feed_mass)
     return result
+
+
+def _equilibrium_draws(
+    result: HeatDuty,
+    rxn: Reaction,
+    amounts: Mapping[str, float],
+    t_in: Mapping[str, float],
+    h_in: float,
+    drawn: SampleSet,
+    kg_product: float | None,
+    feed_mass: float,
+) -> None:
+    """Intervals at the equilibrium conversion: each draw's ΔrG° gives its own extent ξ, and
+    its duty is that draw's enthalpy balance at that ξ.
+
+    With the phases fixed at T, the outlet enthalpy is linear in the extent,
+    H_out(ξ) = H(feed at T) + ξ·Σ ν_j H_j(T), so each draw's duty is
+    A + a·x + ξ(x)·(B + b·x): A, B nominal, a, b their rows in the inputs x.
+    """
+    T_K, P_Pa = result.T_K, result.P_Pa
+    x = drawn.values
+    inlet0, outlet0 = reaction_streams(rxn, amounts, 0.0)
+    a_nom = float(stream_enthalpy(outlet0, T_K)[0]) - h_in
+    a_row = enthalpy_rows(rxn, outlet0, T_K, drawn)[0]
+    for it in inlet0:
+        if it.amount:
+            a_row = a_row + enthalpy_rows(rxn, [it], t_in[it.label], drawn, -1.0)[0]
+    per_mole = [StreamItem(t.label(), t.own_candidates(), float(t.nu)) for t in rxn.terms]
+    b_nom = float(stream_enthalpy(per_mole, T_K)[0])
+    b_row = enthalpy_rows(rxn, per_mole, T_K, drawn)[0]
+    T = np.array([T_K])
+    xi = extents_at(rxn, T, P_Pa, amounts, linear_model(rxn, T, drawn).values("G", drawn))[0]
+    if np.any(xi <= 0.0):
+        raise InvalidInput(
+            "feed",
+            "heat_duty",
+            "a feed in which the reaction proceeds at equilibrium in every draw of the data "
+            f"(in {int(np.count_nonzero(xi <= 0))} of {xi.size} it does not run forward at "
+            f"{T_K:.2f} K)",
+            dict(amounts),
+        )
+    totals = a_nom + a_row @ x + xi * (b_nom + b_row @ x)
+    values = totals / xi
+    result.interval = _interval(values)
+    result.draws = values
+    result.extent_interval = _interval(xi)
+    result.extent_draws = xi
+    if kg_product is not None:
+        # the product formed grows with each draw's extent
+        result.interval_per_kg_product = _interval(totals / (kg_product * xi / result.extent))
+    result.interval_per_kg_feed = _interval(totals / feed_mass)
+
+
+def _interval(values: np.ndarray) -> tuple[float, float]:
+    """The probabilistically symmetric 95 % interval of ``values`` (JCGM 101 §7.7)."""
+    lo, hi = np.quantile(values, [(1 - _COVERAGE) / 2, (1 + _COVERAGE) / 2])
+    return (float(lo), float(hi))
 
 
 def amounts_of(rxn: Reaction, amounts: Mapping[str, float]) -> np.ndarray:
@@ -335,8 +409,9 @@ def _feed_temperatures(
 
 
 def _per_product(
-    rxn: Reaction, product: str | None, extent: float, total: float
+    rxn: Reaction, product: str | None, extent: float
 ) -> tuple[str | None, float | None]:
+    """The product the per-kg figure counts (given, or the heaviest formed) and its kg."""
     prods = [t for t in rxn.terms if t.nu > 0]
     if product is None:
         if not prods:
@@ -353,4 +428,4 @@ def _per_product(
             )
         term = found[0]
     kg = term.nu * extent * term.candidates[0].molar_mass / 1000.0
-    return term.label(), total / kg
+    return term.label(), kg

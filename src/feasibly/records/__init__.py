@@ -6,7 +6,8 @@ verification that recomputes the call from the record's own inputs.
 - :mod:`~feasibly.records.verify` — recompute and compare;
 - :mod:`~feasibly.records.signing` — an optional Ed25519 signature with the user's own key;
 - ``_schema``, ``_report``, ``_svg`` — the published schema, the HTML/Markdown report and its
-  dependency-free charts (private).
+  dependency-free charts (private);
+- ``_sections`` — the optional heat-balance and formation-line sections (private).
 
 Layer rule: imports the kernel wings (thermo, uncertainty, equilibrium); never figures or widgets.
 """

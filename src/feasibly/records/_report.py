@@ -380,6 +380,217 @@ def _conversion(doc: Mapping[str, Any]) -> str:
     )
 
 
+def _band(x: Any, interval: Any, scale: float, digits: int = 1) -> str:
+    """A value and its 95 % interval, e.g. "−763.4 [−763.7, −763.1]"."""
+    text = _num(x, scale, digits)
+    if interval:
+        text += f" [{_num(interval[0], scale, digits)}, {_num(interval[1], scale, digits)}]"
+    return text
+
+
+def _heat(doc: Mapping[str, Any]) -> str:
+    """The heat-balance section: duty per temperature with intervals, adiabatic temperature."""
+    inputs, res = doc.get("heat"), doc["results"].get("heat")
+    if not inputs or not res:
+        return ""
+    feed = ", ".join(f"{_e(k)} {_num(v, digits=3)}" for k, v in inputs["feed"].items())
+    t_feed = inputs["T_feed_K"]
+    if t_feed is None:
+        enters = "at the reaction temperature"
+    elif isinstance(t_feed, Mapping):
+        enters = "at " + ", ".join(f"{_e(k)} {v:g} K" for k, v in t_feed.items())
+    else:
+        enters = f"at {t_feed:g} K"
+    conv = inputs["conversion"]
+    of = f"of {_e(inputs['key'])}" if inputs["key"] else "of the limiting reactant"
+    if conv == "equilibrium":
+        basis = (
+            "the equilibrium conversion at each temperature (ideal gases at "
+            f"{_num(inputs['P_Pa'], 1e5, 3)} bar)"
+        )
+    else:
+        basis = f"{_pct(conv, 0)} {of}"
+    sampled = res["shared_draws"]
+    where = (
+        f"95 % intervals from the call's own {res['trials']:,} draws (the same draws as the "
+        "feasibility call)."
+        if sampled
+        else "Nominal data only: no interval (the call has no Monte Carlo run)."
+    )
+    product = _e(res["product"] or "product")
+    head = ["T / K", "extent / mol", "duty kJ/mol", f"MJ per kg {product}", "MJ per kg feed"]
+    rows = []
+    for r in res["rows"]:
+        rows.append(
+            [
+                _num(r["T_K"]),
+                _band(r["extent_mol"], r.get("extent_mol_interval_95"), 1.0, 4),
+                _band(r["duty_J_per_mol"], r.get("duty_J_per_mol_interval_95"), 1e3),
+                _band(
+                    r["duty_J_per_kg_product"], r.get("duty_J_per_kg_product_interval_95"), 1e6, 3
+                ),
+                _band(r["duty_J_per_kg_feed"], r.get("duty_J_per_kg_feed_interval_95"), 1e6, 3),
+            ]
+        )
+    figure = ""
+    if len(res["rows"]) > 1:
+        T = [r["T_K"] for r in res["rows"]]
+        bands = []
+        if sampled:
+            bands.append(
+                Band(
+                    T,
+                    [_kj(r["duty_J_per_mol_interval_95"][0]) for r in res["rows"]],
+                    [_kj(r["duty_J_per_mol_interval_95"][1]) for r in res["rows"]],
+                    "95 % interval (the call's draws)",
+                )
+            )
+        figure = (
+            "<figure>"
+            + chart(
+                title="Heat duty against reaction temperature",
+                x_label="reaction temperature T / K",
+                y_label="duty / (kJ per mol of reaction)",
+                lines=[
+                    Line(T, [_kj(r["duty_J_per_mol"]) for r in res["rows"]], "duty (nominal data)")
+                ],
+                bands=bands,
+                hlines=[HLine(0.0, "0: neither heat in nor out", OKABE_ITO["black"], "2 3")],
+            )
+            + "</figure>"
+        )
+    hot = res["adiabatic"]
+    if hot is None:
+        adiabatic = f"<p id='adiabatic'>{_e(res['adiabatic_note'])}</p>"
+    else:
+        band = ""
+        if hot.get("adiabatic_T_K_interval_95"):
+            lo, hi = hot["adiabatic_T_K_interval_95"]
+            band = f" (95 % interval {lo:,.0f}–{hi:,.0f} K)"
+        at = (
+            "at the equilibrium conversion there"
+            if hot["conversion"] is None
+            else f"at {_pct(hot['conversion'], 0)} {of}"
+        )
+        adiabatic = (
+            f"<p id='adiabatic'><b>Adiabatic outlet temperature</b>, feed at "
+            f"{hot['T_feed_K']:g} K, {at}: <b>{hot['adiabatic_T_K']:,.0f} K</b>{band}; a rise "
+            f"of {hot['temperature_rise_K']:,.0f} K.</p>"
+            + "".join(f"<p class='muted'>{_e(n)}</p>" for n in hot["notes"])
+        )
+    notes = dict.fromkeys(n for r in res["rows"] for n in r["notes"])
+    return (
+        "<h2 id='heat'>Heat duty and adiabatic temperature</h2>"
+        f"<p>Feed (mol): {feed}, entering {enters}; products leave at the reaction "
+        f"temperature. Conversion: {basis}. Positive duty: heat to put in; negative: heat to "
+        f"take out. Phase changes on the way are included. {where}</p>"
+        + _table(head, rows)
+        + "".join(f"<p class='muted'>Note: {_e(n)}</p>" for n in notes)
+        + figure
+        + adiabatic
+    )
+
+
+#: Colours of the compared formation lines, in order (Okabe–Ito).
+_LINE_COLOURS = ("blue", "vermillion", "green", "orange", "purple", "sky", "black")
+
+
+def _comparison(doc: Mapping[str, Any]) -> str:
+    """Formation lines compared: the diagram with 95 % bands, the table, P(a below b)."""
+    inputs, res = doc.get("comparison"), doc["results"].get("comparison")
+    if not inputs or not res:
+        return ""
+    T = res["T_K"]
+    reagent = _e(res["reagent"])
+    lines, bands = [], []
+    sampled = bool(res["trials"])
+    for i, ln in enumerate(res["lines"]):
+        colour = OKABE_ITO[_LINE_COLOURS[i % len(_LINE_COLOURS)]]
+        dash = ("", "8 3", "2 3", "6 2 2 2")[(i // len(_LINE_COLOURS)) % 4]
+        if sampled:
+            bands.append(
+                Band(
+                    T,
+                    [_kj(v) for v in ln["lo95_J_per_mol"]],
+                    [_kj(v) for v in ln["hi95_J_per_mol"]],
+                    f"{ln['label']} 95 %",
+                    colour,
+                )
+            )
+        lines.append(Line(T, [_kj(v) for v in ln["dG_J_per_mol"]], ln["label"], colour, dash))
+    figure = chart(
+        title=f"Formation lines per mole of {res['reagent']} (lower: more stable)",
+        x_label="temperature T / K",
+        y_label=f"ΔrG° / (kJ per mol {res['reagent']})",
+        lines=lines,
+        bands=bands,
+    )
+    head = ["T / K"] + [
+        f"{ln['label']} kJ/mol" + (" [95 %]" if sampled else "") for ln in res["lines"]
+    ]
+    rows = []
+    for k, t in enumerate(T):
+        row = [_num(t)]
+        for ln in res["lines"]:
+            interval = [ln["lo95_J_per_mol"][k], ln["hi95_J_per_mol"][k]] if sampled else None
+            row.append(_band(ln["dG_J_per_mol"][k], interval, 1e3))
+        rows.append(row)
+    equations = "; ".join(
+        f"{_e(ln['label'])}: <code>{_e(ln['equation'])}</code>" for ln in res["lines"]
+    )
+    changes = [
+        f"{_e(ln['label'])}: {_e(c['from'])} → {_e(c['to'])} at {c['T_K']:.0f} K"
+        for ln in res["lines"]
+        for c in ln["phase_changes"]
+    ]
+    out = (
+        f"<h2 id='comparison'>Formation lines compared (per mole of {reagent})</h2>"
+        f"<p>{equations}.</p>"
+        f"<figure>{figure}</figure>"
+        + (f"<p>Phase changes on the lines: {'; '.join(changes)}.</p>" if changes else "")
+        + _table(head, rows)
+    )
+    if res["p_below"]:
+        p_head = ["T / K"] + [f"P({p['a']} below {p['b']})" for p in res["p_below"]]
+        p_rows = [[_num(t)] + [_pct(p["P"][k]) for p in res["p_below"]] for k, t in enumerate(T)]
+        out += (
+            "<p>Probability that one line lies below another (its compound the more stable, "
+            "its element able to reduce the other's compound), counted draw by draw:</p>"
+            + _table(p_head, p_rows)
+        )
+    ratio_keys = [k for k in res["lines"][0] if k.startswith("log10_") and k.endswith("_needed")]
+    if ratio_keys:
+        names = {
+            k: k.removeprefix("log10_").removesuffix("_needed").replace("_per_", "/")
+            for k in ratio_keys
+        }
+        r_head = ["T / K"] + [
+            f"{ln['label']}: {names[k]}" for ln in res["lines"] for k in ratio_keys
+        ]
+        r_rows = [
+            [_num(t)]
+            + [f"{10 ** ln[k]['nominal'][i]:.3g}" for ln in res["lines"] for k in ratio_keys]
+            for i, t in enumerate(T)
+        ]
+        out += (
+            "<p>Reductant ratio each reduction needs at equilibrium (nominal data; a furnace gas "
+            "richer in CO or H2 than this reduces the oxide; 95 % bands are in the JSON "
+            "record):</p>" + _table(r_head, r_rows)
+        )
+    out += (
+        "<p class='muted'>"
+        + (
+            f"Bands and probabilities from the comparison's own {res['trials']:,} draws "
+            f"(seed {res['seed']}); species shared by two lines move both together. "
+            if sampled
+            else "Nominal data only: no bands. "
+        )
+        + "Thermodynamics only: whether a reduction runs also depends on rate, gas flow and "
+        "contact.</p>"
+    )
+    return out
+
+
 def _species(doc: Mapping[str, Any]) -> str:
     from ..library import default_library
 
@@ -493,6 +704,8 @@ def render_html(doc: Mapping[str, Any]) -> str:
         notes,
         _sensitivity(doc),
         _conversion(doc),
+        _heat(doc),
+        _comparison(doc),
         "<h2>Conditions and settings</h2>",
         _settings(doc),
         "<h2>Species data used</h2>",
@@ -565,6 +778,51 @@ def render_markdown(doc: Mapping[str, Any]) -> str:
                 u["verdict"],
             ]
         lines.append("| " + " | ".join(row) + " |")
+    heat = res.get("heat")
+    if heat:
+        lines += [
+            "",
+            "## Heat duty",
+            "",
+            "| T / K | duty kJ/mol | MJ per kg feed |",
+            "|---:|---:|---:|",
+        ]
+        for r in heat["rows"]:
+            per_mol = _band(r["duty_J_per_mol"], r.get("duty_J_per_mol_interval_95"), 1e3)
+            per_kg = _band(r["duty_J_per_kg_feed"], r.get("duty_J_per_kg_feed_interval_95"), 1e6, 3)
+            lines.append(f"| {_num(r['T_K'])} | {per_mol} | {per_kg} |")
+        hot = heat["adiabatic"]
+        if hot is None:
+            lines += ["", escape(heat["adiabatic_note"])]
+        else:
+            band = hot.get("adiabatic_T_K_interval_95")
+            lines += [
+                "",
+                f"Adiabatic outlet temperature (feed at {hot['T_feed_K']:g} K): "
+                f"{hot['adiabatic_T_K']:,.0f} K"
+                + (f" (95 % interval {band[0]:,.0f}–{band[1]:,.0f} K)" if band else "")
+                + ".",
+            ]
+    comparison = res.get("comparison")
+    if comparison:
+        lines += ["", f"## Formation lines per mole of {escape(comparison['reagent'])}", ""]
+        k = len(comparison["T_K"]) // 2
+        t_mid = comparison["T_K"][k]
+        for ln in comparison["lines"]:
+            band = ""
+            if "lo95_J_per_mol" in ln:
+                band = (
+                    f" [{_num(ln['lo95_J_per_mol'][k], 1e3, 1)}, "
+                    f"{_num(ln['hi95_J_per_mol'][k], 1e3, 1)}]"
+                )
+            lines.append(
+                f"- {escape(ln['label'])} (`{_code(ln['equation'])}`): ΔrG° at {t_mid:.0f} K "
+                f"{_num(ln['dG_J_per_mol'][k], 1e3, 1)}{band} kJ/mol"
+            )
+        for p in comparison["p_below"]:
+            lines.append(
+                f"- P({escape(p['a'])} below {escape(p['b'])}) at {t_mid:.0f} K: {_pct(p['P'][k])}"
+            )
     settings = doc["uncertainty"]
     lines += [""]
     if settings is not None:

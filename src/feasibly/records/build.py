@@ -33,31 +33,11 @@ from ..uncertainty import (
 )
 from ..uncertainty.inputs import InputKey, Method, Override
 from ..uncertainty.linear import uncertain_species
+from ._plain import plain
+from ._sections import comparison_inputs, comparison_section, heat_inputs, heat_section
 from .document import SCHEMA_MARK, SCHEMA_VERSION, _seal
 
 __all__ = ["make_record", "record_from"]
-
-
-def plain(x: Any) -> Any:
-    """JSON-ready copy: numpy scalars to Python, tuples to lists, non-finite floats to text."""
-    if isinstance(x, Mapping):
-        return {str(k): plain(v) for k, v in x.items()}
-    if isinstance(x, (list, tuple)):
-        return [plain(v) for v in x]
-    if isinstance(x, np.ndarray):
-        return [plain(v) for v in x.tolist()]
-    if isinstance(x, (bool, np.bool_)):
-        return bool(x)
-    if isinstance(x, (int, np.integer)):
-        return int(x)
-    if isinstance(x, (float, np.floating)):
-        f = float(x)
-        if math.isfinite(f):
-            return f
-        return "nan" if math.isnan(f) else ("inf" if f > 0 else "-inf")
-    if x is None or isinstance(x, str):
-        return x
-    return str(x)
 
 
 def environment() -> dict[str, str]:
@@ -171,6 +151,12 @@ def results_section(a: Assessment, u: UncertainAssessment | None, t_sens: float)
     warning = gas_model_warning(a)
     if warning is not None and warning not in assessment["notes"]:
         assessment["notes"].append(warning)
+    if u is not None and any(c.kind == "strongly exothermic" for c in a.cautions):
+        # With draws, the exotherm caution quotes the adiabatic temperature with its interval.
+        from ..heat import cautions_with_draws
+
+        banded = cautions_with_draws(a.cautions, u, a.standard.T, a.standard.dH)
+        assessment["cautions"] = [plain(c.as_dict()) for c in banded]
     return {
         "summary": summary(a, u),
         "assessment": assessment,
@@ -299,8 +285,18 @@ def record_from(
     sensitivity_at: Any = None,
     conversion: Mapping[str, Any] | None = None,
     conversion_inputs: Mapping[str, Any] | None = None,
+    heat: Mapping[str, Any] | None = None,
+    comparison: Mapping[str, Any] | None = None,
 ) -> dict[str, Any]:
     """The decision record (plain dict, sealed with its content hash) of calls already made.
+
+    ``heat`` (``feed``, ``T_feed`` — one temperature, one per feed species, or None for the
+    reaction temperature —, ``conversion`` — a fraction or ``"equilibrium"`` —, ``key``, ``P``,
+    ``product``) adds the heat duty at each temperature of the call and the adiabatic
+    temperature, computed here from the call's own draws (:mod:`feasibly.heat`).
+    ``comparison`` (``compounds``, ``reagent``, ``T_range``, ``points``, ``samples``, ``seed``)
+    adds formation lines compared on one scale (:mod:`feasibly.comparison`); their draws are
+    their own (other reactions than the call's), from their own seed.
 
     ``conversion`` is the result of :func:`feasibly.equilibrium.conversion_assessment` for the
     same reaction and temperatures, and ``conversion_inputs`` what it was called with: ``feed``
@@ -378,6 +374,8 @@ def record_from(
         problems.append("field conversion: it was computed on other temperatures")
     if problems:
         raise RecordError("record_from", problems)
+    heat_in = heat_inputs(heat) if heat is not None else None
+    comparison_in = comparison_inputs(comparison) if comparison is not None else None
     t_sens = float(a.standard.T[len(a.standard.T) // 2])
     if sensitivity_at is not None:
         t_sens = read_temperature(sensitivity_at)
@@ -417,6 +415,12 @@ def record_from(
     if conversion is not None and conversion_inputs is not None:
         record["conversion"] = plain(dict(conversion_inputs))
         record["results"]["conversion"] = plain(dict(conversion))
+    if heat_in is not None:
+        record["heat"] = plain(heat_in)
+        record["results"]["heat"] = heat_section(a, u, heat_in)
+    if comparison_in is not None:
+        record["comparison"] = plain(comparison_in)
+        record["results"]["comparison"] = comparison_section(rxn.library, comparison_in)
     return _seal(record)
 
 

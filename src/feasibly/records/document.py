@@ -67,6 +67,8 @@ _SECTIONS = (
     "species",
     "environment",
     "results",
+    "heat",
+    "comparison",
 )
 # Sections a recomputation rebuilds and compares; the rest (who, when, where) are not results.
 _RECOMPUTED = ("reaction", "data", "species", "results")

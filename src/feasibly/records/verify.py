@@ -1,7 +1,8 @@
 """Verify a decision record: recompute it and compare every result exactly.
 
 The record's inputs alone (equation, balance flag, conditions, sampling settings and seed,
-overrides with their reasons, correlations, and the user species entries it carries) are fed to
+overrides with their reasons, correlations, the user species entries it carries, and the inputs
+of its heat balance and formation-line comparison when it has them) are fed to
 the kernel again; the rebuilt sections are compared with the recorded ones value by value, floats
 bit for bit.
 """
@@ -143,9 +144,12 @@ def _rerun(doc: Mapping[str, Any]) -> dict[str, Any]:
             ),
         }
 
+    # Heat and comparison sections are recomputed from their own recorded inputs (the heat from
+    # the call's draws, the comparison from its own seed).
+    extras: dict[str, Any] = {"heat": doc.get("heat"), "comparison": doc.get("comparison")}
     unc = doc["uncertainty"]
     if unc is None:
-        return record_from(a, None, balance=rxn["balance"], **conversion_of(None))
+        return record_from(a, None, balance=rxn["balance"], **conversion_of(None), **extras)
     crit = unc["criterion"]
     overrides = [
         Override(
@@ -195,6 +199,7 @@ def _rerun(doc: Mapping[str, Any]) -> dict[str, Any]:
         max_trials=max_trials if adaptive else None,
         sensitivity_at=(unc["sensitivity_T_K"], "K"),
         **conversion_of(u),
+        **extras,
     )
 
 

@@ -27,7 +27,10 @@ __all__ = [
     "PRESSURE_CAUTION_PA",
     "Caution",
     "cautions_for",
+    "exotherm_caution",
+    "exotherm_temperature",
     "pressure_caution",
+    "stoichiometric_feed",
 ]
 
 #: Specific heat release above which a reaction is called strongly exothermic, J per gram of
@@ -101,23 +104,9 @@ def cautions_for(
     T = np.atleast_1d(np.asarray(T, dtype=float))
     dH = np.atleast_1d(np.asarray(dH, dtype=float))
     out: list[Caution] = []
-    reactant_mass = sum(-t.nu * t.candidates[0].molar_mass for t in rxn.terms if t.nu < 0)
-    worst = float(np.min(dH))
-    if worst < 0 and reactant_mass > 0:
-        per_gram = -worst / reactant_mass
-        if per_gram >= EXOTHERM_J_PER_G:
-            k = int(np.argmin(dH))
-            out.append(
-                Caution(
-                    "strongly exothermic",
-                    f"Strongly exothermic: about {per_gram:,.0f} J released per gram of reactants "
-                    f"(ΔrH° = {worst / 1000:,.1f} kJ/mol at {T[k]:.0f} K). "
-                    + _adiabatic_phrase(rxn, float(T[k]))
-                    + " Runaway or decomposition can follow; refer the step to process-safety "
-                    "review.",
-                    f"-ΔrH°/m(reactants) = {per_gram:.0f} J/g ≥ {EXOTHERM_J_PER_G:.0f} J/g",
-                )
-            )
+    exotherm = exotherm_caution(rxn, T, dH)
+    if exotherm is not None:
+        out.append(exotherm)
     dn = rxn.gas_change(T)
     if np.any(dn > 0):
         k = int(np.argmax(dn))
@@ -156,29 +145,97 @@ def cautions_for(
 _DISSOCIATION_K = 2500.0
 
 
-def _adiabatic_phrase(rxn: Reaction, T: float) -> str:
+def stoichiometric_feed(rxn: Reaction) -> dict[str, float]:
+    """The undiluted stoichiometric feed of one mole of reaction: reactant label → −ν (mol)."""
+    return {t.label(): -t.nu for t in rxn.terms if t.nu < 0}
+
+
+def exotherm_temperature(rxn: Reaction, T: np.ndarray, dH: np.ndarray) -> float | None:
+    """The temperature of the largest heat release when it reaches :data:`EXOTHERM_J_PER_G`
+    per gram of reactants (the strongly exothermic caution applies there), else None."""
+    T = np.atleast_1d(np.asarray(T, dtype=float))
+    dH = np.atleast_1d(np.asarray(dH, dtype=float))
+    reactant_mass = sum(-t.nu * t.candidates[0].molar_mass for t in rxn.terms if t.nu < 0)
+    worst = float(np.min(dH))
+    if worst < 0 and reactant_mass > 0 and -worst / reactant_mass >= EXOTHERM_J_PER_G:
+        return float(T[int(np.argmin(dH))])
+    return None
+
+
+def exotherm_caution(
+    rxn: Reaction,
+    T: np.ndarray,
+    dH: np.ndarray,
+    adiabatic: tuple[float, tuple[float, float] | None, str] | None = None,
+) -> Caution | None:
+    """The strongly exothermic caution, or None when the heat release stays below
+    :data:`EXOTHERM_J_PER_G` per gram of reactants.
+
+    It quotes the adiabatic temperature of the undiluted stoichiometric feed fully converted.
+    ``adiabatic`` is that temperature (K), its 95 % interval from the draws of the data (or
+    None) and a sentence on the interval, when the caller has the draws
+    (:func:`feasibly.heat.cautions_with_draws`); without it the nominal value is computed here.
+    """
+    T = np.atleast_1d(np.asarray(T, dtype=float))
+    dH = np.atleast_1d(np.asarray(dH, dtype=float))
+    t_at = exotherm_temperature(rxn, T, dH)
+    if t_at is None:
+        return None
+    reactant_mass = sum(-t.nu * t.candidates[0].molar_mass for t in rxn.terms if t.nu < 0)
+    worst = float(np.min(dH))
+    per_gram = -worst / reactant_mass
+    return Caution(
+        "strongly exothermic",
+        f"Strongly exothermic: about {per_gram:,.0f} J released per gram of reactants "
+        f"(ΔrH° = {worst / 1000:,.1f} kJ/mol at {t_at:.0f} K). "
+        + _adiabatic_phrase(rxn, t_at, adiabatic)
+        + " Runaway or decomposition can follow; refer the step to process-safety review.",
+        f"-ΔrH°/m(reactants) = {per_gram:.0f} J/g ≥ {EXOTHERM_J_PER_G:.0f} J/g",
+    )
+
+
+#: Above this the products of combustion-like steps dissociate appreciably, so a complete-
+#: conversion temperature overstates what is reached (common practice, no source).
+_DISSOCIATION_K = 2500.0
+
+
+def _adiabatic_phrase(
+    rxn: Reaction, T: float, given: tuple[float, tuple[float, float] | None, str] | None = None
+) -> str:
     """The adiabatic temperature of the undiluted stoichiometric mixture fed at ``T`` and fully
-    converted, in words (the number a runaway approaches with no cooling and no dilution)."""
+    converted, in words (the number a runaway approaches with no cooling and no dilution), with
+    its 95 % interval when ``given`` carries one."""
     from .energy import adiabatic_temperature, reaction_streams, stream_enthalpy
 
-    feed = {t.label(): -t.nu for t in rxn.terms if t.nu < 0}
-    try:
-        inlet, outlet = reaction_streams(rxn, feed, 1.0)
-        T_ad = adiabatic_temperature(outlet, float(stream_enthalpy(inlet, T)[0]))
-    except OutsideDataRange as exc:
-        return (
-            f"Fed undiluted at {T:.0f} K and fully converted with no heat removed, the products "
-            f"would pass {exc.T_max:.0f} K, the upper end of their data."
-        )
+    lead = f"Fed undiluted at {T:.0f} K and fully converted with no heat removed, the products"
+    if given is None:
+        try:
+            inlet, outlet = reaction_streams(rxn, stoichiometric_feed(rxn), 1.0)
+            T_ad = adiabatic_temperature(outlet, float(stream_enthalpy(inlet, T)[0]))
+        except OutsideDataRange as exc:
+            return f"{lead} would pass {exc.T_max:.0f} K, the upper end of their data."
+        band, about = None, ""
+    else:
+        T_ad, band, about = given
+    if band is not None:
+        interval = f"95 % interval {band[0]:.0f}–{band[1]:.0f} K from the data's uncertainty"
+    else:
+        interval = ""
+    extra = (" " + about) if about else ""
     if T_ad > _DISSOCIATION_K:
         return (
-            f"Fed undiluted at {T:.0f} K and fully converted with no heat removed, the products "
-            f"would pass {_DISSOCIATION_K:.0f} K (complete conversion gives {T_ad:.0f} K, an "
-            "overestimate: that hot, products dissociate or boil and the reaction stops short)."
+            f"{lead} would pass {_DISSOCIATION_K:.0f} K (complete conversion gives {T_ad:.0f} K"
+            + (f", {interval}" if interval else "")
+            + ", an overestimate: that hot, products dissociate or boil and the reaction stops "
+            "short)." + extra
+        )
+    if interval:
+        return (
+            f"{lead} would reach about {T_ad:.0f} K ({interval}; a rise of {T_ad - T:.0f} K; "
+            "dilution, partial conversion and heat loss lower it)." + extra
         )
     return (
-        f"Fed undiluted at {T:.0f} K and fully converted with no heat removed, the products "
-        f"would reach about {T_ad:.0f} K (a rise of {T_ad - T:.0f} K; dilution, partial "
+        f"{lead} would reach about {T_ad:.0f} K (a rise of {T_ad - T:.0f} K; dilution, partial "
         "conversion and heat loss lower it; feasibly.heat.adiabatic_temperature gives it with "
-        "its interval)."
+        "its interval)." + extra
     )

@@ -12,6 +12,7 @@ from traitlets import Enum, Float, Instance, Int, Unicode
 
 from .. import figures
 from ..errors import FeasiblyError
+from ..heat import result_cautions
 from ..uncertainty import UncertainAssessment
 from ._common import (
     TEMPERATURE_UNITS,
@@ -220,7 +221,7 @@ class FeasibilityPanel(w.VBox):
 
     @staticmethod
     def _caution_html(r: UncertainAssessment) -> str:
-        found = figures.cautions(r)
+        found = result_cautions(r)  # the exotherm caution with its interval from r's draws
         if not found:
             return ""
         items = "".join(f"<li>{html.escape(m)}</li>" for m in found)
