@@ -4,7 +4,10 @@
   Benson group additivity (needs RDKit: the ``estimate`` extra), with symmetry and
   stereoisomer terms, a NASA-7 fit of Cp, and standard uncertainties from the calibration
   against ATcT and NIST WebBook values in ``data/``; the estimate becomes a species entry with
-  ``estimated`` provenance that every call accepts.
+  ``estimated`` provenance that every call accepts;
+- :mod:`~feasibly.estimation.solids` — Cp of an inorganic solid by the Neumann–Kopp rule, with
+  its uncertainty calibrated against the library's tabulated solids; ΔfH° and S° stay the
+  user's (no ionic-contribution S° table with shippable terms was available).
 
 Layer rule: imports the foundation modules and :mod:`feasibly.library`; never thermo's callers
 above it. Records, the command line and widgets import this wing, never the reverse. RDKit is
@@ -20,13 +23,19 @@ from .gas import (
     nominal_gas,
     uncertainty_rule,
 )
+from .solids import NK_ORIGIN, NeumannKopp, estimate_solid, neumann_kopp, neumann_kopp_rule
 
 __all__ = [
     "GROUP_SET",
+    "NK_ORIGIN",
     "ORIGIN",
     "GasEstimate",
+    "NeumannKopp",
     "estimate_gas",
+    "estimate_solid",
     "group_set",
+    "neumann_kopp",
+    "neumann_kopp_rule",
     "nominal_gas",
     "uncertainty_rule",
 ]

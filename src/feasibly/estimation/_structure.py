@@ -247,6 +247,12 @@ def type_structure(smiles: str, data: dict[str, Any]) -> Typing:
     mol = parse(smiles)
     Chem.AssignStereochemistry(mol, cleanIt=True, force=True)
     canonical = str(Chem.MolToSmiles(Chem.RemoveHs(mol)))
+    # Work on the molecule re-read from its canonical SMILES: the atom order (and with it the
+    # conformers the symmetry number is taken from) then does not depend on how it was written.
+    again = Chem.MolFromSmiles(canonical)
+    if again is not None:
+        mol = Chem.AddHs(again)
+        Chem.AssignStereochemistry(mol, cleanIt=True, force=True)
     typing = Typing(mol=mol, smiles=canonical)
     typing.reasons += _domain(mol, Chem)
     if typing.reasons:

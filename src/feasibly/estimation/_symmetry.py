@@ -20,7 +20,7 @@ __all__: list[str] = []
 
 #: Conformers tried: enough to reach the all-anti chain or the chair of the small molecules the
 #: group set covers; the count is the maximum over them.
-_CONFORMERS = 6
+_CONFORMERS = 10
 #: RMSD (Å) under which a permuted conformer is the same geometry: force-field minima agree to
 #: about 1e-3 Å; a genuinely different arrangement differs by tenths of an Å or more.
 _RMSD_TOL = 0.05

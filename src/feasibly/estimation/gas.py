@@ -150,7 +150,7 @@ class GasEstimate:
     def entry(self) -> dict[str, Any]:
         """The species entry (``feasibly-species`` schema) of this estimate."""
         source = f"{ORIGIN}: {group_set()['provenance']['package']} Benson group values"
-        unc_source = "calibration: data/group-additivity-uncertainty.json"
+        unc_source = f"{ORIGIN}; u calibrated in group-additivity-uncertainty.json"
 
         def block(value: float, u: float, what: str) -> dict[str, Any]:
             return {
