@@ -13,6 +13,7 @@ import csv
 import io
 import json
 import math
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -20,7 +21,7 @@ import pytest
 from feasibly._files import data_text
 
 Z95 = 1.959963984540054  # scipy.stats.norm.ppf(0.975)
-ROOT = __import__("pathlib").Path(__file__).resolve().parents[2]
+ROOT = Path(__file__).resolve().parents[2]
 ROWS = list(
     csv.DictReader(
         io.StringIO((ROOT / "data" / "group-additivity-calibration.csv").read_text("utf-8"))
