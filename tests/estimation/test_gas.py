@@ -144,10 +144,13 @@ def test_unreadable_smiles_is_invalid_input(bad: object) -> None:
         estimate_gas(bad)  # type: ignore[arg-type]
 
 
-def test_bad_labels_are_refused() -> None:
+def test_bad_labels_and_names_are_refused() -> None:
     for label in ("", "has space", "x" * 41, "a)b"):
         with pytest.raises(InvalidInput, match="label"):
             estimate_gas("CCO", label=label)
+    for name in ("ethanol\x1b]52;c;aGk=\x07", "x" * 121):
+        with pytest.raises(InvalidInput, match="name"):
+            estimate_gas("CCO", name=name)
 
 
 def test_the_entry_carries_estimated_provenance_and_is_usable() -> None:

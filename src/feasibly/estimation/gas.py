@@ -370,6 +370,8 @@ def estimate_gas(smiles: str, *, name: str = "", label: str = "estimated") -> Ga
     label = _label(label)
     if not isinstance(name, str) or len(name) > 120:
         raise InvalidInput("name", "estimate_gas", "a name of at most 120 characters", name)
+    if any(not ch.isprintable() for ch in name):
+        raise InvalidInput("name", "estimate_gas", "printable text (no control characters)", name)
     nominal = nominal_gas(smiles)
     rule = uncertainty_rule()
     cls = rule["classes"].get(nominal["class"]) or rule["classes"]["pooled"]
