@@ -66,3 +66,38 @@ def test_refusals_exit_2_with_the_reason(
 def test_write_needs_a_json_path(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
     assert main(["estimate", "CCO", "--write", str(tmp_path / "x.txt")]) == 2
     assert "--write" in capsys.readouterr().err
+
+
+def test_a_record_with_estimated_species_passes_feasibly_verify(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
+    alcohol, ketone = tmp_path / "alcohol.json", tmp_path / "ketone.json"
+    assert main(["estimate", "CC(O)CC(C)C", "--write", str(alcohol)]) == 0
+    assert main(["estimate", "CC(C)CC(C)=O", "--write", str(ketone)]) == 0
+    record = tmp_path / "call.json"
+    code = main(
+        [
+            "assess",
+            "C6H14O(g,estimated) -> C6H12O(g,estimated) + H2",
+            "--T",
+            "750 K",
+            "--species-file",
+            str(alcohol),
+            "--species-file",
+            str(ketone),
+            "--samples",
+            "4096",  # small for speed: verification is bitwise at any N
+            "--seed",
+            "5",
+            "--record",
+            str(record),
+        ]
+    )
+    assert code == 0, capsys.readouterr()
+    doc = json.loads(record.read_text("utf-8"))
+    rows = doc["results"]["uncertainty"]["sensitivity"]
+    assert any(r["source"].startswith("estimated") for r in rows)
+    alcohol.unlink()  # verification needs only the record
+    ketone.unlink()
+    capsys.readouterr()
+    assert main(["verify", str(record)]) == 0, capsys.readouterr().out
