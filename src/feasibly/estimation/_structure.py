@@ -24,8 +24,8 @@ from ..errors import InvalidInput, NotEstimable
 __all__: list[str] = []
 
 METHOD = "Benson group additivity"
-#: Longest SMILES read: the largest molecule the group set is meant for is far shorter; this
-#: bounds the parser's and the symmetry search's work (the limits module's reason, for SMILES).
+#: Longest SMILES read: the molecules the group set is calibrated on are written in under 80
+#: characters; the bound keeps the parser's and the symmetry search's work small.
 MAX_SMILES_CHARS = 400
 #: Heavy atoms: group additivity is calibrated on molecules of up to about 20 heavy atoms; 60
 #: bounds the automorphism search of the symmetry number.
