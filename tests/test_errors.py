@@ -31,6 +31,7 @@ INSTANCES = [
     errors.RecordError("run.json", ["field seed: missing"]),
     errors.EquilibriumNotConverged("equilibrate", ["T = 900 K, P = 1 bar"], "hint"),
     errors.ExportError("a figure as PNG/SVG", "no Chromium browser was found", "Install one."),
+    errors.NotEstimable("C1CC1=C", "group additivity", ["no group C[a]"], ["C[a]"]),
 ]
 
 

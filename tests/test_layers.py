@@ -33,6 +33,7 @@ LEVELS: dict[str, int] = {
     "conditions": 3,
     "thermo": 4,
     "uncertainty": 5,
+    "estimation": 5,
     "equilibrium": 6,
     "figures": 6,
     "heat": 7,

@@ -11,7 +11,8 @@ public step modules and private solvers, and imports only the wings below it:
 4     :mod:`feasibly.thermo` — equations, ΔrX°(T), K, crossovers, the screen of one reaction,
       cautions
 5     :mod:`feasibly.uncertainty` — uncertain inputs, draws, linear propagation, summaries, the
-      call with its probability, routes
+      call with its probability, routes · :mod:`feasibly.estimation` (group-additivity
+      estimates of species no table has, with calibrated uncertainty)
 6     :mod:`feasibly.equilibrium` (extent, conversion, Gibbs minimisation) ·
       :mod:`feasibly.figures` (pure functions from results to plotly figures)
 7     :mod:`feasibly.heat` (heat duty and adiabatic temperature with their intervals) ·
@@ -52,6 +53,7 @@ if TYPE_CHECKING:
         InvalidTemperature,
         InvalidUncertainty,
         MissingCondensedPhase,
+        NotEstimable,
         OutsideDataRange,
         ReactionSyntaxError,
         RecordError,
@@ -59,6 +61,7 @@ if TYPE_CHECKING:
         UnitError,
         UnknownSpecies,
     )
+    from .estimation import GasEstimate, estimate_gas
     from .library.catalogue import Library, default_library, standard_uncertainty
     from .library.formula import parse_formula, pretty_formula
     from .library.species import Species
@@ -98,6 +101,9 @@ _LAZY = {
     "InvalidUncertainty": ".errors",
     "Library": ".library.catalogue",
     "MissingCondensedPhase": ".errors",
+    "NotEstimable": ".errors",
+    "GasEstimate": ".estimation",
+    "estimate_gas": ".estimation",
     "OutsideDataRange": ".errors",
     "Override": ".uncertainty.inputs",
     "Q_": ".units",
@@ -147,11 +153,13 @@ __all__ = [
     "ExportError",
     "ExtentEquilibrium",
     "FeasiblyError",
+    "GasEstimate",
     "InvalidInput",
     "InvalidTemperature",
     "InvalidUncertainty",
     "Library",
     "MissingCondensedPhase",
+    "NotEstimable",
     "OutsideDataRange",
     "Override",
     "Reaction",
@@ -175,6 +183,7 @@ __all__ = [
     "default_library",
     "equilibrate",
     "equilibrium_extent",
+    "estimate_gas",
     "load_record",
     "make_record",
     "parse_formula",

@@ -25,6 +25,7 @@ __all__ = [
     "InvalidTemperature",
     "InvalidUncertainty",
     "MissingCondensedPhase",
+    "NotEstimable",
     "OutsideDataRange",
     "ReactionSyntaxError",
     "RecordError",
@@ -331,4 +332,27 @@ class ExportError(FeasiblyError, RuntimeError):
         self.reason = reason
         self.remedy = remedy
         msg = f"Cannot export {what}: {reason}. {remedy}"
+        super().__init__(msg)
+
+
+class NotEstimable(FeasiblyError, ValueError):
+    """A structure (or formula) outside what an estimation method covers, refused with why.
+
+    ``structure`` is what was given, ``method`` the method asked for, ``reasons`` every reason
+    it is outside (each a sentence) and ``missing`` the group or correction names the method's
+    tables lack (may be empty). Nothing is estimated silently: the message says what to do.
+    """
+
+    def __init__(
+        self, structure: str, method: str, reasons: Sequence[str], missing: Sequence[str] = ()
+    ) -> None:
+        self.structure = structure
+        self.method = method
+        self.reasons = list(reasons)
+        self.missing = list(missing)
+        msg = (
+            f"{method} cannot estimate {excerpt(structure)}: "
+            + "; ".join(self.reasons)
+            + ". Supply measured or tabulated values for it in a species file instead."
+        )
         super().__init__(msg)

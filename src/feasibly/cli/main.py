@@ -22,6 +22,7 @@ from ._terminal import (
 from .assess import register as register_assess
 from .ellingham import register as register_ellingham
 from .equilibrate import register as register_equilibrate
+from .estimate import register as register_estimate
 from .screen import register as register_screen
 from .species import register as register_species
 from .verify import register as register_verify
@@ -64,6 +65,7 @@ def build_parser() -> argparse.ArgumentParser:
     register_equilibrate(sub)
     register_ellingham(sub)
     register_screen(sub)
+    register_estimate(sub)
     return parser
 
 

@@ -10,6 +10,8 @@ composable; each has one private observer, called once at construction and regis
 - :class:`TemperatureControl` — slider plus exact entry in K, °C or °F, inside the data range;
 - :class:`UncertaintyInput` — value ± uncertainty with unit, coverage, distribution and a reason;
 - :class:`SpeciesEstimate` — a species no table has, from an estimate, as a user library entry;
+- :class:`StructureEstimate` — a gas no table has, estimated from its SMILES (group additivity),
+  with its groups, calibrated uncertainties or the reason it is refused;
 - :class:`Conditions` — total pressure and partial pressures;
 - :class:`FeasibilityPanel` — the figures, the verdict in words and the cautions;
 - :class:`ConversionTarget` — a required conversion as criterion: where and how surely it is met;
@@ -31,6 +33,7 @@ from .panel import FeasibilityPanel
 from .reaction import ReactionBuilder
 from .record import RecordExport
 from .species import SpeciesPicker
+from .structure import StructureEstimate
 from .temperature import TemperatureControl
 from .uncertainty import SpeciesEstimate, UncertaintyInput
 from .worksheet import FeasibilityWorksheet
@@ -45,6 +48,7 @@ __all__ = [
     "ResultExport",
     "SpeciesEstimate",
     "SpeciesPicker",
+    "StructureEstimate",
     "TemperatureControl",
     "UncertaintyInput",
 ]

@@ -1,0 +1,171 @@
+"""Heat capacity of an inorganic solid by the Neumann–Kopp rule, with calibrated uncertainty.
+
+Cp°(compound, 298.15 K) ≈ Σ n_e · Cp°(element e in its reference state, 298.15 K), the elements'
+Cp taken from the shipped library's reference-state entries (per atom: ½ O2(g) for O). The
+relative standard uncertainty comes from the comparison with the CRC Handbook's Cp° of the
+inorganic solids in ``chemicals`` (``data/calibrate_neumann_kopp.py`` writes the table and
+``neumann-kopp-uncertainty.json``). The rule is calibrated at 298.15 K only, so an entry made
+from it is constant-Cp and limited to a short range above room temperature (see
+:func:`estimate_solid`).
+
+No S° rule is offered: the published ionic-contribution (Latimer-type) tables could not be
+obtained here from a source whose terms allow shipping them, so ΔfH° and S° of a solid are the
+user's, with their sources; only Cp is estimated.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from dataclasses import dataclass
+from functools import cache
+from typing import Any
+
+import numpy as np
+
+from .._files import data_text
+from ..errors import InvalidInput, NotEstimable
+from ..library import Library, default_library
+from ..library.cp_models import T_REF
+from ..library.formula import parse_formula
+
+__all__ = ["NK_ORIGIN", "NeumannKopp", "estimate_solid", "neumann_kopp", "neumann_kopp_rule"]
+
+NK_ORIGIN = "estimated (Neumann–Kopp)"
+#: Highest temperature an entry made from the 298.15 K rule is given for: Cp of solids rises
+#: by typically 10–20 % from 298 K to 600 K, beyond the calibrated 298 K spread (common
+#: practice, no source); the user may choose lower, not higher.
+MAX_T_SOLID = 600.0
+
+
+@cache
+def neumann_kopp_rule() -> dict[str, Any]:
+    """The calibrated relative uncertainty of the rule and its figures."""
+    return dict(json.loads(data_text("neumann-kopp-uncertainty.json")))
+
+
+@dataclass(frozen=True)
+class NeumannKopp:
+    """A Neumann–Kopp sum: Cp°(298.15 K), its standard uncertainty and the element terms."""
+
+    formula: str
+    cp298: float
+    u_cp298: float
+    u_rel: float
+    contributions: tuple[tuple[str, float, str, float], ...]  # (element, count, entry, Cp/atom)
+
+
+def _element_cp(library: Library) -> dict[str, tuple[str, float]]:
+    out = {}
+    for sp in library:
+        el = sp.reference_state_of
+        if el is None or sp.origin != "library":
+            continue
+        atoms = sp.elements.get(el, 1.0)
+        out[el] = (sp.id, float(sp.cp(np.array([T_REF]))[0]) / atoms)
+    return out
+
+
+def neumann_kopp(formula: str, library: Library | None = None) -> NeumannKopp:
+    """Cp°(298.15 K) of a solid of this formula by the Neumann–Kopp rule."""
+    parsed = parse_formula(formula)
+    if parsed.charge:
+        raise NotEstimable(formula, "Neumann–Kopp", ["it is charged; the rule is for compounds"])
+    if len(parsed.elements) < 2:
+        raise NotEstimable(formula, "Neumann–Kopp", ["it is an element; use its library entry"])
+    table = _element_cp(library or default_library())
+    missing = sorted(el for el in parsed.elements if el not in table)
+    if missing:
+        raise NotEstimable(
+            formula,
+            "Neumann–Kopp",
+            [f"the library has no reference-state entry for {', '.join(missing)}"],
+            missing,
+        )
+    terms = tuple(
+        (el, float(n), table[el][0], table[el][1]) for el, n in sorted(parsed.elements.items())
+    )
+    cp = float(sum(n * c for _, n, _, c in terms))
+    u_rel = float(neumann_kopp_rule()["u_rel"])
+    return NeumannKopp(formula, cp, u_rel * cp, u_rel, terms)
+
+
+def _pair(value: Any, name: str, limit: float) -> tuple[float, float]:
+    ok = (
+        isinstance(value, tuple)
+        and len(value) == 2
+        and all(isinstance(v, (int, float)) and math.isfinite(v) for v in value)
+        and abs(value[0]) <= limit
+        and value[1] >= 0
+    )
+    if not ok:
+        raise InvalidInput(
+            name,
+            "estimate_solid",
+            "a pair (value, standard uncertainty) of finite numbers in SI units, u ≥ 0",
+            value,
+        )
+    return float(value[0]), float(value[1])
+
+
+def estimate_solid(
+    formula: str,
+    *,
+    dHf_J_per_mol: tuple[float, float],
+    S298_J_per_mol_K: tuple[float, float],
+    source: str,
+    T_max: float = 500.0,
+    name: str = "",
+    label: str = "estimated",
+    library: Library | None = None,
+) -> Library:
+    """``library`` (the shipped one by default) with a solid entry ``FORMULA(cr,LABEL)`` whose
+    ΔfH° and S° (value, standard u) are the user's, named by ``source``, and whose Cp is the
+    constant Neumann–Kopp value with its calibrated uncertainty, valid 298.15 K to ``T_max``
+    (at most 600 K)."""
+    dHf = _pair(dHf_J_per_mol, "dHf_J_per_mol", 1e7)
+    S = _pair(S298_J_per_mol_K, "S298_J_per_mol_K", 1e4)
+    if not isinstance(source, str) or not source.strip():
+        raise InvalidInput("source", "estimate_solid", "where ΔfH° and S° came from", source)
+    if not isinstance(T_max, (int, float)) or not T_REF < T_max <= MAX_T_SOLID:
+        raise InvalidInput(
+            "T_max",
+            "estimate_solid",
+            f"a temperature in K above 298.15 and ≤ {MAX_T_SOLID:g}",
+            T_max,
+        )
+    base = library or default_library()
+    nk = neumann_kopp(formula, base)
+    terms = "; ".join(f"{el} × {n:g} from {entry}: {c:.2f}" for el, n, entry, c in nk.contributions)
+    entry = {
+        "id": f"{formula}(cr,{label})",
+        "formula": formula,
+        "phase": "cr",
+        "form": label,
+        "names": [name] if name else [],
+        "T_range_K": [T_REF, float(T_max)],
+        "dHf_298": {"value": dHf[0], "u": dHf[1], "source": source, "entry": formula},
+        "S_298": {"value": S[0], "u": S[1], "source": source, "entry": formula},
+        "cp": {
+            "model": "constant",
+            "cp_J_per_mol_K": nk.cp298,
+            "u_rel": nk.u_rel,
+            "source": NK_ORIGIN,
+            "entry": f"Σ element Cp°(298.15 K): {terms}",
+            "uncertainty": {
+                "stated": nk.u_rel,
+                "convention": "standard",
+                "source": f"{NK_ORIGIN}; u calibrated in neumann-kopp-uncertainty.json",
+                "assumed": False,
+            },
+        },
+        "notes": [
+            f"Cp° by the Neumann–Kopp rule ({terms} J/(mol·K) per atom), constant over the "
+            f"range; ΔfH° and S° from: {source}",
+        ],
+    }
+    doc = {"schema": "feasibly-species", "schema_version": 1, "species": [entry]}
+    mine = Library.from_text(
+        json.dumps(doc, ensure_ascii=False), f"estimate of {formula}", NK_ORIGIN
+    )
+    return base.with_species(mine)
