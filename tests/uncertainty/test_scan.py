@@ -389,3 +389,19 @@ def test_summary_of_many_species_is_numpys(keep: bool, monkeypatch: pytest.Monke
     np.testing.assert_array_equal(s.p_below * samples.n, (g < 0).sum(axis=1))
     np.testing.assert_allclose(s.mean, g.mean(axis=1), rtol=1e-12, atol=1e-9)
     np.testing.assert_allclose(s.u, g.std(axis=1, ddof=1), rtol=1e-10)
+
+
+def test_summary_is_the_same_bits_whatever_the_number_of_threads(
+    monkeypatch: pytest.MonkeyPatch,
+) -> None:
+    # A record made on a four-core machine must verify on a two-core one: the moments are summed
+    # over fixed parts of the trials, the counts are integers and the kept values are sorted.
+    model, samples = _pieces_model(40_000, 44)
+    results = []
+    for threads in (1, 2, 4):
+        monkeypatch.setattr(_selection, "workers", lambda t=threads: t)
+        s = summarise(model, samples, "G", 0.0)
+        results.append((s.mean, s.u, s.lo, s.median, s.hi, s.lo_se, s.p_below))
+    for other in results[1:]:
+        for a, b in zip(results[0], other, strict=True):
+            np.testing.assert_array_equal(a, b)

@@ -354,24 +354,30 @@ _KEEP_SHARE = 0.5
 _Z_BLOCK = 16384
 
 
-def _thread_edges(n: int) -> np.ndarray:
-    """Trial ranges of the worker threads: whole chunks each, at least 4096 trials a thread
-    (below that a second thread costs more to start than it saves)."""
-    threads = max(1, min(workers(), n // 4096))
+# The trials are cut into this many parts (fewer below 4096 trials a part), whatever the number
+# of cores: the moments are summed part by part in a fixed order, so they are the same bits on
+# every machine; worker threads take the parts in turn.
+_PARTS = 4
+
+
+def _part_edges(n: int) -> np.ndarray:
+    """Trial ranges of the parts: whole multiples of ``_CHUNK_TRIALS`` each (but the last), at
+    least 4096 trials a part (below that a second thread costs more to start than it saves)."""
+    parts = max(1, min(_PARTS, n // 4096))
     chunks = -(-n // _CHUNK_TRIALS)
-    edges = (np.arange(threads + 1) * chunks // threads) * _CHUNK_TRIALS
+    edges = (np.arange(parts + 1) * chunks // parts) * _CHUNK_TRIALS
     edges[-1] = n
     return edges
 
 
-Blocks = Callable[[int], Iterator[tuple[np.ndarray, int, int]]]
+Blocks = Callable[[int], Iterator[tuple[int, np.ndarray, int, int]]]
 
 
 def _z_blocks(
-    factors: Factors, x: np.ndarray, edges: np.ndarray, keep: bool
-) -> tuple[Blocks, list[np.ndarray | None]]:
-    """``blocks(t)``: thread t's trials of z, as (array, first trial, end) in that array. With
-    ``keep`` each thread's z is formed once, whole, and kept (in the returned list)."""
+    factors: Factors, x: np.ndarray, edges: np.ndarray, threads: int, keep: bool
+) -> Blocks:
+    """``blocks(t)``: thread t's trials of z, as (part, array, first trial, end) in that array.
+    With ``keep`` each part's z is formed once, whole, and kept for the next pass."""
     right = factors.right
     rz = factors.rows_of_z()
     kept: list[np.ndarray | None] = [None] * (edges.size - 1)
@@ -383,21 +389,20 @@ def _z_blocks(
         z[: x.shape[0]] = x[:, s:e]
         return z
 
-    def blocks(t: int) -> Iterator[tuple[np.ndarray, int, int]]:
-        a, b = int(edges[t]), int(edges[t + 1])
-        z = kept[t]
-        if z is not None:
-            yield z, 0, b - a
-            return
-        if keep:
-            kept[t] = z = form(a, b)
-            yield z, 0, b - a
-            return
-        for s in range(a, b, _Z_BLOCK):
-            e = min(s + _Z_BLOCK, b)
-            yield form(s, e), 0, e - s
+    def blocks(t: int) -> Iterator[tuple[int, np.ndarray, int, int]]:
+        for part in range(t, edges.size - 1, threads):
+            a, b = int(edges[part]), int(edges[part + 1])
+            z = kept[part]
+            if z is None and keep:
+                kept[part] = z = form(a, b)
+            if z is not None:
+                yield part, z, 0, b - a
+                continue
+            for s in range(a, b, _Z_BLOCK):
+                e = min(s + _Z_BLOCK, b)
+                yield part, form(s, e), 0, e - s
 
-    return blocks, kept
+    return blocks
 
 
 def factored_statistics(
@@ -422,20 +427,22 @@ def factored_statistics(
     kernels = kernels or _scan.scan_kernel()
     left, zoff = factors.left, factors.zoff
     rz, n = factors.rows_of_z(), x.shape[1]
-    edges = _thread_edges(n)
-    threads = edges.size - 1
-    blocks, _ = _z_blocks(factors, x, edges, keep=rz * n * 8 <= _KEEP_SHARE * x.nbytes)
-    sums = np.zeros((threads, rz))
-    grams = np.zeros((threads, rz, rz))
+    edges = _part_edges(n)
+    parts = edges.size - 1
+    threads = min(workers(), parts)
+    blocks = _z_blocks(factors, x, edges, threads, keep=rz * n * 8 <= _KEEP_SHARE * x.nbytes)
+    sums = np.zeros((parts, rz))
+    grams = np.zeros((parts, rz, rz))
 
     def moments(t: int) -> None:
-        for z, _, _ in blocks(t):
-            sums[t] += z.sum(axis=1)
-            grams[t] += z @ z.T
+        for part, z, _, _ in blocks(t):
+            sums[part] += z.sum(axis=1)
+            grams[part] += z @ z.T
 
     run_parallel(moments, threads)
-    zbar = sums.sum(axis=0) / n
-    cov = (grams.sum(axis=0) / n - np.outer(zbar, zbar)) * (n / (n - 1))
+    # Summed part by part in order: the same bits whatever the number of threads.
+    zbar = np.add.reduce(sums, axis=0) / n
+    cov = (np.add.reduce(grams, axis=0) / n - np.outer(zbar, zbar)) * (n / (n - 1))
     at = zoff[:, None] + np.arange(left.shape[1])[None, :]
     mean = nominal + np.einsum("ij,ij->i", left, zbar[at])
     var = np.einsum("ij,ijk,ik->i", left, cov[at[:, :, None], at[:, None, :]], left)
@@ -483,14 +490,15 @@ def streamed_statistics(
     if scale is None:
         scale = x.std(axis=1)
     factors = factor_rows(coef, scale)
-    edges = _thread_edges(x.shape[1])
-    blocks, _ = _z_blocks(factors, x, edges, keep=False)
+    edges = _part_edges(x.shape[1])
+    threads = min(workers(), edges.size - 1)
+    blocks = _z_blocks(factors, x, edges, threads, keep=False)
     return _statistics_by_pass(
         kernels,
         factors.left,
         factors.zoff,
         blocks,
-        edges.size - 1,
+        threads,
         coef,
         nominal,
         x,
@@ -505,7 +513,7 @@ def _statistics_by_pass(
     kernels: Kernels,
     left: np.ndarray,
     zoff: np.ndarray,
-    blocks: Callable[[int], Iterator[tuple[np.ndarray, int, int]]],
+    blocks: Blocks,
     threads: int,
     coef: np.ndarray,
     nominal: np.ndarray,
@@ -568,7 +576,7 @@ def _stream_rows(
     kernels: Kernels,
     left: np.ndarray,
     zoff: np.ndarray,
-    blocks: Callable[[int], Iterator[tuple[np.ndarray, int, int]]],
+    blocks: Blocks,
     threads: int,
     coef: np.ndarray,
     nominal: np.ndarray,
@@ -579,7 +587,7 @@ def _stream_rows(
     thresholds: np.ndarray,
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """One pass of rows and at most three probabilities: thread t scans the blocks of z that
-    ``blocks(t)`` gives (z, first trial, end) with the rows ``left`` reading from ``zoff``."""
+    ``blocks(t)`` gives (part, z, first trial, end) with the rows ``left`` reading from ``zoff``."""
     from ._scan import BRACKETS
 
     bind, gather = kernels
@@ -612,7 +620,7 @@ def _stream_rows(
     thresholds = np.ascontiguousarray(thresholds)
 
     def scan(t: int) -> None:
-        for zb, a, b in blocks(t):
+        for _, zb, a, b in blocks(t):
             run = bind(
                 zb,
                 zoff,
