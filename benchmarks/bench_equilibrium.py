@@ -12,7 +12,8 @@ the range, P log-uniform, and a different feed in every state, so no state can s
 another's answer. Both codes start every state cold:
 
   feasibly  the composition kernel (feasibly.equilibrium.composition) on all states at once,
-            no warm start: G°/RT of every entry at each state's T, then one vectorised solve
+            no warm start from another state: G°/RT of every entry at each state's T, then one
+            vectorised solve, each gas-only state starting from its own feed
   cantera   ct.Solution.equilibrate("TP") per state (gas only), or a ct.Mixture of the gas and
             a fixed-stoichiometry graphite phase with equilibrate("TP", solver="vcs") (Cantera's
             multiphase solver; "gibbs" where VCS fails), looped over --ct-states of the states
@@ -102,8 +103,9 @@ def bench_system(name, system, args, lib, refs, ct, rng) -> None:  # type: ignor
     gas = sset.gas
 
     def run_feasibly() -> tuple[np.ndarray, np.ndarray]:
+        # As equilibrate() does: each state may start from its own feed (gas-only systems).
         avail = se._availability(sset, T)
-        prep = se._Prepared(sset, T, P, b, avail)
+        prep = se._Prepared(sset, T, P, b, avail, se._feed_amounts(feed, sset, args.states))
         amounts, ok, _ = se._solve(prep, se._gibbs_rt(sset, T, avail))
         return amounts, ok
 
