@@ -51,7 +51,7 @@ scan_chunk(int64_t k_all, int64_t ld, int64_t m, int64_t rows, int64_t cap, cons
            const int64_t *zoff, const double *coef, const double *nominal,
            const double *threshold, const double *lo, const double *hi,
            int64_t *below_threshold, int64_t *below, int64_t *filled, double *values,
-           v4d *av)
+           v4d *av, v4d *vbuf)
 {
     for (int64_t r = 0; r < rows; r++) {
         const double *a = coef + r * k_all;
@@ -68,18 +68,24 @@ scan_chunk(int64_t k_all, int64_t ld, int64_t m, int64_t rows, int64_t cap, cons
         int64_t k[NB] = {filled[r * NB], filled[r * NB + 1], filled[r * NB + 2]};
         double *const out[NB] = {values + (r * NB) * cap, values + (r * NB + 1) * cap,
                                  values + (r * NB + 2) * cap};
-        int64_t i = 0;
-        for (; i + 4 <= m; i += 4) {
-            v4d v = {0, 0, 0, 0};
-            for (int64_t kb = 0; kb < k_all; kb += 8) {
-                const double *z = zr + kb * ld + i;
-                const v4d *w = av + kb;
-                const v4d s = w[0] * load4(z) + w[1] * load4(z + ld) + w[2] * load4(z + 2 * ld) +
-                              w[3] * load4(z + 3 * ld) + w[4] * load4(z + 4 * ld) +
-                              w[5] * load4(z + 5 * ld) + w[6] * load4(z + 6 * ld) +
-                              w[7] * load4(z + 7 * ld);
-                v = kb == 0 ? s : v + s;
+        /* The sums of the blocks of eight inputs are accumulated in vbuf, one block at a time
+         * over the chunk (eight input rows read in sequence: reading every row at once thrashes
+         * the caches beyond one block); then every output is counted and kept. */
+        const int64_t m4 = m / 4 * 4;
+        for (int64_t kb = 0; kb < k_all; kb += 8) {
+            const double *z = zr + kb * ld;
+            const v4d *w = av + kb;
+            for (int64_t i = 0; i < m4; i += 4) {
+                const v4d s = w[0] * load4(z + i) + w[1] * load4(z + ld + i) +
+                              w[2] * load4(z + 2 * ld + i) + w[3] * load4(z + 3 * ld + i) +
+                              w[4] * load4(z + 4 * ld + i) + w[5] * load4(z + 5 * ld + i) +
+                              w[6] * load4(z + 6 * ld + i) + w[7] * load4(z + 7 * ld + i);
+                vbuf[i / 4] = kb == 0 ? s : vbuf[i / 4] + s;
             }
+        }
+        int64_t i = 0;
+        for (; i < m4; i += 4) {
+            const v4d v = vbuf[i / 4];
             const v4d x = v + G;
             const v4i b0 = x < L0, b1 = x < L1, b2 = x < L2;
             ct -= x < T;
@@ -137,12 +143,14 @@ void feasibly_scan(int64_t k_all, int64_t ld, int64_t start, int64_t stop, int64
 {
     /* Trials start .. stop of the inputs zall (rows of length ld), CHUNK at a time (the chunk's
      * inputs stay in L1 while every row reads them); output row r reads the k_all input rows
-     * from zoff[r] on. room holds 4 k_all + 4 doubles: the broadcast coefficients, aligned. */
+     * from zoff[r] on. room holds 4 k_all + 4 + CHUNK doubles: the broadcast coefficients,
+     * aligned, and the sums of a chunk. */
     v4d *av = (v4d *)(((uintptr_t)room + 31) & ~(uintptr_t)31);
+    v4d *vbuf = av + k_all;
     for (int64_t c0 = start; c0 < stop; c0 += CHUNK) {
         const int64_t m = stop - c0 < CHUNK ? stop - c0 : CHUNK;
         scan_chunk(k_all, ld, m, rows, cap, zall + c0, zoff, coef, nominal, threshold, lo, hi,
-                   below_threshold, below, filled, values, av);
+                   below_threshold, below, filled, values, av, vbuf);
     }
 }
 

@@ -170,6 +170,10 @@ def _address(a: np.ndarray, dtype: type, writeable: bool = False) -> int:
     return int(a.ctypes.data)
 
 
+#: Trials per chunk of the compiled scan (CHUNK in _scan.c; the kernel's work space holds one).
+_KERNEL_CHUNK = 256
+
+
 def _bind_compiled(
     z: np.ndarray,
     zoff: np.ndarray,
@@ -202,7 +206,8 @@ def _bind_compiled(
     f64 = np.float64
     lib = _compiled()
     assert lib is not None
-    room = np.empty(4 * k + 4)  # the broadcast coefficients, aligned by the kernel
+    # The broadcast coefficients (aligned by the kernel) and the sums of one chunk of trials.
+    room = np.empty(4 * k + 4 + _KERNEL_CHUNK)
     args = (
         _address(z, f64),
         _address(zoff, np.int64),
