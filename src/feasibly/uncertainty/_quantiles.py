@@ -589,6 +589,7 @@ def _stream_rows(
     stds: np.ndarray,
     probs: tuple[float, ...],
     thresholds: np.ndarray,
+    widen: float = 1.0,
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """One pass of rows and at most three probabilities: thread t scans the blocks of z that
     ``blocks(t)`` gives (part, z, first trial, end) with the rows ``left`` reading from ``zoff``."""
@@ -601,7 +602,7 @@ def _stream_rows(
     spread = np.where(usable, stds, 0.0)
     z = np.array([pl.z for pl in plans])
     guess = np.where(usable, means, 0.0)[:, None] + spread[:, None] * z[None, :]
-    half = spread[:, None] * np.array([pl.half for pl in plans])[None, :]
+    half = spread[:, None] * np.array([pl.half * widen for pl in plans])[None, :]
     lo_edge = np.full((rows, BRACKETS), np.inf)  # padding brackets [+inf, +inf] hold nothing
     hi_edge = np.full((rows, BRACKETS), np.inf)
     lo_edge[:, : len(probs)] = guess - half
@@ -612,7 +613,7 @@ def _stream_rows(
     # Expected values inside a bracket for a normal output: 2 × half-width × density
     # = 2 × 1.5 × (rank span + 8). Each thread's buffer holds twice its share plus slack; a row
     # whose bracket needs more is recomputed whole.
-    expected = max(2 * _WIDTH_FACTOR * (pl.span + 8) for pl in plans)
+    expected = max(2 * _WIDTH_FACTOR * (pl.span + 8) for pl in plans) * widen
     cap = int(2 * expected / threads) + 64
     values = np.empty((threads, rows, BRACKETS, cap))
     filled = np.zeros((threads, rows, BRACKETS), dtype=np.int64)
@@ -661,7 +662,18 @@ def _stream_rows(
         at = np.take_along_axis(kept, np.clip(local, 0, kept.shape[1] - 1), axis=1)
         with np.errstate(invalid="ignore"):  # rows that are not ok hold inf; recomputed below
             q[:, j], e[:, j] = _quantile(dict(zip(plan.ranks, at.T, strict=True)), n, plan)
-    redo = np.flatnonzero(~ok)
+    retry = np.flatnonzero(~ok & usable)
+    if retry.size and widen < 4.0**_MAX_WIDENINGS:
+        # The normal guess missed (a far-from-normal output, or at 10^6 trials brackets of
+        # under 0.01 standard deviations): scan those rows again with brackets four times wider,
+        # as row_statistics does, before forming them whole.
+        q[retry], e[retry], c[retry] = _stream_rows(
+            kernels, left[retry], zoff[retry], blocks, threads, coef[retry], nominal[retry], x,
+            means[retry], stds[retry], probs, thresholds[retry], widen * 4.0,
+        )  # fmt: skip
+        redo = np.flatnonzero(~ok & ~usable)
+    else:
+        redo = np.flatnonzero(~ok)
     if redo.size:
         q[redo], e[redo], c[redo] = _blocked_rows(
             coef[redo], nominal[redo], x, means[redo], stds[redo], probs, thresholds[redo]
