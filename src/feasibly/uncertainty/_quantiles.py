@@ -275,8 +275,8 @@ class Factors(NamedTuple):
     each output row reads, ``right`` (rz × k) with rz = groups × k8 (zero rows pad each group),
     or None when z is the draws themselves (zero rows pad them to k8). One group is a low-rank
     factorisation of every row; several are one factorisation per group of rows (rows on the
-    same polynomial pieces span at most 7 functions of T, however many species the reaction
-    has).
+    same polynomial pieces span a few fixed functions of T — 7 for NASA-7, 9 for NASA-9 — however
+    many species the reaction has).
     """
 
     left: np.ndarray

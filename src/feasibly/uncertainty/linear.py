@@ -191,7 +191,7 @@ def linear_model(
     aS = np.zeros((T.size, n))
     plan = rxn.phase_plan(T)
     # Per row, each term's phase and heat-capacity interval: rows that agree on all of them have
-    # coefficients that are the same functions of T (at most 7 for NASA-7 polynomials).
+    # coefficients that are the same functions of T (7 for NASA-7, 9 for NASA-9 polynomials).
     signature = np.zeros((T.size, 2 * len(rxn.terms)), dtype=np.int64)
     for i, (term, idx) in enumerate(zip(rxn.terms, plan, strict=True)):
         signature[:, 2 * i] = idx
