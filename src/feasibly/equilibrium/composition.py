@@ -286,11 +286,19 @@ def _solve_from_feed(args: tuple[np.ndarray, ...], feed: np.ndarray) -> GibbsBat
     """
     A_g, A_c, g_g, g_c, b, ln_p, av_g, av_c = args
     n0 = feed + _FEED_START_SHARE * feed.sum(axis=1, keepdims=True)
+    total = n0.sum(axis=1)
+    usable = np.isfinite(total) & (total > 0)
     B, r = b.shape
-    with np.errstate(divide="ignore"):  # species not available at T start at −inf
-        ln_n = np.log(n0)
+    with np.errstate(divide="ignore"):  # a species left at zero (no share) starts at −inf
+        ln_n = np.log(np.where(usable[:, None], n0, 1.0))
+    ln_N = np.log(np.where(usable, total, 1.0))
+    # A state whose feed holds none of the group's species (its elements came through species
+    # outside the set) starts from equal amounts, as solve_batch's own cold start does.
+    n_av = np.maximum(av_g.sum(axis=1), 1)
+    ln_n[~usable] = np.where(av_g[~usable], -np.log(n_av[~usable])[:, None], -np.inf)
+    ln_N[~usable] = 0.0
     start = GibbsBatch(
-        ln_n, np.log(n0.sum(axis=1)), np.zeros((B, 0)), np.zeros((B, 0), dtype=bool),
+        ln_n, ln_N, np.zeros((B, 0)), np.zeros((B, 0), dtype=bool),
         np.zeros((B, r)), np.zeros(B, dtype=bool), np.zeros(B, dtype=np.int64),
     )  # fmt: skip
     sol = solve_batch(A_g, A_c, g_g, g_c, b, ln_p, av_g, av_c, start=start)
