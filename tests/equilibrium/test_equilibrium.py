@@ -325,3 +325,58 @@ def test_sweep_of_generated_cases_never_fails_to_converge():
     print(f"sweep total: {total} converged, {failures} failed to converge")
     assert failures == 0
     assert total >= 20_000
+
+
+def _fed_and_cold(n: int, seed: int):  # type: ignore[no-untyped-def]
+    # The benchmark's gas-only system: given as a feed (each state starts from its own feed)
+    # and as element totals only (each state starts from equal amounts).
+    from feasibly.equilibrium import equilibrate
+
+    species = "CH4(g) H2O(g) CO(g) CO2(g) H2(g) N2(g) NH3(g) C2H6(g) CH3OH(g)"
+    rng = np.random.default_rng(seed)
+    T, P = rng.uniform(600.0, 1300.0, n), rng.uniform(1.0, 50.0, n)
+    ch4, h2o, co2, n2 = (rng.uniform(a, b, n) for a, b in [(0.2, 2), (0.5, 4), (0, 1), (0, 2)])
+    feed = {"CH4(g)": ch4, "H2O(g)": h2o, "CO2(g)": co2, "N2(g)": n2}
+    fed = equilibrate(species, (T, "K"), (P, "bar"), feed)
+    elements = {"C": ch4 + co2, "H": 4 * ch4 + 2 * h2o, "O": h2o + 2 * co2, "N": 2 * n2}
+    cold = equilibrate(species, (T, "K"), (P, "bar"), elements=elements)
+    return fed, cold
+
+
+def _fractions(eq):  # type: ignore[no-untyped-def]
+    return eq.amounts / eq.amounts.sum(axis=1, keepdims=True)
+
+
+def test_gas_states_started_from_their_feed_reach_the_same_equilibrium(
+    monkeypatch: pytest.MonkeyPatch,
+) -> None:
+    from feasibly.equilibrium import composition
+
+    calls = []
+    real = composition._solve_from_feed
+    monkeypatch.setattr(composition, "_solve_from_feed", lambda *a: calls.append(1) or real(*a))
+    fed, cold = _fed_and_cold(400, 61)
+    assert len(calls) == 1  # the feed start was taken for the feed, not for element totals
+    # The ideal-gas minimum is unique: the two starts agree to the solver's tolerance.
+    np.testing.assert_allclose(_fractions(fed), _fractions(cold), rtol=0, atol=1e-12)
+
+
+# The forced failure below starts species at zero amount, where 0 × ln 0 warns before the state
+# is found singular and given up: that is the failure the test needs.
+@pytest.mark.filterwarnings("ignore:invalid value encountered in multiply:RuntimeWarning")
+def test_states_that_fail_from_their_feed_are_solved_from_equal_amounts(
+    monkeypatch: pytest.MonkeyPatch,
+) -> None:
+    from feasibly.equilibrium import composition
+
+    # Without the share every species outside the feed starts at zero amount, where the
+    # iteration cannot raise it: the states fail from the feed and are solved again.
+    monkeypatch.setattr(composition, "_FEED_START_SHARE", 0.0)
+    sizes = []
+    real = composition.solve_batch
+    monkeypatch.setattr(
+        composition, "solve_batch", lambda *a, **k: sizes.append(len(a[4])) or real(*a, **k)
+    )
+    fed, cold = _fed_and_cold(50, 62)
+    assert sizes[:2] == [50, 50]  # all 50 from their feed, then all 50 again from equal amounts
+    np.testing.assert_allclose(_fractions(fed), _fractions(cold), rtol=0, atol=1e-12)

@@ -31,13 +31,21 @@ def test_installed_package_carries_the_compiled_kernels() -> None:
         pytest.skip("running from src/ without bin/build-kernel")
 
 
-def _chunk(rng: np.random.Generator, rows: int, m: int, k: int, cap: int):  # type: ignore[no-untyped-def]
-    z = np.zeros((8 * -(-k // 8), m))
-    z[:k] = rng.standard_normal((k, m)) * rng.uniform(0.1, 50.0, (k, 1))
-    coef = np.zeros((rows, z.shape[0]))
+def _chunk(rng: np.random.Generator, rows: int, m: int, k: int, cap: int, groups: int = 2):  # type: ignore[no-untyped-def]
+    # Inputs of several groups of rows (each group reads its own block of z, as factored rows
+    # on different polynomial pieces do), zero-padded to whole blocks of eight.
+    k8 = 8 * -(-k // 8)
+    z = np.zeros((groups * k8, m))
+    for g in range(groups):
+        z[g * k8 : g * k8 + k] = rng.standard_normal((k, m)) * rng.uniform(0.1, 50.0, (k, 1))
+    zoff = (np.arange(rows, dtype=np.int64) % groups) * k8
+    coef = np.zeros((rows, k8))
     coef[:, :k] = rng.standard_normal((rows, k))
     nominal = rng.standard_normal(rows) * 10
-    spread = np.sqrt((coef[:, :k] ** 2 * z[:k].var(axis=1)).sum(axis=1))
+    var = np.array(
+        [(coef[r, :k] ** 2 * z[zoff[r] : zoff[r] + k].var(axis=1)).sum() for r in range(rows)]
+    )
+    spread = np.sqrt(var)
     centre = nominal[:, None] + spread[:, None] * np.array([-1.96, 0.0, 1.96])
     lo = centre - 0.05 * spread[:, None]
     hi = centre + 0.05 * spread[:, None]
@@ -49,21 +57,23 @@ def _chunk(rng: np.random.Generator, rows: int, m: int, k: int, cap: int):  # ty
         np.zeros((rows, 3), dtype=np.int64),
         np.full((rows, 3, cap), np.nan),
     )
-    flags = np.empty(8 * -(-m // 8), dtype=np.uint8)
-    return (z, coef, nominal, nominal * 0.3, lo, hi), acc, np.empty(m), flags
+    return (z, zoff, coef, nominal, nominal * 0.3, lo, hi), acc
 
 
 @compiled
-@pytest.mark.parametrize(("m", "k", "cap"), [(1024, 8, 2000), (1000, 18, 2000), (37, 3, 64)])
+@pytest.mark.parametrize(
+    ("m", "k", "cap"), [(1024, 8, 2000), (3000, 18, 6000), (1000, 7, 2000), (37, 3, 64)]
+)
 def test_scan_kernel_matches_numpy_to_the_bit(m: int, k: int, cap: int) -> None:
     rng = np.random.default_rng(7)
-    args, acc_c, scratch, flags = _chunk(rng, 9, m, k, cap)
+    args, acc_c = _chunk(rng, 9, m, k, cap)
     acc_n = tuple(a.copy() for a in acc_c)
     bind, _ = _scan.scan_kernel()
-    run = bind(*args, *acc_c, scratch, flags)
-    for _ in range(3):  # several chunks accumulate
-        run()
-        _scan.scan_numpy(*args, *acc_n, scratch, flags)
+    run = bind(*args, *acc_c)
+    # Several ranges accumulate; ranges longer than the kernel's chunk are cut into chunks.
+    for a, b in [(0, m // 3), (m // 3, m), (0, m)]:
+        run(a, b)
+        _scan.scan_numpy(*args, *acc_n, a, b)
     for got, want in zip(acc_c[:3], acc_n[:3], strict=True):
         np.testing.assert_array_equal(got, want)
     filled = acc_n[2]
@@ -78,11 +88,11 @@ def test_scan_kernel_matches_numpy_to_the_bit(m: int, k: int, cap: int) -> None:
 @compiled
 def test_scan_kernel_counts_past_a_full_buffer() -> None:
     rng = np.random.default_rng(8)
-    args, acc_c, scratch, flags = _chunk(rng, 4, 1024, 8, 5)  # room for 5 values only
+    args, acc_c = _chunk(rng, 4, 1024, 8, 5)  # room for 5 values only
     acc_n = tuple(a.copy() for a in acc_c)
     bind, _ = _scan.scan_kernel()
-    bind(*args, *acc_c, scratch, flags)()
-    _scan.scan_numpy(*args, *acc_n, scratch, flags)
+    bind(*args, *acc_c)(0, 1024)
+    _scan.scan_numpy(*args, *acc_n, 0, 1024)
     np.testing.assert_array_equal(acc_c[2], acc_n[2])
     assert acc_c[2].max() > 5  # the overflow is seen, so the row is recomputed
 
@@ -90,10 +100,10 @@ def test_scan_kernel_counts_past_a_full_buffer() -> None:
 def test_scan_counts_are_plain_counts() -> None:
     # The numpy kernel (the compiled one's reference) against direct counting.
     rng = np.random.default_rng(9)
-    args, acc, scratch, flags = _chunk(rng, 6, 512, 8, 4000)
-    _scan.scan_numpy(*args, *acc, scratch, flags)
-    z, coef, nominal, thr, lo, hi = args
-    v = coef @ z + nominal[:, None]
+    args, acc = _chunk(rng, 6, 512, 8, 4000)
+    _scan.scan_numpy(*args, *acc, 0, 512)
+    z, zoff, coef, nominal, thr, lo, hi = args
+    v = np.stack([coef[r] @ z[zoff[r] : zoff[r] + 8] for r in range(6)]) + nominal[:, None]
     np.testing.assert_array_equal(acc[0], (v < thr[:, None]).sum(axis=1))
     np.testing.assert_array_equal(acc[1], (v[:, None, :] < lo[:, :, None]).sum(axis=2))
     inside = (v[:, None, :] >= lo[:, :, None]) & (v[:, None, :] <= hi[:, :, None])
@@ -123,12 +133,14 @@ def test_gather_kernel_matches_numpy() -> None:
 @compiled
 def test_kernels_refuse_misshapen_arguments() -> None:
     rng = np.random.default_rng(11)
-    args, acc, scratch, flags = _chunk(rng, 3, 64, 8, 10)
+    args, acc = _chunk(rng, 3, 64, 8, 10)
     bind, _ = _scan.scan_kernel()
     with pytest.raises(ValueError, match="do not fit"):
-        bind(args[0][:7], *args[1:], *acc, scratch, flags)
+        bind(args[0][:15], *args[1:], *acc)  # the second group's block is cut short
     with pytest.raises(TypeError, match="C-contiguous"):
-        bind(args[0], args[1].astype(np.float32), *args[2:], *acc, scratch, flags)
+        bind(args[0], args[1], args[2].astype(np.float32), *args[3:], *acc)
+    with pytest.raises(ValueError, match="outside"):
+        bind(*args, *acc)(0, 65)
 
 
 def _reaction_model(n: int, seed: int, points: int = 40):  # type: ignore[no-untyped-def]
@@ -285,3 +297,136 @@ def test_single_threaded_blas_nests_and_restores() -> None:
             assert all(n == 1 for n in blas_threads())
         assert all(n == 1 for n in blas_threads())  # the inner exit leaves the outer limit
     assert blas_threads() == before
+
+
+# A reaction of 12 gas species (the benchmark's grid reaction of that size) over 800-1500 K: its
+# entries change polynomial at 1000 K, so its rows fall on two pieces.
+_TWELVE = (
+    "N2O4(g) + CO(g) + H2O(g) + C2H6(g) + CH3Cl(g) + HF(g) -> "
+    "2 NO2(g) + CO2(g) + 2 H2(g) + C2H4(g) + CH3F(g) + HCl(g)"
+)
+
+
+def _pieces_model(n: int, seed: int, points: int = 30):  # type: ignore[no-untyped-def]
+    rxn = feasibly.Reaction.parse(_TWELVE)
+    samples = draw_samples(build_inputs(rxn.species_used()), n, seed=seed)
+    return linear_model(rxn, np.linspace(800.0, 1500.0, points), samples), samples
+
+
+def _scale(samples):  # type: ignore[no-untyped-def]
+    return np.array([np.hypot(i.u, i.shift) for i in samples.inputs])
+
+
+def test_rows_on_one_polynomial_piece_need_few_directions_whatever_the_species() -> None:
+    # On one piece every coefficient of ΔrG is a combination of a few fixed functions of T
+    # (NASA-9: 1/T, ln T, 1, T, T ln T, T², …, T⁵), however many species; all rows together
+    # need more directions. factor_rows takes the cheaper form, within the 16-ulp test.
+    model, samples = _pieces_model(2_000, 40)
+    assert model.pieces is not None and np.unique(model.pieces).size == 2
+    assert np.all(np.diff(model.pieces[model.T <= 1000.0]) == 0)
+    scale = _scale(samples)
+    whole = _selection.low_rank(model.aG, scale)
+    assert whole is not None
+    for p in np.unique(model.pieces):
+        piece = _selection.low_rank(model.aG[model.pieces == p], scale)
+        assert piece is not None and piece[0].shape[1] <= 9 < whole[0].shape[1]
+    f = _selection.factor_rows(model.aG, scale, model.pieces)
+    assert f.right is not None and f.left.shape[1] % 8 == 0
+    top = np.abs(model.aG * scale).max()
+    k8 = f.left.shape[1]
+    for r in range(model.T.size):
+        rebuilt = f.left[r] @ f.right[f.zoff[r] : f.zoff[r] + k8]
+        assert np.abs((rebuilt - model.aG[r]) * scale).max() <= 16 * np.finfo(float).eps * top
+
+
+def test_factor_rows_takes_the_pieces_when_they_cost_less() -> None:
+    # Two groups of rows, each of rank 3 in its own directions: one block of eight per row and
+    # two blocks of z, against rank 6 for all rows together (also one block per row, but then
+    # the per-piece form is not cheaper: the whole one is taken). With rank 6 per group (12 in
+    # all) the pieces need one block per row against two.
+    rng = np.random.default_rng(45)  # seeded: the same matrices every run
+    for r_piece, want_zoff in ((3, {0}), (6, {0, 8})):
+        a = rng.standard_normal((20, r_piece)) @ rng.standard_normal((r_piece, 40))
+        b = rng.standard_normal((20, r_piece)) @ rng.standard_normal((r_piece, 40))
+        coef = np.vstack([a, b])
+        pieces = np.repeat([0, 1], 20)
+        f = _selection.factor_rows(coef, np.ones(40), pieces)
+        assert f.right is not None and f.left.shape[1] == 8
+        assert set(f.zoff) == want_zoff
+        top = np.abs(coef).max()
+        for r in range(40):
+            rebuilt = f.left[r] @ f.right[f.zoff[r] : f.zoff[r] + 8]
+            assert np.abs(rebuilt - coef[r]).max() <= 16 * np.finfo(float).eps * top
+
+
+def test_factored_summary_is_numpys_quantile_of_the_outputs_it_forms(
+    monkeypatch: pytest.MonkeyPatch,
+) -> None:
+    # Bitwise: numpy.quantile of the outputs formed from the factored inputs (in the kernel's
+    # summation order), and plain counting; one thread, so z is one product of the whole draws.
+    monkeypatch.setattr(_selection, "workers", lambda: 1)
+    model, samples = _pieces_model(20_011, 41)
+    f = _selection.factor_rows(model.aG, _scale(samples), model.pieces)
+    assert f.right is not None
+    thr = np.linspace(-3e4, 3e4, model.T.size)
+    mean, u, q, _, c = _selection.factored_statistics(
+        f, model.G0, samples.values, PROBS, thr, model.aG
+    )
+    z = f.right @ samples.values
+    g = np.empty((model.T.size, samples.n))
+    k8 = f.left.shape[1]
+    for off in np.unique(f.zoff):
+        at = np.flatnonzero(f.zoff == off)
+        g[at] = _scan.product_numpy(f.left[at], z[off : off + k8]) + model.G0[at, None]
+    np.testing.assert_array_equal(q, np.quantile(g, PROBS, axis=1).T)
+    np.testing.assert_array_equal(c, (g < thr[:, None]).sum(axis=1))
+    # The moments through z are the moments of those outputs (to rounding).
+    np.testing.assert_allclose(mean, g.mean(axis=1), rtol=1e-12, atol=1e-9)
+    np.testing.assert_allclose(u, g.std(axis=1, ddof=1), rtol=1e-10)
+    # And those outputs are the direct product's to the last bits.
+    direct = model.values("G", samples)
+    np.testing.assert_allclose(g, direct, rtol=1e-12, atol=1e-9)
+
+
+@compiled
+def test_compiled_and_numpy_kernels_give_the_same_factored_summary() -> None:
+    model, samples = _pieces_model(30_001, 42)
+    f = _selection.factor_rows(model.aG, _scale(samples), model.pieces)
+    args = (f, model.G0, samples.values, PROBS, np.zeros(model.T.size), model.aG)
+    fast = _selection.factored_statistics(*args)
+    slow = _selection.factored_statistics(*args, kernels=_scan.NUMPY_KERNELS)
+    for a, b in zip(fast, slow, strict=True):
+        np.testing.assert_array_equal(a, b)
+
+
+@pytest.mark.parametrize("keep", [True, False])
+def test_summary_of_many_species_is_numpys(keep: bool, monkeypatch: pytest.MonkeyPatch) -> None:
+    # Through summarise: quantiles, counts, mean and u against numpy on the direct product, with
+    # the factored inputs kept whole or formed a block at a time (a second time for the scan).
+    monkeypatch.setattr(_selection, "_KEEP_SHARE", 1.0 if keep else 0.0)
+    monkeypatch.setattr(_selection, "_Z_BLOCK", 4_096)
+    model, samples = _pieces_model(20_011, 43)
+    s = summarise(model, samples, "G", 0.0)
+    g = model.values("G", samples)
+    ref = np.quantile(g, PROBS, axis=1)
+    for got, want in zip((s.lo, s.median, s.hi), ref, strict=True):
+        np.testing.assert_allclose(got, want, rtol=1e-13, atol=1e-9)
+    np.testing.assert_array_equal(s.p_below * samples.n, (g < 0).sum(axis=1))
+    np.testing.assert_allclose(s.mean, g.mean(axis=1), rtol=1e-12, atol=1e-9)
+    np.testing.assert_allclose(s.u, g.std(axis=1, ddof=1), rtol=1e-10)
+
+
+def test_summary_is_the_same_bits_whatever_the_number_of_threads(
+    monkeypatch: pytest.MonkeyPatch,
+) -> None:
+    # A record made on a four-core machine must verify on a two-core one: the moments are summed
+    # over fixed parts of the trials, the counts are integers and the kept values are sorted.
+    model, samples = _pieces_model(40_000, 44)
+    results = []
+    for threads in (1, 2, 4):
+        monkeypatch.setattr(_selection, "workers", lambda t=threads: t)
+        s = summarise(model, samples, "G", 0.0)
+        results.append((s.mean, s.u, s.lo, s.median, s.hi, s.lo_se, s.p_below))
+    for other in results[1:]:
+        for a, b in zip(results[0], other, strict=True):
+            np.testing.assert_array_equal(a, b)

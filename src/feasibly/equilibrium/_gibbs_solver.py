@@ -23,7 +23,7 @@ from dataclasses import dataclass
 from functools import cache
 
 import numpy as np
-from threadpoolctl import threadpool_limits
+from threadpoolctl import ThreadpoolController
 
 __all__ = [
     "DualPoint",
@@ -70,7 +70,13 @@ _PIVOT_TOL = 1e-13
 # five species) then stay in cache, where one numpy operation costs ~0.5 ns per element; on 10^5
 # states at once every temporary is a fresh page-faulted allocation in main memory, several
 # times slower. Measured here: 4096–16384 equally good, 2048 or 32768 and up ~1.5× slower.
-_BLOCK = 8192
+_BLOCK = 12288
+
+
+@cache
+def _blas_controller() -> ThreadpoolController:
+    # Finding the BLAS libraries takes milliseconds (a tenth of a 10^4-state solve): once.
+    return ThreadpoolController()
 
 
 def reduce_elements(A: np.ndarray, tol: float = 1e-10) -> np.ndarray:
@@ -330,9 +336,13 @@ def solve_batch(
     prob = _Problem(A_g, A_c, g_g, g_c, b, ln_p, avail_g, avail_c, max_iter, pivot_tol)
     # The iteration's matrix products are far too small for BLAS threads to pay off: with two
     # threads they spend more time synchronising than multiplying.
-    with threadpool_limits(limits=1, user_api="blas"):
-        for lo in range(0, B, _BLOCK):
-            _iterate(out, init, start_rows, prob, lo, min(lo + _BLOCK, B))
+    with _blas_controller().limit(limits=1, user_api="blas"):
+        # Blocks of equal size, at most _BLOCK: 10^4 states go in one block, not 8192 + 1808
+        # (every iteration of a small block costs nearly the fixed cost of a full one).
+        blocks = -(-B // _BLOCK)
+        edges = [B * k // blocks for k in range(blocks + 1)]
+        for lo, hi in itertools.pairwise(edges):
+            _iterate(out, init, start_rows, prob, lo, hi)
     if active0 is None and nc and not np.all(out.converged):
         _retry(out, A_g, A_c, g_g, g_c, b, ln_p, avail_g, avail_c, max_iter)
     return out

@@ -11,10 +11,12 @@ few values inside it. The bracket is checked to contain every rank needed; when 
 far-from-normal output) the row is formed whole, the bracket widened, and in the end the whole
 row partitioned — so the result is always exact, never approximate.
 
-``streamed_statistics`` does this for outputs that are linear in the draws (every Δr quantity
-is) without ever holding them: the product is factored to its low rank, formed a chunk of trials
-at a time, and scanned once by the kernels of ``_scan`` in worker threads. ``row_statistics``
-does it for rows already in memory.
+``factored_statistics`` does this for outputs that are linear in the draws (every Δr quantity
+is) without ever holding them: the coefficient rows are factored (``factor_rows``: one low-rank
+factorisation, or one per polynomial piece, whichever costs less), the few factored inputs
+z = right @ x formed once in worker threads with their moments (which give each output's mean
+and standard deviation), and z scanned once by the kernel of ``_scan``. ``streamed_statistics``
+does the same for given moments, and ``row_statistics`` for rows already in memory.
 """
 
 from __future__ import annotations
@@ -35,6 +37,9 @@ if TYPE_CHECKING:
     from ._scan import Kernels
 
 __all__ = [
+    "Factors",
+    "factor_rows",
+    "factored_statistics",
     "low_rank",
     "row_statistics",
     "run_parallel",
@@ -202,10 +207,11 @@ def row_statistics(
     return q, e, c
 
 
-# Trials per chunk of the streamed product: one row's chunk (8 KB) and the chunk's inputs (64 KB
-# at rank 8) stay in a core's L1/L2 while it is scanned. Measured on the 2-core machine with
-# bench_uncertainty_summary.py: 256 to 4096 all gave 44-59 ms, within the run-to-run noise.
+# Threads get whole multiples of this many trials (a multiple of the kernel's CHUNK, so every
+# thread but the last scans whole chunks, four trials at a time).
 _CHUNK_TRIALS = 1024
+# Inputs are summed eight at a time (the kernel's BLOCK).
+_BLOCK = 8
 # Temperature rows streamed together: bounds the bracket buffers (two threads) to about 5 MB per
 # 100 rows at N = 10^5 and 15 MB at 10^6; more rows are done in turns.
 _ROWS_PER_PASS = 128
@@ -224,7 +230,7 @@ def low_rank(coef: np.ndarray, scale: np.ndarray) -> tuple[np.ndarray, np.ndarra
     the contributions, and refused unless it reproduces them to a few rounding errors, so the
     outputs differ from the direct product only in the last bits.
     """
-    from scipy import linalg
+    from scipy.linalg import lapack
 
     rows, k = coef.shape
     scaled = coef * np.where(scale > 0, scale, 1.0)
@@ -234,13 +240,24 @@ def low_rank(coef: np.ndarray, scale: np.ndarray) -> tuple[np.ndarray, np.ndarra
     # Accept only a factorisation within 16 rounding errors of the largest contribution.
     tolerance = 16 * np.finfo(float).eps * top
     with single_threaded_blas():  # a few-kB problem: BLAS threads would only wait for each other
-        q, r, piv = linalg.qr(scaled, mode="economic", pivoting=True)
+        # QR with column pivoting straight from LAPACK (scipy.linalg.qr's checks cost more than
+        # the factorisation of a 50 × 60 matrix).
+        geqp3, orgqr = lapack.get_lapack_funcs(("geqp3", "orgqr"), (scaled,))
+        qr, jpvt, tau, _, info = geqp3(scaled)
+        if info != 0:
+            return None
+        piv = jpvt - 1  # LAPACK counts columns from 1
+        m = min(rows, k)
+        r = np.triu(qr[:m])
         diag = np.abs(np.diag(r))
         # The rank is cut where the acceptance test below can pass: with column pivoting every
         # entry of the dropped part Q[:, r:] R[r:, r:] is at most |R[r, r]|, so directions up to
         # half the tolerance may go and the other half is left for the rounding of the rest.
         rank = int(np.count_nonzero(diag > 0.5 * tolerance))
         if rank > (3 * k) // 4:
+            return None
+        q, _, info = orgqr(qr[:, :m], tau)
+        if info != 0:
             return None
         a = q[:, :rank]
         b_scaled = np.empty((rank, k))
@@ -249,6 +266,195 @@ def low_rank(coef: np.ndarray, scale: np.ndarray) -> tuple[np.ndarray, np.ndarra
     if residual > tolerance:
         return None
     return np.ascontiguousarray(a), b_scaled / np.where(scale > 0, scale, 1.0)
+
+
+class Factors(NamedTuple):
+    """Output rows as ``left[r] @ z[zoff[r] : zoff[r] + k8]`` with the inputs ``z = right @ x``.
+
+    ``left`` (rows × k8, k8 a multiple of 8, zero-padded), ``zoff`` (rows,) the first row of z
+    each output row reads, ``right`` (rz × k) with rz = groups × k8 (zero rows pad each group),
+    or None when z is the draws themselves (zero rows pad them to k8). One group is a low-rank
+    factorisation of every row; several are one factorisation per group of rows (rows on the
+    same polynomial pieces span a few fixed functions of T — 7 for NASA-7, 9 for NASA-9 — however
+    many species the reaction has).
+    """
+
+    left: np.ndarray
+    zoff: np.ndarray
+    right: np.ndarray | None
+
+    def rows_of_z(self) -> int:
+        return self.left.shape[1] if self.right is None else self.right.shape[0]
+
+
+def _group_factors(coef: np.ndarray, scale: np.ndarray) -> tuple[np.ndarray, np.ndarray] | None:
+    if coef.shape[0] == 1:  # one row is its own rank-1 factorisation, exactly
+        return np.ones((1, 1)), coef.copy()
+    return low_rank(coef, scale)
+
+
+def _padded(k: int) -> int:
+    return _BLOCK * -(-k // _BLOCK)
+
+
+def factor_rows(coef: np.ndarray, scale: np.ndarray, pieces: np.ndarray | None = None) -> Factors:
+    """``coef`` (rows × k) in the form ``Factors``: the cheapest of a low-rank factorisation of
+    all rows, one per piece, and none (z = the draws).
+
+    ``pieces`` labels the rows whose coefficients are the same functions of T (the same
+    polynomial piece of every species): each label's rows are then factored on their own. Every
+    factorisation passes ``low_rank``'s acceptance test, so the outputs differ from the direct
+    product only in the last bits.
+    """
+    rows, k = coef.shape
+    Groups = list[tuple[np.ndarray, tuple[np.ndarray, np.ndarray]]]
+    options: list[Groups] = []
+    whole = low_rank(coef, scale)
+    if whole is not None:
+        options.append([(np.arange(rows), whole)])
+    if pieces is not None:
+        labels = np.unique(pieces)
+        if 1 < labels.size < rows:
+            groups = []
+            for label in labels:
+                at = np.flatnonzero(pieces == label)
+                f = _group_factors(coef[at], scale)
+                if f is None:
+                    break
+                groups.append((at, f))
+            else:
+                options.append(groups)
+
+    def cost(groups: Groups) -> int:
+        # Multiply-adds per trial: the outputs (k8 each) and forming z (k per row of z), twice
+        # when z is too large to keep (see _KEEP_SHARE: z has rz rows against the k of x).
+        k8 = _padded(max(f[0].shape[1] for _, f in groups))
+        rz = len(groups) * k8
+        return rows * k8 + rz * k * (1 if rz <= _KEEP_SHARE * k else 2)
+
+    # Without a factorisation: k8 per output and a copy of the draws (formed twice).
+    best = min(options, key=cost) if options else None
+    if best is None or cost(best) >= rows * _padded(k) + 2 * _padded(k):
+        left = np.zeros((rows, _padded(k)))
+        left[:, :k] = coef
+        return Factors(left, np.zeros(rows, dtype=np.int64), None)
+    k8 = _padded(max(f[0].shape[1] for _, f in best))
+    left = np.zeros((rows, k8))
+    zoff = np.empty(rows, dtype=np.int64)
+    right = np.zeros((len(best) * k8, k))
+    for g, (at, (a, b)) in enumerate(best):
+        left[at, : a.shape[1]] = a
+        zoff[at] = g * k8
+        right[g * k8 : g * k8 + b.shape[0]] = b
+    return Factors(left, zoff, right)
+
+
+# The factored inputs z are kept whole when they are no larger than the draws themselves (20
+# species: 24 of 60 rows); otherwise they are formed twice, a block at a time. Measured (CPU
+# time, one thread, 8 species × 10^5 trials, NASA-9 data): keeping 16 of 24 rows took 25-28 ms
+# against 34-35 ms for forming them twice (the cost below then chose the unfactored draws).
+_KEEP_SHARE = 1.0
+# Trials of z formed at a time when z is not kept: 16 rows × 16384 trials is 2 MB per thread.
+_Z_BLOCK = 16384
+
+
+# The trials are cut into this many parts (fewer below 4096 trials a part), whatever the number
+# of cores: the moments are summed part by part in a fixed order, so they are the same bits on
+# every machine; worker threads take the parts in turn.
+_PARTS = 4
+
+
+def _part_edges(n: int) -> np.ndarray:
+    """Trial ranges of the parts: whole multiples of ``_CHUNK_TRIALS`` each (but the last), at
+    least 4096 trials a part (below that a second thread costs more to start than it saves)."""
+    parts = max(1, min(_PARTS, n // 4096))
+    chunks = -(-n // _CHUNK_TRIALS)
+    edges = (np.arange(parts + 1) * chunks // parts) * _CHUNK_TRIALS
+    edges[-1] = n
+    return edges
+
+
+Blocks = Callable[[int], Iterator[tuple[int, np.ndarray, int, int]]]
+
+
+def _z_blocks(
+    factors: Factors, x: np.ndarray, edges: np.ndarray, threads: int, keep: bool
+) -> Blocks:
+    """``blocks(t)``: thread t's trials of z, as (part, array, first trial, end) in that array.
+    With ``keep`` each part's z is formed once, whole, and kept for the next pass."""
+    right = factors.right
+    rz = factors.rows_of_z()
+    kept: list[np.ndarray | None] = [None] * (edges.size - 1)
+
+    def form(s: int, e: int) -> np.ndarray:
+        if right is not None:
+            return right @ x[:, s:e]
+        z = np.zeros((rz, e - s))  # rows beyond the inputs stay zero: they add exactly nothing
+        z[: x.shape[0]] = x[:, s:e]
+        return z
+
+    def blocks(t: int) -> Iterator[tuple[int, np.ndarray, int, int]]:
+        for part in range(t, edges.size - 1, threads):
+            a, b = int(edges[part]), int(edges[part + 1])
+            z = kept[part]
+            if z is None and keep:
+                kept[part] = z = form(a, b)
+            if z is not None:
+                yield part, z, 0, b - a
+                continue
+            for s in range(a, b, _Z_BLOCK):
+                e = min(s + _Z_BLOCK, b)
+                yield part, form(s, e), 0, e - s
+
+    return blocks
+
+
+def factored_statistics(
+    factors: Factors,
+    nominal: np.ndarray,
+    x: np.ndarray,
+    probs: tuple[float, ...],
+    thresholds: np.ndarray,
+    coef: np.ndarray,
+    kernels: Kernels | None = None,
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Mean, standard deviation, quantiles, their standard errors and counts below threshold of
+    the outputs ``nominal + coef @ x``, through their factored form ``factors``.
+
+    One pass forms z = right @ x (rz × N, small) in worker threads and its moments (mean and
+    covariance, ddof = 1), which give each output's mean and standard deviation (placing the
+    brackets); a second pass scans z with the kernel. Quantiles are numpy's of the outputs the
+    kernel forms, exactly; ``coef`` (the unfactored rows) serves rows whose brackets miss.
+    """
+    from . import _scan
+
+    kernels = kernels or _scan.scan_kernel()
+    left, zoff = factors.left, factors.zoff
+    rz, n = factors.rows_of_z(), x.shape[1]
+    edges = _part_edges(n)
+    parts = edges.size - 1
+    threads = min(workers(), parts)
+    blocks = _z_blocks(factors, x, edges, threads, keep=rz * n * 8 <= _KEEP_SHARE * x.nbytes)
+    sums = np.zeros((parts, rz))
+    grams = np.zeros((parts, rz, rz))
+
+    def moments(t: int) -> None:
+        for part, z, _, _ in blocks(t):
+            sums[part] += z.sum(axis=1)
+            grams[part] += z @ z.T
+
+    run_parallel(moments, threads)
+    # Summed part by part in order: the same bits whatever the number of threads.
+    zbar = np.add.reduce(sums, axis=0) / n
+    cov = (np.add.reduce(grams, axis=0) / n - np.outer(zbar, zbar)) * (n / (n - 1))
+    at = zoff[:, None] + np.arange(left.shape[1])[None, :]
+    mean = nominal + np.einsum("ij,ij->i", left, zbar[at])
+    var = np.einsum("ij,ijk,ik->i", left, cov[at[:, :, None], at[:, None, :]], left)
+    u = np.sqrt(np.clip(var, 0.0, None))
+    q, e, c = _statistics_by_pass(
+        kernels, left, zoff, blocks, threads, coef, nominal, x, mean, u, probs, thresholds
+    )
+    return mean, u, q, e, c
 
 
 def streamed_statistics(
@@ -265,14 +471,15 @@ def streamed_statistics(
     """Row statistics of the outputs ``nominal + coef @ x`` without holding them.
 
     ``coef`` (rows × k), ``x`` (k × N) the input draws; ``means``/``stds`` the outputs' moments,
-    which place the brackets. The product is formed a chunk of trials at a time in worker threads
-    and each chunk is scanned once (``_scan``): counts below the threshold and below each bracket,
-    and the few values inside the brackets. A row whose brackets miss a needed rank or overflow
-    their buffer is recomputed whole by ``row_statistics``' widening path, so every result is
-    exact. ``scale`` is each input's spread (default: the draws' standard deviations), used to
-    judge a low-rank factorisation of ``coef``; ``kernels`` the scan binder and the gatherer
-    (default: ``_scan.scan_kernel()``). Returns quantiles (rows × p), their standard errors and
-    the counts below threshold.
+    which place the brackets. The product is formed a block of trials at a time in worker
+    threads (through a low-rank factorisation of ``coef`` where that saves work) and scanned
+    once (``_scan``): counts below the threshold and below each bracket, and the few values
+    inside the brackets. A row whose brackets miss a needed rank or overflow their buffer is
+    recomputed whole by ``row_statistics``' widening path, so every result is exact. ``scale``
+    is each input's spread (default: the draws' standard deviations), used to judge a low-rank
+    factorisation of ``coef``; ``kernels`` the scan binder and the gatherer (default:
+    ``_scan.scan_kernel()``). Returns quantiles (rows × p), their standard errors and the counts
+    below threshold.
     """
     from . import _scan
 
@@ -284,22 +491,57 @@ def streamed_statistics(
         # for 10^5 trials × 200 T, bench_uncertainty_summary.py without the library).
         return _blocked_rows(coef, nominal, x, means, stds, probs, thresholds)
     kernels = kernels or _scan.scan_kernel()
-    q, e, c = _empty_statistics(rows, len(probs))
     if scale is None:
         scale = x.std(axis=1)
-    factors = low_rank(coef, scale)
+    factors = factor_rows(coef, scale)
+    edges = _part_edges(x.shape[1])
+    threads = min(workers(), edges.size - 1)
+    blocks = _z_blocks(factors, x, edges, threads, keep=False)
+    return _statistics_by_pass(
+        kernels,
+        factors.left,
+        factors.zoff,
+        blocks,
+        threads,
+        coef,
+        nominal,
+        x,
+        means,
+        stds,
+        probs,
+        thresholds,
+    )
+
+
+def _statistics_by_pass(
+    kernels: Kernels,
+    left: np.ndarray,
+    zoff: np.ndarray,
+    blocks: Blocks,
+    threads: int,
+    coef: np.ndarray,
+    nominal: np.ndarray,
+    x: np.ndarray,
+    means: np.ndarray,
+    stds: np.ndarray,
+    probs: tuple[float, ...],
+    thresholds: np.ndarray,
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """The scan in passes of at most ``_ROWS_PER_PASS`` rows and three probabilities."""
+    from ._scan import BRACKETS
+
+    rows = left.shape[0]
+    q, e, c = _empty_statistics(rows, len(probs))
     for start in range(0, rows, _ROWS_PER_PASS):
         part = slice(start, min(start + _ROWS_PER_PASS, rows))
-        if factors is None:
-            left, right = coef[part], None
-        else:
-            left, right = factors[0][part], factors[1]
-        for g in range(0, len(probs), _scan.BRACKETS):  # the kernel takes three at a time
-            cols = slice(g, g + _scan.BRACKETS)
+        for g in range(0, len(probs), BRACKETS):  # the kernel takes three at a time
+            cols = slice(g, g + BRACKETS)
             q[part, cols], e[part, cols], c[part] = _stream_rows(
                 kernels,
-                left,
-                right,
+                left[part],
+                zoff[part],
+                blocks,
+                threads,
                 coef[part],
                 nominal[part],
                 x,
@@ -337,7 +579,9 @@ def _blocked_rows(
 def _stream_rows(
     kernels: Kernels,
     left: np.ndarray,
-    right: np.ndarray | None,
+    zoff: np.ndarray,
+    blocks: Blocks,
+    threads: int,
     coef: np.ndarray,
     nominal: np.ndarray,
     x: np.ndarray,
@@ -345,9 +589,11 @@ def _stream_rows(
     stds: np.ndarray,
     probs: tuple[float, ...],
     thresholds: np.ndarray,
+    widen: float = 1.0,
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """``streamed_statistics`` for one pass of rows and at most three probabilities."""
-    from ._scan import BLOCK, BRACKETS
+    """One pass of rows and at most three probabilities: thread t scans the blocks of z that
+    ``blocks(t)`` gives (part, z, first trial, end) with the rows ``left`` reading from ``zoff``."""
+    from ._scan import BRACKETS
 
     bind, gather = kernels
     rows, n = left.shape[0], x.shape[1]
@@ -356,7 +602,7 @@ def _stream_rows(
     spread = np.where(usable, stds, 0.0)
     z = np.array([pl.z for pl in plans])
     guess = np.where(usable, means, 0.0)[:, None] + spread[:, None] * z[None, :]
-    half = spread[:, None] * np.array([pl.half for pl in plans])[None, :]
+    half = spread[:, None] * np.array([pl.half * widen for pl in plans])[None, :]
     lo_edge = np.full((rows, BRACKETS), np.inf)  # padding brackets [+inf, +inf] hold nothing
     hi_edge = np.full((rows, BRACKETS), np.inf)
     lo_edge[:, : len(probs)] = guess - half
@@ -364,52 +610,38 @@ def _stream_rows(
     lo_edge[~usable] = np.inf
     hi_edge[~usable] = np.inf
 
-    chunks = list(range(0, n, _CHUNK_TRIALS))
-    threads = max(1, min(workers(), len(chunks)))
     # Expected values inside a bracket for a normal output: 2 × half-width × density
     # = 2 × 1.5 × (rank span + 8). Each thread's buffer holds twice its share plus slack; a row
     # whose bracket needs more is recomputed whole.
-    expected = max(2 * _WIDTH_FACTOR * (pl.span + 8) for pl in plans)
+    expected = max(2 * _WIDTH_FACTOR * (pl.span + 8) for pl in plans) * widen
     cap = int(2 * expected / threads) + 64
     values = np.empty((threads, rows, BRACKETS, cap))
     filled = np.zeros((threads, rows, BRACKETS), dtype=np.int64)
     below_thr = np.zeros((threads, rows), dtype=np.int64)
     below = np.zeros((threads, rows, BRACKETS), dtype=np.int64)
+    left = np.ascontiguousarray(left)
+    zoff = np.ascontiguousarray(zoff)
+    nominal = np.ascontiguousarray(nominal)
+    thresholds = np.ascontiguousarray(thresholds)
 
-    k = left.shape[1]
-    k8 = BLOCK * -(-k // BLOCK)
-    coef8 = np.zeros((rows, k8))
-    coef8[:, :k] = left
+    def scan(t: int) -> None:
+        for _, zb, a, b in blocks(t):
+            run = bind(
+                zb,
+                zoff,
+                left,
+                nominal,
+                thresholds,
+                lo_edge,
+                hi_edge,
+                below_thr[t],
+                below[t],
+                filled[t],
+                values[t],
+            )
+            run(a, b)
 
-    def scan_chunks(t: int) -> None:
-        run = None
-        for a in chunks[t::threads]:  # threads ≤ chunks, so every thread has one
-            b = min(a + _CHUNK_TRIALS, n)
-            if run is None or b - a < _CHUNK_TRIALS:  # buffers, and for the short last chunk
-                m = b - a
-                z8 = np.zeros((k8, m))  # rows beyond k stay zero: they add exactly nothing
-                run = bind(
-                    z8,
-                    coef8,
-                    nominal,
-                    thresholds,
-                    lo_edge,
-                    hi_edge,
-                    below_thr[t],
-                    below[t],
-                    filled[t],
-                    values[t],
-                    np.empty(m),
-                    np.empty(BLOCK * -(-m // BLOCK), dtype=np.uint8),
-                )
-            if right is None:
-                z8[:k] = x[:, a:b]
-            else:
-                np.matmul(right, x[:, a:b], out=z8[:k])
-            run()
-
-    with single_threaded_blas():
-        run_parallel(scan_chunks, threads)
+    run_parallel(scan, threads)
 
     # Exact order statistics inside each bracket: the kept values of all threads side by side,
     # sorted per row (numpy's vectorised sort), and the needed ranks read off.
@@ -430,7 +662,18 @@ def _stream_rows(
         at = np.take_along_axis(kept, np.clip(local, 0, kept.shape[1] - 1), axis=1)
         with np.errstate(invalid="ignore"):  # rows that are not ok hold inf; recomputed below
             q[:, j], e[:, j] = _quantile(dict(zip(plan.ranks, at.T, strict=True)), n, plan)
-    redo = np.flatnonzero(~ok)
+    retry = np.flatnonzero(~ok & usable)
+    if retry.size and widen < 4.0**_MAX_WIDENINGS:
+        # The normal guess missed (a far-from-normal output, or at 10^6 trials brackets of
+        # under 0.01 standard deviations): scan those rows again with brackets four times wider,
+        # as row_statistics does, before forming them whole.
+        q[retry], e[retry], c[retry] = _stream_rows(
+            kernels, left[retry], zoff[retry], blocks, threads, coef[retry], nominal[retry], x,
+            means[retry], stds[retry], probs, thresholds[retry], widen * 4.0,
+        )  # fmt: skip
+        redo = np.flatnonzero(~ok & ~usable)
+    else:
+        redo = np.flatnonzero(~ok)
     if redo.size:
         q[redo], e[redo], c[redo] = _blocked_rows(
             coef[redo], nominal[redo], x, means[redo], stds[redo], probs, thresholds[redo]

@@ -1,5 +1,5 @@
-/* Compiled kernels of feasibly._scan: one read of a chunk of Monte Carlo trials per temperature
- * row, and the gathering of the values kept inside the brackets.
+/* Compiled kernels of feasibly._scan: one read of a range of Monte Carlo trials, a chunk at a time,
+ * for every temperature row, and the gathering of the values kept inside the brackets.
  *
  * The arithmetic mirrors scan_numpy / product_numpy in _scan.py operation for operation (inputs in
  * blocks of eight summed left to right, the blocks added in turn, then the nominal), and the
@@ -11,6 +11,7 @@
 #include <math.h>
 
 #define NB 3 /* brackets per row */
+#define CHUNK 256 /* trials per chunk: eight inputs of a chunk (16 KB) stay in L1 */
 
 #if defined(__GNUC__) && defined(__x86_64__) && !defined(__clang__)
 /* One binary for every x86-64 machine: an AVX2 clone is picked at load time where the CPU has it. */
@@ -19,103 +20,137 @@
 #define VECTOR_CLONES
 #endif
 
-VECTOR_CLONES
-void feasibly_scan(int64_t k_all, int64_t m, int64_t rows, int64_t cap, const double *z,
-                   const double *coef, const double *nominal, const double *threshold,
-                   const double *lo, const double *hi, int64_t *below_threshold, int64_t *below,
-                   int64_t *filled, double *values, double *scratch, uint8_t *flags,
-                   int64_t flags_len)
+typedef double v4d __attribute__((vector_size(32)));
+typedef int64_t v4i __attribute__((vector_size(32)));
+
+/* Four doubles from any address (a may_alias, unaligned view, as the AVX headers define theirs). */
+typedef double v4d_u __attribute__((vector_size(32), may_alias, aligned(8)));
+#define load4(p) ((v4d) * (const v4d_u *)(p))
+
+/* Append x to the buffers of the brackets whose bits are set in f; past the capacity count on
+ * but store nothing, so an overflow is seen and never truncates silently. */
+static inline __attribute__((always_inline)) void keep(double x, int f, int64_t *k,
+                                                       double *const *out, int64_t cap)
 {
-    double *restrict v = scratch;
-    for (int64_t i = m; i < flags_len; i++)
-        flags[i] = 0;
+    for (int j = 0; j < NB; j++) {
+        if ((f >> j) & 1) {
+            if (k[j] < cap)
+                out[j][k[j]] = x;
+            k[j]++;
+        }
+    }
+}
+
+/* One chunk of m trials (zc points at its first trial in input row 0) for every row: the
+ * outputs, four trials at a time, are counted against the threshold and the bracket edges, and
+ * the few inside a bracket appended at once (so they are never stored or read again). Each
+ * output is summed as in product_numpy: inputs in blocks of eight left to right, the blocks
+ * added in turn, then the nominal. */
+static inline __attribute__((always_inline)) void
+scan_chunk(int64_t k_all, int64_t ld, int64_t m, int64_t rows, int64_t cap, const double *zc,
+           const int64_t *zoff, const double *coef, const double *nominal,
+           const double *threshold, const double *lo, const double *hi,
+           int64_t *below_threshold, int64_t *below, int64_t *filled, double *values,
+           v4d *av, v4d *vbuf)
+{
     for (int64_t r = 0; r < rows; r++) {
         const double *a = coef + r * k_all;
-        for (int64_t kb = 0; kb < k_all; kb += 8) {
-            const double a0 = a[kb], a1 = a[kb + 1], a2 = a[kb + 2], a3 = a[kb + 3];
-            const double a4 = a[kb + 4], a5 = a[kb + 5], a6 = a[kb + 6], a7 = a[kb + 7];
-            const double *restrict z0 = z + kb * m, *restrict z1 = z0 + m, *restrict z2 = z1 + m;
-            const double *restrict z3 = z2 + m, *restrict z4 = z3 + m, *restrict z5 = z4 + m;
-            const double *restrict z6 = z5 + m, *restrict z7 = z6 + m;
-            if (kb == 0) {
-                for (int64_t i = 0; i < m; i++)
-                    v[i] = a0 * z0[i] + a1 * z1[i] + a2 * z2[i] + a3 * z3[i] + a4 * z4[i] +
-                           a5 * z5[i] + a6 * z6[i] + a7 * z7[i];
-            } else {
-                for (int64_t i = 0; i < m; i++)
-                    v[i] = v[i] + (a0 * z0[i] + a1 * z1[i] + a2 * z2[i] + a3 * z3[i] +
-                                   a4 * z4[i] + a5 * z5[i] + a6 * z6[i] + a7 * z7[i]);
-            }
-        }
+        const double *zr = zc + zoff[r] * ld;
+        for (int64_t j = 0; j < k_all; j++)
+            av[j] = (v4d){a[j], a[j], a[j], a[j]};
         const double g = nominal[r], t = threshold[r];
         const double l0 = lo[r * NB], l1 = lo[r * NB + 1], l2 = lo[r * NB + 2];
         const double h0 = hi[r * NB], h1 = hi[r * NB + 1], h2 = hi[r * NB + 2];
-        int64_t ct = 0, c0 = 0, c1 = 0, c2 = 0;
-        /* Branch-free (vectorised): the nominal added, the counts, and a flag byte per value
-         * with a bit for each bracket it lies inside. */
-        for (int64_t i = 0; i < m; i++) {
-            const double x = v[i] + g;
-            v[i] = x;
-            ct += x < t;
-            c0 += x < l0;
-            c1 += x < l1;
-            c2 += x < l2;
-            flags[i] = (uint8_t)(((x >= l0) & (x <= h0)) | (((x >= l1) & (x <= h1)) << 1) |
-                                 (((x >= l2) & (x <= h2)) << 2));
-        }
-        below_threshold[r] += ct;
-        below[r * NB] += c0;
-        below[r * NB + 1] += c1;
-        below[r * NB + 2] += c2;
-        /* The kept values are few (about 1 %): skip eight flags at a time when none is set and
-         * append without branches inside a word that has one; near the capacity, count on but
-         * store only what fits, so an overflow is seen and never truncates silently. */
-        int64_t k0 = filled[r * NB], k1 = filled[r * NB + 1], k2 = filled[r * NB + 2];
-        double *out0 = values + (r * NB) * cap, *out1 = out0 + cap, *out2 = out1 + cap;
-        for (int64_t j = 0; j < flags_len; j += 8) {
-            uint64_t word;
-            memcpy(&word, flags + j, 8);
-            if (word == 0)
-                continue;
-            const int64_t end = j + 8 < m ? j + 8 : m;
-            int64_t top = k0 > k1 ? k0 : k1;
-            top = top > k2 ? top : k2;
-            if (top + 8 <= cap) {
-                for (int64_t i = j; i < end; i++) {
-                    const double x = v[i];
-                    const int f = flags[i];
-                    out0[k0] = x;
-                    k0 += f & 1;
-                    out1[k1] = x;
-                    k1 += (f >> 1) & 1;
-                    out2[k2] = x;
-                    k2 += (f >> 2) & 1;
-                }
-            } else {
-                for (int64_t i = j; i < end; i++) {
-                    const double x = v[i];
-                    const int f = flags[i];
-                    if (f & 1) {
-                        if (k0 < cap)
-                            out0[k0] = x;
-                        k0++;
-                    }
-                    if (f & 2) {
-                        if (k1 < cap)
-                            out1[k1] = x;
-                        k1++;
-                    }
-                    if (f & 4) {
-                        if (k2 < cap)
-                            out2[k2] = x;
-                        k2++;
-                    }
-                }
+        const v4d G = {g, g, g, g}, T = {t, t, t, t};
+        const v4d L0 = {l0, l0, l0, l0}, L1 = {l1, l1, l1, l1}, L2 = {l2, l2, l2, l2};
+        const v4d H0 = {h0, h0, h0, h0}, H1 = {h1, h1, h1, h1}, H2 = {h2, h2, h2, h2};
+        v4i ct = {0, 0, 0, 0}, c0 = ct, c1 = ct, c2 = ct;
+        int64_t k[NB] = {filled[r * NB], filled[r * NB + 1], filled[r * NB + 2]};
+        double *const out[NB] = {values + (r * NB) * cap, values + (r * NB + 1) * cap,
+                                 values + (r * NB + 2) * cap};
+        /* The sums of the blocks of eight inputs are accumulated in vbuf, one block at a time
+         * over the chunk (eight input rows read in sequence: reading every row at once thrashes
+         * the caches beyond one block); then every output is counted and kept. */
+        const int64_t m4 = m / 4 * 4;
+        for (int64_t kb = 0; kb < k_all; kb += 8) {
+            const double *z = zr + kb * ld;
+            const v4d *w = av + kb;
+            for (int64_t i = 0; i < m4; i += 4) {
+                const v4d s = w[0] * load4(z + i) + w[1] * load4(z + ld + i) +
+                              w[2] * load4(z + 2 * ld + i) + w[3] * load4(z + 3 * ld + i) +
+                              w[4] * load4(z + 4 * ld + i) + w[5] * load4(z + 5 * ld + i) +
+                              w[6] * load4(z + 6 * ld + i) + w[7] * load4(z + 7 * ld + i);
+                vbuf[i / 4] = kb == 0 ? s : vbuf[i / 4] + s;
             }
         }
-        filled[r * NB] = k0;
-        filled[r * NB + 1] = k1;
-        filled[r * NB + 2] = k2;
+        int64_t i = 0;
+        for (; i < m4; i += 4) {
+            const v4d v = vbuf[i / 4];
+            const v4d x = v + G;
+            const v4i b0 = x < L0, b1 = x < L1, b2 = x < L2;
+            ct -= x < T;
+            c0 -= b0;
+            c1 -= b1;
+            c2 -= b2;
+            /* Inside a bracket: not below its lower edge and not above its upper edge. */
+            const v4i in0 = ~b0 & (x <= H0), in1 = ~b1 & (x <= H1), in2 = ~b2 & (x <= H2);
+            const v4i any = in0 | in1 | in2;
+            if (any[0] | any[1] | any[2] | any[3]) { /* rare: about 1 % of the outputs */
+                for (int l = 0; l < 4; l++)
+                    keep(x[l], (int)((in0[l] & 1) | ((in1[l] & 1) << 1) | ((in2[l] & 1) << 2)),
+                         k, out, cap);
+            }
+        }
+        int64_t nt = ct[0] + ct[1] + ct[2] + ct[3];
+        int64_t n0 = c0[0] + c0[1] + c0[2] + c0[3];
+        int64_t n1 = c1[0] + c1[1] + c1[2] + c1[3];
+        int64_t n2 = c2[0] + c2[1] + c2[2] + c2[3];
+        for (; i < m; i++) { /* the last few trials of the range, one at a time */
+            double v = 0.0;
+            for (int64_t kb = 0; kb < k_all; kb += 8) {
+                const double *z = zr + kb * ld + i;
+                const double *w = a + kb;
+                const double s = w[0] * z[0] + w[1] * z[ld] + w[2] * z[2 * ld] +
+                                 w[3] * z[3 * ld] + w[4] * z[4 * ld] + w[5] * z[5 * ld] +
+                                 w[6] * z[6 * ld] + w[7] * z[7 * ld];
+                v = kb == 0 ? s : v + s;
+            }
+            const double x = v + g;
+            nt += x < t;
+            n0 += x < l0;
+            n1 += x < l1;
+            n2 += x < l2;
+            keep(x, ((x >= l0) & (x <= h0)) | (((x >= l1) & (x <= h1)) << 1) |
+                        (((x >= l2) & (x <= h2)) << 2),
+                 k, out, cap);
+        }
+        below_threshold[r] += nt;
+        below[r * NB] += n0;
+        below[r * NB + 1] += n1;
+        below[r * NB + 2] += n2;
+        filled[r * NB] = k[0];
+        filled[r * NB + 1] = k[1];
+        filled[r * NB + 2] = k[2];
+    }
+}
+
+VECTOR_CLONES
+void feasibly_scan(int64_t k_all, int64_t ld, int64_t start, int64_t stop, int64_t rows,
+                   int64_t cap, const double *zall, const int64_t *zoff, const double *coef,
+                   const double *nominal, const double *threshold, const double *lo,
+                   const double *hi, int64_t *below_threshold, int64_t *below, int64_t *filled,
+                   double *values, double *room)
+{
+    /* Trials start .. stop of the inputs zall (rows of length ld), CHUNK at a time (the chunk's
+     * inputs stay in L1 while every row reads them); output row r reads the k_all input rows
+     * from zoff[r] on. room holds 4 k_all + 4 + CHUNK doubles: the broadcast coefficients,
+     * aligned, and the sums of a chunk. */
+    v4d *av = (v4d *)(((uintptr_t)room + 31) & ~(uintptr_t)31);
+    v4d *vbuf = av + k_all;
+    for (int64_t c0 = start; c0 < stop; c0 += CHUNK) {
+        const int64_t m = stop - c0 < CHUNK ? stop - c0 : CHUNK;
+        scan_chunk(k_all, ld, m, rows, cap, zall + c0, zoff, coef, nominal, threshold, lo, hi,
+                   below_threshold, below, filled, values, av, vbuf);
     }
 }
 

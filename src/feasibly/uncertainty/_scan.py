@@ -1,8 +1,9 @@
-"""One read of a chunk of Monte Carlo trials: counts below edges and the values inside brackets.
+"""One read of Monte Carlo trials: counts below edges and the values inside brackets.
 
-The streamed summary (``_selection.streamed_statistics``) never holds the T × N matrix of
-outputs. It hands the kernel here one chunk of trials at a time; for every temperature row the
-kernel forms the chunk's outputs (``coef @ z + nominal``, the inputs eight at a time) and adds
+The streamed summary (``_quantiles.factored_statistics``) never holds the T × N matrix of
+outputs. It hands the kernel here a range of trials of the (factored) inputs z; for every
+temperature row the kernel forms the outputs (``coef @ z[zoff : zoff + k] + nominal``, the inputs
+eight at a time, four trials at a time) and adds
 
 * the count of outputs below the row's threshold,
 * the count below the lower edge of each of three brackets, and
@@ -14,8 +15,8 @@ The kernels are written twice: in C (``_scan.c``, compiled into the wheel by ``h
 and called through ctypes, which releases the GIL so worker threads scan in parallel) and in
 numpy here. Both do the same floating-point operations in the same order, so they give the same
 bits; the tests compare them. Where the library was not built (no C compiler) the summary does
-not stream at all: it forms the rows in blocks and selects with numpy (``_selection``), the same
-quantiles to the last bits, about three times slower than with the kernel.
+not stream at all: it forms the rows in blocks and selects with numpy (``_quantiles``), the same
+quantiles to the last bits, a few times slower than with the kernel.
 """
 
 from __future__ import annotations
@@ -45,8 +46,9 @@ BRACKETS = 3
 BLOCK = 8
 
 ScanKernel = Callable[..., None]
-#: (bind a scan to its arrays → run one chunk, gather one bracket): what ``scan_kernel`` returns.
-Kernels = tuple[Callable[..., Callable[[], None]], ScanKernel]
+#: (bind a scan to its arrays → run a range of trials, gather one bracket): what
+#: ``scan_kernel`` returns.
+Kernels = tuple[Callable[..., Callable[[int, int], None]], ScanKernel]
 
 
 def product_numpy(coef: np.ndarray, z: np.ndarray) -> np.ndarray:
@@ -64,6 +66,7 @@ def product_numpy(coef: np.ndarray, z: np.ndarray) -> np.ndarray:
 
 def scan_numpy(
     z: np.ndarray,
+    zoff: np.ndarray,
     coef: np.ndarray,
     nominal: np.ndarray,
     threshold: np.ndarray,
@@ -73,21 +76,26 @@ def scan_numpy(
     below: np.ndarray,
     filled: np.ndarray,
     values: np.ndarray,
-    scratch: np.ndarray,
-    flags: np.ndarray,
+    start: int,
+    stop: int,
 ) -> None:
-    """Add a chunk of trials to the accumulators, in place.
+    """Add trials ``start`` … ``stop`` to the accumulators, in place.
 
-    The chunk's outputs are ``coef @ z + nominal`` (``product_numpy``'s order): ``z`` (k × m) the
-    chunk's inputs, k a multiple of 8 (zero rows pad it), ``coef`` (rows × k); ``nominal``,
-    ``threshold`` (rows,); ``lo``, ``hi`` (rows, 3) bracket edges, inclusive (a bracket at
-    [+inf, +inf] holds nothing); ``below_threshold`` (rows,) and ``below`` (rows, 3) counts;
-    ``filled`` (rows, 3) how many values each bracket's buffer ``values`` (rows, 3, capacity)
-    holds. ``filled`` keeps counting past the capacity, so an overflowing bracket is seen (and
-    its row recomputed by the caller), never truncated silently. ``scratch`` and ``flags`` are
-    work space for the compiled kernel (unused here).
+    Row r's outputs are ``coef[r] @ z[zoff[r] : zoff[r] + k] + nominal[r]`` (``product_numpy``'s
+    order): ``z`` (inputs × trials) holds the inputs, ``coef`` (rows × k), k a multiple of 8
+    (zero coefficients pad it); ``nominal``, ``threshold`` (rows,); ``lo``, ``hi`` (rows, 3)
+    bracket edges, inclusive (a bracket at [+inf, +inf] holds nothing); ``below_threshold``
+    (rows,) and ``below`` (rows, 3) counts; ``filled`` (rows, 3) how many values each bracket's
+    buffer ``values`` (rows, 3, capacity) holds. ``filled`` keeps counting past the capacity, so
+    an overflowing bracket is seen (and its row recomputed by the caller), never truncated
+    silently.
     """
-    v = product_numpy(coef, z) + nominal[:, None]
+    k = coef.shape[1]
+    v = np.empty((coef.shape[0], stop - start))
+    for off in np.unique(zoff):
+        at = np.flatnonzero(zoff == off)
+        v[at] = product_numpy(coef[at], z[off : off + k, start:stop])
+    v += nominal[:, None]
     below_threshold += np.count_nonzero(v < threshold[:, None], axis=1)
     below += np.count_nonzero(v[:, None, :] < lo[:, :, None], axis=2)
     cap = values.shape[2]
@@ -147,7 +155,7 @@ def _compiled() -> ctypes.CDLL | None:
         )
         return None
     i64, ptr = ctypes.c_int64, ctypes.c_void_p
-    lib.feasibly_scan.argtypes = [i64, i64, i64, i64] + [ptr] * 12 + [i64]
+    lib.feasibly_scan.argtypes = [i64] * 6 + [ptr] * 12
     lib.feasibly_scan.restype = None
     lib.feasibly_gather.argtypes = [i64, i64, i64, ptr, ptr, i64, i64, ptr, ptr]
     lib.feasibly_gather.restype = None
@@ -162,8 +170,13 @@ def _address(a: np.ndarray, dtype: type, writeable: bool = False) -> int:
     return int(a.ctypes.data)
 
 
+#: Trials per chunk of the compiled scan (CHUNK in _scan.c; the kernel's work space holds one).
+_KERNEL_CHUNK = 256
+
+
 def _bind_compiled(
     z: np.ndarray,
+    zoff: np.ndarray,
     coef: np.ndarray,
     nominal: np.ndarray,
     threshold: np.ndarray,
@@ -173,14 +186,16 @@ def _bind_compiled(
     below: np.ndarray,
     filled: np.ndarray,
     values: np.ndarray,
-    scratch: np.ndarray,
-    flags: np.ndarray,
-) -> Callable[[], None]:
+) -> Callable[[int, int], None]:
     """``scan_numpy`` in C, bound to its arrays once (checked once): the returned function scans
-    whatever chunk ``z`` holds when it is called, with the same results to the bit."""
-    k, m = z.shape
-    rows = coef.shape[0]
-    if k % BLOCK or coef.shape[1] != k or scratch.size < m or flags.size < m or flags.size % 8:
+    trials ``start`` … ``stop`` of ``z``, with the same results to the bit."""
+    rows, k = coef.shape
+    if (
+        k % BLOCK
+        or z.ndim != 2
+        or zoff.shape != (rows,)
+        or (rows and (zoff.min() < 0 or zoff.max() + k > z.shape[0]))
+    ):
         raise ValueError("kernel arguments do not fit together")
     if not (
         nominal.size == threshold.size == below_threshold.size == rows
@@ -191,12 +206,11 @@ def _bind_compiled(
     f64 = np.float64
     lib = _compiled()
     assert lib is not None
+    # The broadcast coefficients (aligned by the kernel) and the sums of one chunk of trials.
+    room = np.empty(4 * k + 4 + _KERNEL_CHUNK)
     args = (
-        k,
-        m,
-        rows,
-        values.shape[2],
         _address(z, f64),
+        _address(zoff, np.int64),
         _address(coef, f64),
         _address(nominal, f64),
         _address(threshold, f64),
@@ -206,45 +220,55 @@ def _bind_compiled(
         _address(below, np.int64, True),
         _address(filled, np.int64, True),
         _address(values, f64, True),
-        _address(scratch, f64, True),
-        _address(flags, np.uint8, True),
-        flags.size,
+        _address(room, f64, True),
     )
-    kept = (
-        z,
-        coef,
-        nominal,
-        threshold,
-        lo,
-        hi,
-        below_threshold,
-        below,
-        filled,
-        values,
-        scratch,
-        flags,
-    )
-    return _BoundScan(lib, args, kept)
+    kept = (z, zoff, coef, nominal, threshold, lo, hi, below_threshold, below, filled, values)
+    return _BoundScan(lib, (k, z.shape[1]), (rows, values.shape[2]), args, (*kept, room))
 
 
 class _BoundScan:
-    """A compiled scan bound to its arrays: calling it scans the chunk its ``z`` holds now."""
+    """A compiled scan bound to its arrays: calling it with (start, stop) scans those trials."""
 
-    __slots__ = ("_args", "_arrays", "_lib")
+    __slots__ = ("_arrays", "_head", "_lib", "_limit", "_tail")
 
-    def __init__(self, lib: ctypes.CDLL, args: tuple[int, ...], arrays: tuple[np.ndarray, ...]):
-        self._lib, self._args = lib, args
-        self._arrays = arrays  # holds the arrays whose addresses are in args
+    def __init__(
+        self,
+        lib: ctypes.CDLL,
+        head: tuple[int, int],
+        middle: tuple[int, int],
+        tail: tuple[int, ...],
+        arrays: tuple[np.ndarray, ...],
+    ):
+        self._lib, self._head, self._tail = lib, head, (*middle, *tail)
+        self._limit = head[1]
+        self._arrays = arrays  # holds the arrays whose addresses are in the arguments
 
-    def __call__(self) -> None:
-        self._lib.feasibly_scan(*self._args)
+    def __call__(self, start: int, stop: int) -> None:
+        if not 0 <= start <= stop <= self._limit:
+            raise ValueError("trial range outside the inputs")
+        self._lib.feasibly_scan(*self._head, start, stop, *self._tail)
 
 
-def _bind_numpy(*args: np.ndarray) -> Callable[[], None]:
+def _bind_numpy(
+    z: np.ndarray,
+    zoff: np.ndarray,
+    coef: np.ndarray,
+    nominal: np.ndarray,
+    threshold: np.ndarray,
+    lo: np.ndarray,
+    hi: np.ndarray,
+    below_threshold: np.ndarray,
+    below: np.ndarray,
+    filled: np.ndarray,
+    values: np.ndarray,
+) -> Callable[[int, int], None]:
     """``scan_numpy`` bound to its arrays (the same interface as the compiled kernel)."""
 
-    def run() -> None:
-        scan_numpy(*args)
+    def run(start: int, stop: int) -> None:
+        scan_numpy(
+            z, zoff, coef, nominal, threshold, lo, hi, below_threshold, below, filled, values,
+            start, stop,
+        )  # fmt: skip
 
     return run
 

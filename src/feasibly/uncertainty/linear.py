@@ -29,6 +29,8 @@ from ..library.species import Species
 from ..thermo.reaction import Reaction
 from ._quantiles import (
     block_rows,
+    factor_rows,
+    factored_statistics,
     run_parallel,
     single_threaded_blas,
     streamed_statistics,
@@ -70,7 +72,8 @@ class LinearModel:
 
     ``aH``, ``aS``, ``aG`` have shape (len(T), n_inputs) in the order of the sample set's inputs;
     ``H0``, ``S0``, ``G0`` are the values at the library nominals (J/mol, J/(mol·K)), with RT ln Q
-    already in ``G0`` when ``lnQ`` was given.
+    already in ``G0`` when ``lnQ`` was given. ``pieces`` labels the rows whose coefficients are
+    the same functions of T (every term on the same phase and heat-capacity interval), or is None.
     """
 
     T: np.ndarray
@@ -80,6 +83,7 @@ class LinearModel:
     aH: np.ndarray
     aS: np.ndarray
     aG: np.ndarray
+    pieces: np.ndarray | None = None
 
     def mean(self, which: str, samples: SampleSet) -> np.ndarray:
         """Monte Carlo mean over the samples (exactly the mean of the sampled outputs)."""
@@ -186,14 +190,23 @@ def linear_model(
     aH = np.zeros((T.size, n))
     aS = np.zeros((T.size, n))
     plan = rxn.phase_plan(T)
-    for term, idx in zip(rxn.terms, plan, strict=True):
+    # Per row, each term's phase and heat-capacity interval: rows that agree on all of them have
+    # coefficients that are the same functions of T (7 for NASA-7, 9 for NASA-9 polynomials).
+    signature = np.zeros((T.size, 2 * len(rxn.terms)), dtype=np.int64)
+    for i, (term, idx) in enumerate(zip(rxn.terms, plan, strict=True)):
+        signature[:, 2 * i] = idx
         for k, sp in enumerate(term.candidates):
             mask = idx == k
             if np.any(mask):
                 deviation_rows(sp, T[mask], rxn, keys, aH, aS, term.nu * term.scale(k), mask)
+                breaks = getattr(sp.cp_model, "breaks", None)
+                if breaks is not None and len(breaks) > 2:
+                    inner = np.asarray(breaks[1:-1])
+                    signature[mask, 2 * i + 1] = np.searchsorted(inner, T[mask], side="left")
+    pieces = np.unique(signature, axis=0, return_inverse=True)[1].reshape(T.size)
     aG = aH - T[:, None] * aS
     G0 = std.dG + (R * T * lnQ if lnQ is not None else 0.0)
-    return LinearModel(T, std.dH, std.dS, G0, aH, aS, aG)
+    return LinearModel(T, std.dH, std.dS, G0, aH, aS, aG, pieces)
 
 
 def sample_moments(samples: SampleSet) -> tuple[np.ndarray, np.ndarray]:
@@ -272,20 +285,39 @@ def summarise(
         raise InvalidUncertainty(
             f"coverage probability {coverage!r} must lie strictly between 0 and 1"
         )
+    from . import _scan
+
     nominal, coef = model._pick(which)
     n = samples.n
+    tail = (1.0 - coverage) / 2.0
+    probs = (tail, 0.5, 1.0 - tail)
+    thr = np.broadcast_to(np.asarray(threshold, dtype=float), model.T.shape).copy()
     # Every matrix step here is small or runs in our own worker threads: BLAS on one thread.
     with single_threaded_blas():
+        if coef.shape[0] > 2 and _scan.compiled() and n > 1:
+            # Each input's spread (its standard uncertainty and any shift of its nominal)
+            # judges the factorisation: the sizes of the contributions, not the coefficients.
+            scale = np.array([math.hypot(inp.u, inp.shift) for inp in samples.inputs])
+            factors = factor_rows(coef, scale, model.pieces)
+            # Moments from the factored inputs (a few rows instead of every input): the mean and
+            # covariance of z = right @ x through each row's coefficients.
+            mean, u, q, e, below = factored_statistics(
+                factors, nominal, samples.values, probs, thr, coef
+            )
+            return _summary(mean, u, q, e, below, n)
         xbar, cov = sample_moments(samples)
         mean = nominal + coef @ xbar
         var = np.einsum("ij,jk,ik->i", coef, cov, coef)
         u = np.sqrt(np.clip(var, 0.0, None))
-        tail = (1.0 - coverage) / 2.0
-        probs = (tail, 0.5, 1.0 - tail)
-        thr = np.broadcast_to(np.asarray(threshold, dtype=float), model.T.shape).copy()
         q, e, below = streamed_statistics(
             coef, nominal, samples.values, mean, u, probs, thr, scale=np.sqrt(np.diag(cov))
         )
+    return _summary(mean, u, q, e, below, n)
+
+
+def _summary(
+    mean: np.ndarray, u: np.ndarray, q: np.ndarray, e: np.ndarray, below: np.ndarray, n: int
+) -> Summary:
     p = below / n
     return Summary(
         mean,
