@@ -35,8 +35,9 @@ def _training() -> list[dict[str, str]]:
         return list(csv.DictReader(f))
 
 
-def _u(rule: dict, S: float, ions: int) -> float:
-    return rule["u_rel"] * abs(S) if rule["kind"] == "relative" else rule["u_per_ion"] * ions
+def _u(rule: dict, S: float, ions: int, anion: str) -> float:
+    u = rule["u_rel"] * abs(S) if rule["kind"] == "relative" else rule["u_per_ion"] * ions
+    return u * rule["class_factor"].get(anion, 1.0)
 
 
 def _fit(rows: list[dict[str, str]]) -> dict[str, float]:
@@ -77,7 +78,7 @@ def test_estimate_is_the_sum_of_the_shipped_terms() -> None:
         terms["SO4 2-"]["s_J_per_mol_K"]
     )
     assert est.S298 == pytest.approx(expected, abs=1e-9)
-    assert est.u_S298 == pytest.approx(_u(ionic_entropy_rule(), est.S298, 5))
+    assert est.u_S298 == pytest.approx(_u(ionic_entropy_rule(), est.S298, 5, "SO4 2-"))
     summary = json.loads(json.dumps(est.summary()))
     assert [t["ion"] for t in summary["terms"]] == ["Al3+", "SO4 2-"]
     assert summary["u_S298_J_per_mol_K"] == est.u_S298
@@ -100,7 +101,7 @@ def test_training_table_is_todays_library_and_the_fit_reproduces_it() -> None:
         assert int(terms[t]["compounds"]) >= rule["min_training_salts"]
     inside = [
         abs(_predict(s, r) - float(r["S_298"]))
-        <= Z95 * _u(rule, _predict(s, r), int(r["n"]) + int(r["m"]))
+        <= Z95 * _u(rule, _predict(s, r), int(r["n"]) + int(r["m"]), r["anion"])
         for r in rows
     ]
     # The stated 95 % interval holds at least 95 % of the salts the fit was made from.
@@ -117,7 +118,7 @@ def test_leave_one_out_coverage_recomputed() -> None:
         assert pred == pytest.approx(float(r["S_loo"]), abs=2e-3)  # table rounds to 1e-3
         err = pred - float(r["S_298"])
         errors.append(err)
-        covered.append(abs(err) <= Z95 * _u(rule, pred, int(r["n"]) + int(r["m"])))
+        covered.append(abs(err) <= Z95 * _u(rule, pred, int(r["n"]) + int(r["m"]), r["anion"]))
     e = np.array(errors)
     assert np.mean(covered) >= 0.90
     assert np.mean(covered) == pytest.approx(rule["loo_coverage_95"], abs=1e-4)
@@ -131,6 +132,11 @@ def test_leave_one_out_coverage_recomputed() -> None:
     key = "u_per_ion" if rule["kind"] == "per_ion" else "u_rel"
     q = float(np.quantile(scaled, 0.95, method="higher")) / Z95
     assert q == pytest.approx(rule[key], rel=1e-3)
+    # A class factor widens the pooled rule to the class's own 95th percentile, never narrows.
+    anions = np.array([r["anion"] for r in rows])
+    for a, factor in rule["class_factor"].items():
+        q_a = float(np.quantile(scaled[anions == a], 0.95, method="higher")) / Z95
+        assert factor >= 1.0 and factor == pytest.approx(q_a / rule[key], abs=2e-3)
 
 
 def test_estimate_solid_takes_s_from_the_ionic_terms() -> None:

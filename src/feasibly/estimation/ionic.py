@@ -251,7 +251,7 @@ def ionic_entropy(formula: str) -> IonicEntropy:
     c, a = table[sp.cation], table[sp.anion]
     S = sp.n * c["s"] + sp.m * a["s"]
     rule = ionic_entropy_rule()
-    u = _u(S, sp.n + sp.m, rule)
+    u = _u(S, sp.n + sp.m, rule) * float(rule.get("class_factor", {}).get(sp.anion, 1.0))
     terms = (
         (sp.cation, sp.n, c["s"], c["compounds"]),
         (sp.anion, sp.m, a["s"], a["compounds"]),
