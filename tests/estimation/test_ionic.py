@@ -149,6 +149,7 @@ def test_estimate_solid_takes_s_from_the_ionic_terms() -> None:
     est = ionic_entropy("Al2(SO4)3")
     assert sp.S298.value == est.S298 and sp.S298.u == est.u_S298
     assert sp.S298.source == IONIC_ORIGIN
+    assert "ionic-contribution S°" in sp.origin
     assert "Al3+" in sp.S298.entry and "SO4 2-" in sp.S298.entry
     assert sp.dHf.value == -3_440_000.0
     given = estimate_solid(

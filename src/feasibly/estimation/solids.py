@@ -33,6 +33,8 @@ from .ionic import IONIC_ORIGIN, ionic_entropy
 __all__ = ["NK_ORIGIN", "NeumannKopp", "estimate_solid", "neumann_kopp", "neumann_kopp_rule"]
 
 NK_ORIGIN = "estimated (Neumann–Kopp)"
+#: Origin of an entry whose S° is the fitted ionic-contribution estimate as well.
+NK_IONIC_ORIGIN = "estimated (Neumann–Kopp Cp, fitted ionic-contribution S°)"
 #: Highest temperature an entry made from the 298.15 K rule is given for: Cp of solids rises
 #: by typically 10–20 % from 298 K to 600 K, beyond the calibrated 298 K spread (common
 #: practice, no source); the user may choose lower, not higher.
@@ -187,7 +189,6 @@ def estimate_solid(
         ],
     }
     doc = {"schema": "feasibly-species", "schema_version": 1, "species": [entry]}
-    mine = Library.from_text(
-        json.dumps(doc, ensure_ascii=False), f"estimate of {formula}", NK_ORIGIN
-    )
+    origin = NK_ORIGIN if S298_J_per_mol_K is not None else NK_IONIC_ORIGIN
+    mine = Library.from_text(json.dumps(doc, ensure_ascii=False), f"estimate of {formula}", origin)
     return base.with_species(mine)
