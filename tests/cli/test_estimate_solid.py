@@ -66,3 +66,34 @@ def test_refusals_exit_2_with_the_reason(
     assert main(["estimate", "--solid", formula]) == 2
     err = capsys.readouterr().err
     assert says in err and "Traceback" not in err
+
+
+def test_a_record_with_an_estimated_salt_verifies(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
+    path, record = tmp_path / "cdco3.json", tmp_path / "call.json"
+    args = ["estimate", "--solid", "CdCO3", "--write", str(path), "--source", "invented"]
+    assert main([*args, "--dHf", "-750.6", "1.5"]) == 0  # ΔfH° invented for this test
+    code = main(
+        [
+            "assess",
+            "CdCO3(cr,estimated) -> CdO + CO2",
+            "--T",
+            "450 K",
+            "--species-file",
+            str(path),
+            "--samples",
+            "4096",  # small for speed: verification is bitwise at any N
+            "--seed",
+            "5",
+            "--record",
+            str(record),
+        ]
+    )
+    assert code == 0, capsys.readouterr()
+    rows = json.loads(record.read_text("utf-8"))["results"]["uncertainty"]["sensitivity"]
+    # The estimated S° is among the ranked inputs, named as estimated.
+    assert any(r["source"].startswith("estimated (ionic") for r in rows)
+    path.unlink()  # verification needs only the record
+    capsys.readouterr()
+    assert main(["verify", str(record)]) == 0, capsys.readouterr().out
