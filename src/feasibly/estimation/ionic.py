@@ -149,7 +149,8 @@ class _NonIntegerCharge(NotEstimable):
         self.element, self.z = element, z
         reason = (
             f"the anions carry {total}− for {n} {element}, a non-integer charge {z:.3g}+ per "
-            f"{element}: the charges do not balance with one {element} ion"
+            f"{element}: the charges do not balance with one {element} ion (a mixed-valence "
+            "compound, or a formula that is not a salt)"
         )
         super().__init__(formula, METHOD, [reason], [element])
 
