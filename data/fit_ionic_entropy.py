@@ -75,7 +75,7 @@ def training_set() -> tuple[list[dict[str, Any]], Counter[str], dict[str, int]]:
         try:
             split = split_ionic(sp.formula)
         except NotEstimable as exc:
-            refused[exc.reasons[0].split(" (")[0].split(":")[0]] += 1
+            refused[_kind_of_refusal(exc.reasons[0])] += 1
             continue
         g = sp.dHf.value - T0 * sp.S298.value
         key = sp.formula
@@ -103,6 +103,20 @@ def training_set() -> tuple[list[dict[str, Any]], Counter[str], dict[str, int]]:
             dropped = {t: k for t, k in sorted(every.items()) if t not in counts}
             return rows, refused, dropped
         rows = keep
+
+
+def _kind_of_refusal(reason: str) -> str:
+    for key, kind in (
+        ("no metal", "no metal cation"),
+        ("more than one cation", "several cation elements"),
+        ("element, not a salt", "element"),
+        ("is not a whole number of one anion", "not one listed anion"),
+        ("non-integer charge", "non-integer cation charge"),
+        ("whole-numbered", "non-integer cation count"),
+    ):
+        if key in reason:
+            return kind
+    return "other"
 
 
 def fit(rows: list[dict[str, Any]]) -> dict[str, float]:
