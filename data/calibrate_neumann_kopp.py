@@ -80,11 +80,11 @@ def main() -> None:
         "coverage_95": float(np.mean(np.abs(rel) <= Z95 * u_rel)),
         "basis": "Cp°(298.15 K) of the library's crystalline entries (NASA Glenn, CRC); "
         "data/neumann-kopp-calibration.csv",
-        "not_offered": "S° by ionic contributions (Latimer-type): no source with terms that allow "
-        "shipping its table was available",
+        "S_298": "not from this rule: fitted ionic contributions (Latimer's form), "
+        "data/fit_ionic_entropy.py and ionic-entropy-uncertainty.json",
     }
     RULE.write_text(json.dumps(out, indent=1, ensure_ascii=False) + "\n", "utf-8")
-    print({k: v for k, v in out.items() if k not in ("rule", "basis", "not_offered")})
+    print({k: v for k, v in out.items() if k not in ("rule", "basis", "S_298")})
     assert math.isfinite(u_rel)
 
 

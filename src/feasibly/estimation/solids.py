@@ -8,9 +8,9 @@ inorganic solids in ``chemicals`` (``data/calibrate_neumann_kopp.py`` writes the
 from it is constant-Cp and limited to a short range above room temperature (see
 :func:`estimate_solid`).
 
-No S° rule is offered: the published ionic-contribution (Latimer-type) tables could not be
-obtained here from a source whose terms allow shipping them, so ΔfH° and S° of a solid are the
-user's, with their sources; only Cp is estimated.
+When the user gives no S°, :func:`estimate_solid` takes it from the fitted ionic
+contributions of :mod:`feasibly.estimation.ionic` (Latimer's form, fitted to the library's
+salts, leave-one-out calibrated uncertainty); ΔfH° is always the user's, with its source.
 """
 
 from __future__ import annotations
@@ -28,10 +28,13 @@ from ..errors import InvalidInput, NotEstimable
 from ..library import Library, default_library
 from ..library.cp_models import T_REF
 from ..library.formula import parse_formula
+from .ionic import IONIC_ORIGIN, ionic_entropy
 
 __all__ = ["NK_ORIGIN", "NeumannKopp", "estimate_solid", "neumann_kopp", "neumann_kopp_rule"]
 
 NK_ORIGIN = "estimated (Neumann–Kopp)"
+#: Origin of an entry whose S° is the fitted ionic-contribution estimate as well.
+NK_IONIC_ORIGIN = "estimated (Neumann–Kopp Cp, fitted ionic-contribution S°)"
 #: Highest temperature an entry made from the 298.15 K rule is given for: Cp of solids rises
 #: by typically 10–20 % from 298 K to 600 K, beyond the calibrated 298 K spread (common
 #: practice, no source); the user may choose lower, not higher.
@@ -112,7 +115,7 @@ def estimate_solid(
     formula: str,
     *,
     dHf_J_per_mol: tuple[float, float],
-    S298_J_per_mol_K: tuple[float, float],
+    S298_J_per_mol_K: tuple[float, float] | None = None,
     source: str,
     T_max: float = 500.0,
     name: str = "",
@@ -120,13 +123,34 @@ def estimate_solid(
     library: Library | None = None,
 ) -> Library:
     """``library`` (the shipped one by default) with a solid entry ``FORMULA(cr,LABEL)`` whose
-    ΔfH° and S° (value, standard u) are the user's, named by ``source``, and whose Cp is the
-    constant Neumann–Kopp value with its calibrated uncertainty, valid 298.15 K to ``T_max``
-    (at most 600 K)."""
+    ΔfH° (value, standard u) is the user's, named by ``source``, whose S° is the user's too or,
+    when ``S298_J_per_mol_K`` is None, the fitted ionic-contribution estimate with its
+    calibrated uncertainty (refused with :class:`~feasibly.errors.NotEstimable` outside the
+    method), and whose Cp is the constant Neumann–Kopp value with its calibrated uncertainty,
+    valid 298.15 K to ``T_max`` (at most 600 K)."""
     dHf = _pair(dHf_J_per_mol, "dHf_J_per_mol", 1e7)
-    S = _pair(S298_J_per_mol_K, "S298_J_per_mol_K", 1e4)
     if not isinstance(source, str) or not source.strip():
-        raise InvalidInput("source", "estimate_solid", "where ΔfH° and S° came from", source)
+        raise InvalidInput("source", "estimate_solid", "where ΔfH° (and S°) came from", source)
+    if S298_J_per_mol_K is None:
+        ion = ionic_entropy(formula)
+        ion_terms = "; ".join(f"{t} × {c}: {v:.3f}" for t, c, v, _ in ion.terms)
+        S_block: dict[str, Any] = {
+            "value": ion.S298,
+            "u": ion.u_S298,
+            "source": IONIC_ORIGIN,
+            "entry": f"Σ ion contributions [J/(mol·K)]: {ion_terms}",
+            "uncertainty": {
+                "stated": ion.u_S298,
+                "convention": "standard",
+                "source": f"{IONIC_ORIGIN}; {ion.rule}; ionic-entropy-uncertainty.json",
+                "assumed": False,
+            },
+        }
+        S_note = f"S° from fitted ionic contributions ({ion_terms})"
+    else:
+        S = _pair(S298_J_per_mol_K, "S298_J_per_mol_K", 1e4)
+        S_block = {"value": S[0], "u": S[1], "source": source, "entry": formula}
+        S_note = f"S° from: {source}"
     if not isinstance(T_max, (int, float)) or not T_REF < T_max <= MAX_T_SOLID:
         raise InvalidInput(
             "T_max",
@@ -145,7 +169,7 @@ def estimate_solid(
         "names": [name] if name else [],
         "T_range_K": [T_REF, float(T_max)],
         "dHf_298": {"value": dHf[0], "u": dHf[1], "source": source, "entry": formula},
-        "S_298": {"value": S[0], "u": S[1], "source": source, "entry": formula},
+        "S_298": S_block,
         "cp": {
             "model": "constant",
             "cp_J_per_mol_K": nk.cp298,
@@ -161,11 +185,10 @@ def estimate_solid(
         },
         "notes": [
             f"Cp° by the Neumann–Kopp rule ({terms} J/(mol·K) per atom), constant over the "
-            f"range; ΔfH° and S° from: {source}",
+            f"range; ΔfH° from: {source}; {S_note}",
         ],
     }
     doc = {"schema": "feasibly-species", "schema_version": 1, "species": [entry]}
-    mine = Library.from_text(
-        json.dumps(doc, ensure_ascii=False), f"estimate of {formula}", NK_ORIGIN
-    )
+    origin = NK_ORIGIN if S298_J_per_mol_K is not None else NK_IONIC_ORIGIN
+    mine = Library.from_text(json.dumps(doc, ensure_ascii=False), f"estimate of {formula}", origin)
     return base.with_species(mine)
