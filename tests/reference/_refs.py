@@ -106,6 +106,61 @@ def atct_rows(phase: str) -> list[dict[str, str]]:
 
 
 # ---------------------------------------------------------------------------------------------
+# CRC/NBS 298.15 K rows (chemicals) and the checks that a row is the entry's compound
+# ---------------------------------------------------------------------------------------------
+
+
+@cache
+def crc_rows() -> dict[str, dict[str, str]]:
+    """The CRC Handbook table "Standard Thermodynamic Properties of Chemical Substances" (NBS
+    values) as carried by ``chemicals``, by CAS."""
+    path = ir.files("chemicals").joinpath(
+        "Heat Capacity", "CRC Standard Thermodynamic Properties of Chemical Substances.tsv"
+    )
+    with open(str(path), encoding="utf-8", newline="") as f:
+        return {r["CAS"]: r for r in csv.DictReader(f, delimiter="\t")}
+
+
+@cache
+def same_substance(cas: str, elements_items: tuple) -> bool:
+    """CRC rows are keyed by CAS only: compare only where chemicals' identifier database gives
+    that CAS the entry's composition (a shared CAS would compare unlike substances)."""
+    from chemicals.elements import simple_formula_parser
+    from chemicals.identifiers import search_chemical
+
+    try:
+        comp = simple_formula_parser(search_chemical(cas).formula)
+    except Exception:  # an unknown CAS or formula: no comparison
+        return False
+    els = dict(elements_items)
+    return set(comp) == set(els) and all(abs(float(comp[k]) - float(els[k])) < 1e-9 for k in comp)
+
+
+def element_entropies(species: list[dict]) -> dict[str, float]:
+    """S° per atom of each element's reference state among library entries (J/(mol K))."""
+    return {
+        e["reference_state_of"]: e["S_298"]["value"] / sum(e["elements"].values())
+        for e in species
+        if e.get("reference_state_of")
+    }
+
+
+def crc_row_fits(
+    elements: dict[str, float], row: dict[str, str], letter: str, element_s: dict[str, float]
+) -> bool:
+    """Whether a CRC row's own ΔfG° = ΔfH° − T(S° − ΣS°(elements)) holds for the composition
+    within twice the combined u of 4 kJ/mol and T × 2 J/(mol K), as the data build checks it (a
+    wrong CAS in the identifier database pairs TiO(cr) with Ti3O5's row, −2459 kJ/mol). A row
+    without the three values, or with an element lacking a reference state, is not judged."""
+    cells = [row.get(f"{k}{letter}", "").strip() for k in ("Hf", "S0", "Gf")]
+    if not all(cells) or any(k not in element_s for k in elements):
+        return True
+    h, s, g = (float(c) for c in cells)
+    ds = s - sum(element_s[k] * n for k, n in elements.items())
+    return abs(g - (h - 298.15 * ds)) <= 2 * math.hypot(4000.0, 298.15 * 2.0)
+
+
+# ---------------------------------------------------------------------------------------------
 # Cantera species from a library entry's NASA-7 coefficients
 # ---------------------------------------------------------------------------------------------
 

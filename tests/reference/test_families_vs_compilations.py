@@ -27,7 +27,6 @@ fails when one of them gains a check (so the list stays true) or another family 
 from __future__ import annotations
 
 import csv
-import importlib.resources as ir
 import json
 import math
 from collections import defaultdict
@@ -36,7 +35,14 @@ from pathlib import Path
 
 import pytest
 
-from ._refs import atct_rows, janaf_rows
+from ._refs import (
+    atct_rows,
+    crc_row_fits,
+    crc_rows,
+    element_entropies,
+    janaf_rows,
+    same_substance,
+)
 
 pytestmark = pytest.mark.reference
 
@@ -124,15 +130,6 @@ def _janaf_index() -> dict[str, str]:
 
 
 @cache
-def _crc() -> dict[str, dict[str, str]]:
-    path = ir.files("chemicals").joinpath(
-        "Heat Capacity", "CRC Standard Thermodynamic Properties of Chemical Substances.tsv"
-    )
-    with open(str(path), encoding="utf-8", newline="") as f:
-        return {r["CAS"]: r for r in csv.DictReader(f, delimiter="\t")}
-
-
-@cache
 def _atct() -> dict[tuple[str, str], float]:
     return {
         (r["CAS"], phase): float(r[f"Hf{phase}"])
@@ -143,39 +140,8 @@ def _atct() -> dict[tuple[str, str], float]:
 
 
 @cache
-def _same_substance(cas: str, items: tuple) -> bool:
-    from chemicals.elements import simple_formula_parser
-    from chemicals.identifiers import search_chemical
-
-    try:
-        comp = simple_formula_parser(search_chemical(cas).formula)
-    except Exception:  # an unknown CAS or formula: no comparison
-        return False
-    els = dict(items)
-    return set(comp) == set(els) and all(abs(float(comp[k]) - float(els[k])) < 1e-9 for k in comp)
-
-
-@cache
 def _element_s() -> dict[str, float]:
-    """S° per atom of each element's reference state in the library (J/(mol K))."""
-    return {
-        e["reference_state_of"]: e["S_298"]["value"] / sum(e["elements"].values())
-        for e in _library()
-        if e.get("reference_state_of")
-    }
-
-
-def _row_fits(e: dict, row: dict[str, str], letter: str) -> bool:
-    """A CRC row is compared only when its own ΔfG° = ΔfH° − T(S° − ΣS°(elements)) holds for
-    the entry's composition within twice the combined u of 4 kJ/mol and T × 2 J/(mol K) (a
-    wrong CAS in the identifier database pairs TiO(cr) with Ti3O5's row, −2459 kJ/mol)."""
-    cells = [row.get(f"{k}{letter}", "").strip() for k in ("Hf", "S0", "Gf")]
-    ref = _element_s()
-    if not all(cells) or any(k not in ref for k in e["elements"]):
-        return True
-    h, s, g = (float(c) for c in cells)
-    ds = s - sum(ref[k] * n for k, n in e["elements"].items())
-    return abs(g - (h - 298.15 * ds)) <= 2 * math.hypot(4000.0, 298.15 * 2.0)
+    return element_entropies(_library())
 
 
 def _independent(e: dict) -> list[tuple[str, str, float]]:
@@ -194,11 +160,11 @@ def _independent(e: dict) -> list[tuple[str, str, float]]:
     letter = {"g": "g", "l": "l", "cr": "s"}[e["phase"]]
     if (
         cas
-        and cas in _crc()
-        and _same_substance(cas, tuple(sorted(e["elements"].items())))
-        and _row_fits(e, _crc()[cas], letter)
+        and cas in crc_rows()
+        and same_substance(cas, tuple(sorted(e["elements"].items())))
+        and crc_row_fits(e["elements"], crc_rows()[cas], letter, _element_s())
     ):
-        row = _crc()[cas]
+        row = crc_rows()[cas]
         for q, col in (("dHf_298", f"Hf{letter}"), ("S_298", f"S0{letter}")):
             if row.get(col, "").strip() and e[q]["source"] != "crc-298":
                 out.append((q, "crc-298", float(row[col])))

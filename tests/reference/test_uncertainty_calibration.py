@@ -17,16 +17,14 @@ these recomputations give.
 from __future__ import annotations
 
 import csv
-import importlib.resources as ir
 import json
-import math
 from functools import cache
 from pathlib import Path
 
 import numpy as np
 import pytest
 
-from ._refs import janaf_rows
+from ._refs import crc_row_fits, crc_rows, element_entropies, janaf_rows, same_substance
 
 pytestmark = pytest.mark.reference
 
@@ -46,58 +44,14 @@ def _index() -> dict[str, str]:
 
 
 @cache
-def _crc() -> dict[str, dict[str, str]]:
-    path = ir.files("chemicals").joinpath(
-        "Heat Capacity", "CRC Standard Thermodynamic Properties of Chemical Substances.tsv"
-    )
-    with open(str(path), encoding="utf-8", newline="") as f:
-        return {r["CAS"]: r for r in csv.DictReader(f, delimiter="\t")}
-
-
-@cache
 def _calibration() -> dict[str, dict[str, str]]:
     with open(DATA / "uncertainty-calibration.csv", encoding="utf-8", newline="") as f:
         return {r["class"]: r for r in csv.DictReader(f) if r["against"] == "all"}
 
 
 @cache
-def _same_substance(cas: str, elements_items: object) -> bool:
-    """CRC rows are keyed by CAS only: compare only where chemicals' identifier database gives
-    that CAS the entry's composition (a shared CAS would compare unlike substances)."""
-    from chemicals.elements import simple_formula_parser
-    from chemicals.identifiers import search_chemical
-
-    try:
-        comp = simple_formula_parser(search_chemical(cas).formula)
-    except Exception:  # unknown CAS or formula: no comparison
-        return False
-    elements = dict(elements_items)  # type: ignore[call-overload]
-    return set(comp) == set(elements) and all(
-        abs(float(comp[k]) - float(elements[k])) < 1e-9 for k in comp
-    )
-
-
-@cache
 def _element_s() -> dict[str, float]:
-    """S° per atom of each element's reference state in the library (J/(mol K))."""
-    return {
-        e["reference_state_of"]: e["S_298"]["value"] / sum(e["elements"].values())
-        for e in _library()["species"]
-        if e.get("reference_state_of")
-    }
-
-
-def _row_fits(e: dict, row: dict[str, str], letter: str) -> bool:
-    """A CRC row is compared only when its own ΔfG° = ΔfH° − T(S° − ΣS°(elements)) holds for the
-    entry's composition within twice the combined u of 4 kJ/mol and T × 2 J/(mol K), as the
-    build does (a wrong CAS in the identifier database pairs TiO(cr) with Ti3O5's row)."""
-    cells = [row.get(f"{k}{letter}", "").strip() for k in ("Hf", "S0", "Gf")]
-    ref = _element_s()
-    if not all(cells) or any(k not in ref for k in e["elements"]):
-        return True
-    h, s, g = (float(c) for c in cells)
-    ds = s - sum(ref[k] * n for k, n in e["elements"].items())
-    return abs(g - (h - 298.15 * ds)) <= 2 * math.hypot(4000.0, 298.15 * 2.0)
+    return element_entropies(_library()["species"])
 
 
 def _class_u(cls: str) -> float:
@@ -122,7 +76,7 @@ def _differences() -> list[tuple[str, str, float, float, str, float]]:
     """(class, entry, |difference|, shipped u, policy, scale of the class u) per comparison."""
     lib = _library()["species"]
     index = _index()
-    crc = _crc()
+    crc = crc_rows()
     cols = {"g": ("Hfg", "S0g"), "l": ("Hfl", "S0l"), "cr": ("Hfs", "S0s")}
     count: dict[tuple[str, str], int] = {}
     for e in lib:
@@ -144,10 +98,12 @@ def _differences() -> list[tuple[str, str, float, float, str, float]]:
             if (
                 e["cas"]
                 and count.get((e["cas"], e["phase"])) == 1
-                and _same_substance(e["cas"], tuple(sorted(e["elements"].items())))
+                and same_substance(e["cas"], tuple(sorted(e["elements"].items())))
                 and block["source"] != "crc-298"
                 and e["cas"] in crc
-                and _row_fits(e, crc[e["cas"]], cols[e["phase"]][0][-1])
+                and crc_row_fits(
+                    e["elements"], crc[e["cas"]], cols[e["phase"]][0][-1], _element_s()
+                )
             ):
                 cell = crc[e["cas"]][cols[e["phase"]][0 if q == "dHf" else 1]].strip()
                 if cell:
