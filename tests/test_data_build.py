@@ -403,3 +403,26 @@ def test_modules_import_only_modules_listed_before_them() -> None:
                 assert not any(t.split(".")[0] == "feasibly" for t in targets), (
                     f"{mod} imports feasibly; only _kernel may"
                 )
+
+
+def test_no_shipped_name_carries_another_formula() -> None:
+    """The identifier database files "titanium oxide (Ti3O5)" under TiO's composition; a name (and
+    its CAS number) like that would lead a query in braces for Ti3O5 to TiO. No shipped name may
+    carry, in parentheses, a formula of other proportions than its entry's."""
+    import re
+
+    from feasibly.library import parse_formula
+
+    pattern = re.compile(r"\(([A-Z][a-z]?\d*(?:[A-Z][a-z]?\d*)+)\)")
+    bad = []
+    for e in shipped()["species"]:
+        for name in e["names"]:
+            for token in pattern.findall(name):
+                if set(token) <= set("IVX"):
+                    continue  # an oxidation state, not a formula
+                comp = {k: float(v) for k, v in parse_formula(token).elements.items()}
+                own = {k: float(v) for k, v in e["elements"].items()}
+                ratios = [comp[k] / own[k] for k in comp if k in own]
+                if set(comp) != set(own) or max(ratios) - min(ratios) > 1e-9:
+                    bad.append((e["id"], name))
+    assert not bad, bad
