@@ -20,7 +20,6 @@ from .atct import Row, composition
 from .entries import Entry
 from .formulas import same_comp
 
-
 _FORMULA_IN_NAME = re.compile(r"\(([A-Z][a-z]?\d*(?:[A-Z][a-z]?\d*)+)\)")
 
 
