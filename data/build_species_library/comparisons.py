@@ -20,6 +20,7 @@ import numpy as np
 from ._kernel import T_REF
 from .errors import need
 from .formulas import same_comp
+from .policies import policy_u
 
 if TYPE_CHECKING:
     from .entries import Entry
@@ -172,23 +173,46 @@ def same_substance(cas: str, elements: Mapping[str, float]) -> bool:
     return comp is not None and same_comp(comp, elements)
 
 
-#: Limit of a CRC row's own ΔfG° check, J/mol: twice the combined u of a row's ΔfH° and T·S°
-#: under the provisional crc policies (4000 J/mol, 2 J/(mol K)), as crosschecks.py applies it.
-ROW_LIMIT = 2.0 * math.hypot(4000.0, T_REF * 2.0)
+#: Standard uncertainty of a CRC row's ΔfG° computed from its ΔfH° and S° (J/mol): the row's
+#: ΔfH° and T·S° under the provisional crc policies (the element entropies' u is far smaller).
+ROW_U = math.hypot(policy_u("crc-dHf"), T_REF * policy_u("crc-S"))
+#: Coverage factor of the row check, as the cross-checks' (crosschecks.K_COVERAGE).
+ROW_K = 2.0
+
+
+def element_entropies(entries: Sequence[Entry]) -> dict[str, float]:
+    """S° per atom of each element's reference state (O2(g) holds 2 atoms), J/(mol K)."""
+    return {
+        x["reference_state_of"]: x["S_298"]["value"] / sum(x["elements"].values())
+        for x in entries
+        if x["reference_state_of"]
+    }
+
+
+def crc_row_dfg(
+    elements: Mapping[str, float], h: float, s: float, ref_s: Mapping[str, float]
+) -> float | None:
+    """ΔfG° = ΔfH° − T(S° − ΣS°(elements)) of a CRC row's ΔfH° and S° for the composition
+    ``elements`` (J/mol), to compare with the row's own ΔfG°; None when an element has no
+    reference state to take S° from."""
+    if any(k not in ref_s for k in elements):
+        return None
+    ds = s - sum(ref_s[k] * n for k, n in elements.items())
+    return h - T_REF * ds
 
 
 def _row_fits(e: Entry, row: Mapping[str, Any], ref_s: Mapping[str, float]) -> bool:
-    """Whether a CRC row's ΔfH°, S°, ΔfG° are consistent with the entry's composition
-    (ΔfG° = ΔfH° − T(S° − ΣS°(elements))): a CAS the identifier database gives the wrong
-    compound pairs unrelated rows (measured: TiO(cr) against Ti3O5's −2459 kJ/mol)."""
+    """Whether a CRC row's ΔfH°, S°, ΔfG° are consistent with the entry's composition: a CAS
+    the identifier database gives the wrong compound pairs unrelated rows (measured: TiO(cr)
+    against Ti3O5's −2459 kJ/mol). A row that cannot be checked is compared as its CAS says."""
     from .sources import fnum
 
     col = {"g": "g", "l": "l", "cr": "s"}[e["phase"]]
     h, s, g = (fnum(row.get(f"{k}{col}")) for k in ("Hf", "S0", "Gf"))
-    if h is None or s is None or g is None or any(k not in ref_s for k in e["elements"]):
-        return True  # nothing to check the row with: compared as its CAS says
-    ds = s - sum(ref_s[k] * n for k, n in e["elements"].items())
-    return abs(g - (h - T_REF * ds)) <= ROW_LIMIT
+    if h is None or s is None or g is None:
+        return True
+    calc = crc_row_dfg(e["elements"], h, s, ref_s)
+    return calc is None or abs(g - calc) <= ROW_K * ROW_U
 
 
 def _policy(block: Mapping[str, Any]) -> str | None:
@@ -260,11 +284,7 @@ def collect(
     tables: dict[str, dict[float, tuple[float, float, float | None]]] = {}
     out: list[Comparison] = []
     # S° per atom of each element's reference state, for the CRC rows' own ΔfG° check
-    ref_s = {
-        x["reference_state_of"]: x["S_298"]["value"] / sum(x["elements"].values())
-        for x in entries
-        if x["reference_state_of"]
-    }
+    ref_s = element_entropies(entries)
     for e in sorted(entries, key=lambda x: x["id"]):
         sid = e["id"]
         jt = None

@@ -26,14 +26,13 @@ from typing import Any
 
 from chemicals.elements import periodic_table
 
-from ._kernel import T_REF
-from .comparisons import RELATIVE, value_class
+from .comparisons import RELATIVE, ROW_U, crc_row_dfg, element_entropies, value_class
 from .crc import CRC_FILE
 from .entries import Entry
 from .errors import need
 from .nasa import load_nasa
 from .physical_checks import physical_failures
-from .policies import policy_u, value_block
+from .policies import value_block
 from .polynomials import poly_298
 from .sources import fnum, pkg_file, read_tsv
 from .tables import dispositions
@@ -154,19 +153,15 @@ _REF_S: dict[str, float] = {}
 def _cmp_gf(e: Entry, entries: list[Entry]) -> dict[str, Any] | None:
     """A CRC row's own consistency: ΔfG° vs ΔfH° − T(S° − Σ S°(elements))."""
     if not _REF_S:
-        for x in entries:
-            if x["reference_state_of"]:
-                # per atom: reference states such as O2(g) hold 2 atoms
-                n = sum(x["elements"].values())
-                _REF_S[x["reference_state_of"]] = x["S_298"]["value"] / n
+        _REF_S.update(element_entropies(entries))
     gf = e["_crc_gf"]
-    if gf is None or any(k not in _REF_S for k in e["elements"]):
+    if gf is None:
         return None
-    ds = e["S_298"]["value"] - sum(_REF_S[k] * n for k, n in e["elements"].items())
-    g_calc = e.get("_crc_hf", e["dHf_298"]["value"]) - T_REF * ds
-    # u of the computed ΔfG: ΔfH and T·S of the row (element entropies' u is far smaller).
-    u = math.hypot(policy_u("crc-dHf"), T_REF * policy_u("crc-S"))
-    return _cmp(e, "dfG_298 (own row)", "crc-298 row dfG", gf, 0.0, g_calc, u)
+    h = e.get("_crc_hf", e["dHf_298"]["value"])
+    g_calc = crc_row_dfg(e["elements"], h, e["S_298"]["value"], _REF_S)
+    if g_calc is None:
+        return None
+    return _cmp(e, "dfG_298 (own row)", "crc-298 row dfG", gf, 0.0, g_calc, ROW_U)
 
 
 def _row_fits(e: Entry, h: float, s: float, g: float, entries: list[Entry]) -> bool:
@@ -228,6 +223,17 @@ def supersession(c: Mapping[str, Any], e: Entry) -> str | None:
     if src == "atct-1.112":
         return "rule atct-network: the ATcT 1.112 thermochemical-network value supersedes " + comp
     return None
+
+
+_SUMMARY_KEYS = ("id", "quantity", "compilation", "library", "other", "gap", "u_combined")
+
+
+def _explained(comps: list[dict[str, Any]], why: str) -> list[dict[str, Any]]:
+    """The comparisons a ``why`` ("disposition" or "rule") explains, for source-gaps.json."""
+    return sorted(
+        ({k: c[k] for k in (*_SUMMARY_KEYS, why)} for c in comps if c.get(why)),
+        key=lambda c: (c["id"], c["quantity"], c["compilation"]),
+    )
 
 
 def run_crosschecks(
@@ -310,45 +316,7 @@ def run_crosschecks(
         ),
         "comparisons": len(comps),
         "beyond_2u": sum(1 for c in comps if c["fails"]),
-        "excused": sorted(
-            (
-                {
-                    k: c[k]
-                    for k in (
-                        "id",
-                        "quantity",
-                        "compilation",
-                        "library",
-                        "other",
-                        "gap",
-                        "u_combined",
-                        "disposition",
-                    )
-                }
-                for c in comps
-                if c.get("disposition")
-            ),
-            key=lambda c: (c["id"], c["quantity"], c["compilation"]),
-        ),
-        "excused_by_rule": sorted(
-            (
-                {
-                    k: c[k]
-                    for k in (
-                        "id",
-                        "quantity",
-                        "compilation",
-                        "library",
-                        "other",
-                        "gap",
-                        "u_combined",
-                        "rule",
-                    )
-                }
-                for c in comps
-                if c.get("rule")
-            ),
-            key=lambda c: (c["id"], c["quantity"], c["compilation"]),
-        ),
+        "excused": _explained(comps, "disposition"),
+        "excused_by_rule": _explained(comps, "rule"),
         "unused_dispositions": sorted(f"{a} {b} {c}" for a, b, c in set(disp) - used),
     }
