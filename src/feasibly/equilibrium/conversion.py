@@ -698,33 +698,16 @@ def conversion_assessment(
         window = conversion_window(x.T, conv, min(req, 1.0 - 1e-12))
         T_K, P_Pa, trials = x.T, x.P, 0
     else:
-        if sample_set is not None:
-            bands = conversion_bands(
-                reaction,
-                temps,
-                P,
-                feed,
-                key,
-                req,
-                library=library,
-                sample_set=sample_set,
-                gas_model=model,
-            )
-        else:
-            assert samples is not None
-            bands = conversion_bands(
-                reaction,
-                temps,
-                P,
-                feed,
-                key,
-                req,
-                samples=samples,
-                seed=seed,
-                library=library,
-                method=method,
-                gas_model=model,
-            )
+        # the call's own draws when given, else a sampling of its own
+        draws: dict[str, Any] = (
+            {"sample_set": sample_set}
+            if sample_set is not None
+            else {"samples": samples, "seed": seed, "method": method}
+        )
+        assert sample_set is not None or samples is not None
+        bands = conversion_bands(
+            reaction, temps, P, feed, key, req, library=library, gas_model=model, **draws
+        )
         seed = bands.seed
         assert bands.p_meets is not None and bands.p_meets_se is not None
         rows = [
