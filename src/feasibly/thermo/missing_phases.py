@@ -80,10 +80,12 @@ def missing_stable_phases(rxn: Reaction, T: Sequence[float] | np.ndarray) -> lis
                     stable = "cr"
                 elif t_m is not None and t_m >= t_b:
                     stable = "cr"  # sublimes at 1 atm (e.g. CO2)
-            elif t_b is None and only_gas and t_m is not None and t < t_m - margin:
-                # no boiling point tabulated (NiO): below its melting point the compound is
-                # condensed unless it sublimes first, so the gas-only call is refused, not made
-                stable = "cr"
+            elif t_b is None and only_gas and t_m is not None:
+                # no boiling point tabulated (FeO, NiO): nothing shows the gas to be the stable
+                # form at any T. Below its melting point the compound is a solid, above it a
+                # liquid unless it boils (FeO at 1700 K was once called on its vapour), so the
+                # gas-only call is refused, not made
+                stable = "cr" if t < t_m else "l"
             if stable is not None and stable not in have:
                 problems.append((float(t), stable))
         names = {"g": "gas", "l": "liquid", "cr": "solid"}
