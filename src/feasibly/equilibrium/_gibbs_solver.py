@@ -8,7 +8,9 @@ accuracy), the total gas amount as ``ln N``, the amounts ``m_c`` of the condense
 and the element potentials π (in units of RT). Each iteration solves one small linear system per
 state; all states advance together, and a state leaves the batch once it has converged with a
 valid set of condensed phases. Condensed phases are added when they would lower G
-(g_c − a_c·π < 0) and removed when their amount turns negative (RP-1311 §3.5).
+(g_c − a_c·π < 0) and removed when their amount turns negative (RP-1311 §3.5). States with no
+condensed phases go to the compiled twin of the iteration (``_newton.c``), which solves each
+state to the end with the same rules; where it is not built, the numpy iteration here runs.
 
 The element matrix is first reduced to an orthonormal basis of its row space, so species sets
 whose elements always occur in fixed ratios (CaCO3/CaO/CO2 has rank 2 in Ca, C, O) give a
