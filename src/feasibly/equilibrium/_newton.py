@@ -17,6 +17,7 @@ from __future__ import annotations
 import ctypes
 import itertools
 import os
+import threading
 import warnings
 from concurrent.futures import ThreadPoolExecutor
 from functools import cache
@@ -71,9 +72,19 @@ def compiled() -> bool:
     return _compiled() is not None
 
 
-@cache
+_POOL: tuple[int, ThreadPoolExecutor] | None = None
+_POOL_LOCK = threading.Lock()
+
+
 def _pool() -> ThreadPoolExecutor:
-    return ThreadPoolExecutor(_MAX_THREADS, thread_name_prefix="feasibly-newton")
+    """One pool per process (starting threads per call costs more than the work of a thousand
+    states). A child made by fork inherits the parent's pool without its threads, where work
+    would wait for ever: the pool is keyed by the process id and made anew in the child."""
+    global _POOL
+    with _POOL_LOCK:
+        if _POOL is None or _POOL[0] != os.getpid():
+            _POOL = (os.getpid(), ThreadPoolExecutor(_MAX_THREADS, "feasibly-newton"))
+        return _POOL[1]
 
 
 def _threads() -> int:
