@@ -68,7 +68,7 @@ INLINE v4d nan_min(v4d a, v4d b) { return sel(isnan_v(a) | (a <= b), a, b); }
  * e^t by its Taylor series to t^13 (the remainder t^14/14! < 5e-18, below half an ulp), times
  * 2^k built in the exponent bits; within ~2 ulp of the correctly rounded value. Other lanes
  * (−inf for an absent species, subnormal results, overflow, NaN) go to the C library's exp. */
-INLINE v4d vexp(v4d x)
+INLINE v4d vexp_normal(v4d x)
 {
     /* ln 2 split so that k · LN2_HI is exact for |k| < 2^11 (the high part has 32 bits) */
     const double LN2_HI = 6.93147180369123816490e-01, LN2_LO = 1.90821492927058770002e-10;
@@ -91,13 +91,23 @@ INLINE v4d vexp(v4d x)
     const v4d q4 = splat(c[5]) + splat(c[4]) * t, q5 = splat(c[3]) + splat(c[2]) * t;
     const v4d q6 = splat(c[1]) + splat(c[0]) * t;
     const v4d p = ((q0 + q1 * t2) + (q2 + q3 * t2) * t4) + ((q4 + q5 * t2) + q6 * t4) * t8;
-    v4d y = p * (v4d)((k + splat_i(1023)) << 52);
-    v4i out = ~((x >= splat(-708.0)) & (x <= splat(709.0)));
-    if (any(out))
-        for (int l = 0; l < L; l++)
-            if (out[l])
-                y[l] = exp(x[l]);
+    return p * (v4d)((k + splat_i(1023)) << 52);
+}
+
+/* The lanes vexp_normal does not cover, and the C library's exp for them. */
+INLINE v4i exp_outside(v4d x) { return ~((x >= splat(-708.0)) & (x <= splat(709.0))); }
+INLINE v4d exp_fix(v4d x, v4d y)
+{
+    const v4i out = exp_outside(x);
+    for (int l = 0; l < L; l++)
+        if (out[l])
+            y[l] = exp(x[l]);
     return y;
+}
+INLINE v4d vexp(v4d x)
+{
+    const v4d y = vexp_normal(x);
+    return any(exp_outside(x)) ? exp_fix(x, y) : y;
 }
 
 /* Solve K × (K + 1) augmented systems (row stride K + 1), one per lane, in place as _solve_small
@@ -225,8 +235,17 @@ INLINE void solve_states(const int64_t R, const struct problem *P, int64_t lo, i
     const v4d max_step = splat(P->max_step), zero = splat(0.0), one = splat(1.0);
     while (live) {
         const v4d N = vexp(lnN);
+        /* the lanes outside exp's fast range (absent species at −inf, say) gathered first, so
+         * that the usual iteration tests one mask, not one per species */
+        v4i outside = splat_i(0);
         for (int64_t j = 0; j < ng; j++) {
-            n[j] = vexp(Y[j]);
+            n[j] = vexp_normal(Y[j]);
+            outside |= exp_outside(Y[j]);
+        }
+        if (any(outside))
+            for (int64_t j = 0; j < ng; j++)
+                n[j] = exp_fix(Y[j], n[j]);
+        for (int64_t j = 0; j < ng; j++) {
             mu[j] = sel(AV[j], ((G[j] + Y[j]) - lnN) + lnp, zero);
             nmu[j] = n[j] * mu[j];
         }
@@ -266,6 +285,7 @@ INLINE void solve_states(const int64_t R, const struct problem *P, int64_t lo, i
         /* Δln n_j = a_j·π − mu_j + Δln N; the largest rising step of a species above the trace
          * level, and the trace species' own limit (RP-1311 eqs. 3.1, 3.2) */
         v4d rising = zero, l2 = splat(INFINITY);
+        v4i any_small = splat_i(0);
         for (int64_t j = 0; j < ng; j++) {
             const double *aj = P->At + j * R;
             v4d d = splat(aj[0]) * x[0];
@@ -278,9 +298,15 @@ INLINE void solve_states(const int64_t R, const struct problem *P, int64_t lo, i
             const v4d lx = sel(AV[j], Y[j] - lnN, splat(-INFINITY));
             lnx[j] = lx;
             rising = sel((lx > ln_trace) & (d > zero), nan_max(rising, d), rising);
-            const v4i small = (lx <= ln_trace) & AV[j] & (d >= zero) & ((d - dlnN) > zero);
-            if (any(small))
-                l2 = sel(small, nan_min(l2, (-lx + ln_target) / (d - dlnN)), l2);
+            any_small |= (lx <= ln_trace) & AV[j] & (d >= zero) & ((d - dlnN) > zero);
+        }
+        if (any(any_small)) {
+            for (int64_t j = 0; j < ng; j++) {
+                const v4d d = dln[j], lx = lnx[j];
+                const v4i small = (lx <= ln_trace) & AV[j] & (d >= zero) & ((d - dlnN) > zero);
+                if (any(small))
+                    l2 = sel(small, nan_min(l2, (-lx + ln_target) / (d - dlnN)), l2);
+            }
         }
         const v4d m1 = nan_max(splat(5.0) * vabs(dlnN), rising);
         v4d lam = sel(m1 > max_step, max_step / sel(m1 > zero, m1, one), one);
