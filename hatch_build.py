@@ -8,9 +8,9 @@ running the tests against ``src/`` (``bin/build-kernel`` does that), and writes 
 ``src/feasibly/_data/`` (ignored by git; a stale index is recognised by its byte hash and ignored).
 
 Without a C compiler the wheel is built without the libraries: feasibly's summaries then select
-with numpy and gas-only equilibria iterate with numpy, the same numbers, a few times slower
-(``feasibly.uncertainty._scan.compiled()`` and ``feasibly.equilibrium._newton.compiled()`` say
-which).
+with numpy (the same numbers) and gas-only equilibria iterate with numpy (the same equilibria to
+the convergence tolerance), a few times slower (``feasibly.uncertainty._scan.compiled()`` and
+``feasibly.equilibrium._newton.compiled()`` say which).
 """
 
 from __future__ import annotations

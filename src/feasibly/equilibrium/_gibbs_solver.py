@@ -338,7 +338,7 @@ def solve_batch(
         )  # fmt: skip
         init = start
     if nc == 0 and ng and 0 < r <= _newton.MAX_ELEMENTS and B and _newton.compiled():
-        # Gas-only states: the compiled iteration, the same rules one state at a time.
+        # Gas-only states: the compiled iteration, the same rules, each state to the end.
         _iterate_compiled(out, init, start_rows, A_g, g_g, b, ln_p, avail_g, max_iter, pivot_tol)
         return out
     prob = _Problem(A_g, A_c, g_g, g_c, b, ln_p, avail_g, avail_c, max_iter, pivot_tol)

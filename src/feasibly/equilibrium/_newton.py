@@ -3,11 +3,12 @@
 ``_gibbs_solver._iterate`` advances a block of states together with numpy, about 45 array
 operations per iteration; for states with no condensed phases the C kernel here does the same
 iteration with each state solved to the end (four side by side in the lanes of a vector), with
-no per-iteration overhead. Its rules are
-``_iterate``'s for nc == 0 (the constants are passed from ``_gibbs_solver``, so there is one
-source of them), and it gives the same converged flags and iteration counts and the same amounts
-to rounding (the tests compare the two). ``hatch_build.py`` compiles it into the wheel; where it
-was not built (no C compiler) or cannot be loaded, ``solve_batch`` iterates with numpy.
+no per-iteration overhead. Its rules are ``_iterate``'s for nc == 0 (the constants are passed
+from ``_gibbs_solver``, so there is one source of them); it gives the same converged flags, the
+same iteration counts (one more or fewer in a rare state whose last step lands on a tolerance)
+and the same amounts to the convergence tolerance (tests/equilibrium/test_compiled_newton.py).
+``hatch_build.py`` compiles it into the wheel; where it was not built (no C compiler) or cannot
+be loaded, ``solve_batch`` iterates with numpy.
 
 ctypes releases the GIL during the call, so blocks of states run on worker threads in parallel;
 every state is solved on its own, so the results do not depend on the number of threads.
