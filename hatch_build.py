@@ -1,14 +1,16 @@
-"""Build hook: compile feasibly's C kernels (``src/feasibly/uncertainty/_scan.c``) into the wheel,
-and write the index of the species file (``src/feasibly/library/_index.py``) beside it.
+"""Build hook: compile feasibly's C kernels (``src/feasibly/uncertainty/_scan.c``,
+``src/feasibly/equilibrium/_newton.c``) into the wheel, and write the index of the species file
+(``src/feasibly/library/_index.py``) beside it.
 
 hatchling runs this when it builds a wheel (``[tool.hatch.build.targets.wheel.hooks.custom]`` in
 pyproject.toml). ``python hatch_build.py`` compiles the same library into the source tree, for
 running the tests against ``src/`` (``bin/build-kernel`` does that), and writes the index into
 ``src/feasibly/_data/`` (ignored by git; a stale index is recognised by its byte hash and ignored).
 
-Without a C compiler the wheel is built without the library and feasibly's summaries select with
-numpy instead: the same numbers, a few times slower (``feasibly.uncertainty._scan.compiled()``
-says which).
+Without a C compiler the wheel is built without the libraries: feasibly's summaries then select
+with numpy (the same numbers) and gas-only equilibria iterate with numpy (the same equilibria to
+the convergence tolerance), a few times slower (``feasibly.uncertainty._scan.compiled()`` and
+``feasibly.equilibrium._newton.compiled()`` say which).
 """
 
 from __future__ import annotations
@@ -23,9 +25,12 @@ import sysconfig
 from pathlib import Path
 
 HERE = Path(__file__).parent
-SOURCE = HERE / "src" / "feasibly" / "uncertainty" / "_scan.c"
-# In a folder that is not a package, so module scanners never take it for an extension module.
-LIBRARY = "uncertainty/_lib/libfeasibly_scan.so"
+# (source, library, link libraries) per kernel: each its own shared library in its wing's _lib/
+# folder, which is not a package, so module scanners never take it for an extension module.
+KERNELS = [
+    ("uncertainty/_scan.c", "uncertainty/_lib/libfeasibly_scan.so", []),
+    ("equilibrium/_newton.c", "equilibrium/_lib/libfeasibly_newton.so", ["-lm"]),
+]
 # -ffp-contract=off: no fused multiply-add, so the C kernel and the numpy kernel agree to the bit
 # (the tests compare them). No -ffast-math: comparisons with ±inf and NaN must keep IEEE meaning.
 FLAGS = ["-O3", "-std=c11", "-fPIC", "-shared", "-ffp-contract=off", "-Wall", "-Werror"]
@@ -53,11 +58,13 @@ def write_index(target_dir: Path) -> Path:
     return target
 
 
-def compile_kernel(target: Path) -> None:
-    """Compile the kernels into the shared library ``target``; raises CalledProcessError."""
+def compile_kernel(source: str, target: Path, libs: list[str]) -> None:
+    """Compile the kernel ``source`` (relative to src/feasibly) into the shared library
+    ``target``; raises CalledProcessError."""
     cc = shlex.split(os.environ.get("CC") or sysconfig.get_config_var("CC") or "cc")
     target.parent.mkdir(parents=True, exist_ok=True)
-    subprocess.run([*cc, *FLAGS, str(SOURCE), "-o", str(target)], check=True)
+    path = HERE / "src" / "feasibly" / source
+    subprocess.run([*cc, *FLAGS, str(path), "-o", str(target), *libs], check=True)
 
 
 try:
@@ -80,21 +87,23 @@ class KernelBuildHook(BuildHookInterface):  # type: ignore[misc,valid-type]
             build_data["force_include"][str(index)] = f"feasibly/_data/{index.name}"
         if sys.platform == "win32":
             return
-        target = Path(self.directory) / "kernel-build" / Path(LIBRARY).name
-        try:
-            compile_kernel(target)
-        except (OSError, subprocess.CalledProcessError) as exc:
-            self.app.display_warning(
-                f"feasibly: C kernels not compiled ({exc}); summaries will select with numpy"
-            )
-            return
-        build_data["force_include"][str(target)] = f"feasibly/{LIBRARY}"
-        build_data["pure_python"] = False
-        build_data["infer_tag"] = True
+        for source, library, libs in KERNELS:
+            target = Path(self.directory) / "kernel-build" / Path(library).name
+            try:
+                compile_kernel(source, target, libs)
+            except (OSError, subprocess.CalledProcessError) as exc:
+                self.app.display_warning(
+                    f"feasibly: C kernel {source} not compiled ({exc}); its numpy twin is used"
+                )
+                continue
+            build_data["force_include"][str(target)] = f"feasibly/{library}"
+            build_data["pure_python"] = False
+            build_data["infer_tag"] = True
 
 
 if __name__ == "__main__":
-    out = HERE / "src" / "feasibly" / LIBRARY
-    compile_kernel(out)
-    print(f"compiled {out.relative_to(HERE)}")
+    for source, library, libs in KERNELS:
+        out = HERE / "src" / "feasibly" / library
+        compile_kernel(source, out, libs)
+        print(f"compiled {out.relative_to(HERE)}")
     print(f"wrote {write_index(HERE / 'src' / 'feasibly' / '_data').relative_to(HERE)}")

@@ -13,7 +13,9 @@ another's answer. Both codes start every state cold:
 
   feasibly  the composition kernel (feasibly.equilibrium.composition) on all states at once,
             no warm start from another state: G°/RT of every entry at each state's T, then one
-            vectorised solve, each gas-only state starting from its own feed
+            solve, each gas-only state starting from its own feed (gas-only states are iterated
+            by the compiled Newton kernel where it is built, which the first line says; the
+            condensed system by the vectorised numpy iteration)
   cantera   ct.Solution.equilibrate("TP") per state (gas only), or a ct.Mixture of the gas and
             a fixed-stoichiometry graphite phase with equilibrate("TP", solver="vcs") (Cantera's
             multiphase solver; "gibbs" where VCS fails), looped over --ct-states of the states
@@ -28,6 +30,7 @@ from __future__ import annotations
 
 import argparse
 import importlib.util
+import os
 import statistics
 import time
 from pathlib import Path
@@ -36,6 +39,7 @@ import numpy as np
 from _rounds import ratio_line
 
 import feasibly
+from feasibly.equilibrium import _newton
 from feasibly.equilibrium import composition as se
 
 SYSTEMS = {
@@ -88,7 +92,9 @@ def main() -> None:
     rng = np.random.default_rng(13)  # fixed: the same states every run
     print(
         f"{args.states:,} distinct cold states per system; Cantera {ct.__version__} on "
-        f"{args.ct_states} states per round, scaled; {args.rounds} interleaved rounds"
+        f"{args.ct_states} states per round, scaled; {args.rounds} interleaved rounds; "
+        f"compiled Newton kernel {'in use' if _newton.compiled() else 'NOT built (numpy)'}; "
+        f"load average {' '.join(f'{x:.1f}' for x in os.getloadavg())}"
     )
     for name, system in SYSTEMS.items():
         bench_system(name, system, args, lib, refs, ct, rng)

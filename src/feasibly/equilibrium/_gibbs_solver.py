@@ -8,7 +8,9 @@ accuracy), the total gas amount as ``ln N``, the amounts ``m_c`` of the condense
 and the element potentials π (in units of RT). Each iteration solves one small linear system per
 state; all states advance together, and a state leaves the batch once it has converged with a
 valid set of condensed phases. Condensed phases are added when they would lower G
-(g_c − a_c·π < 0) and removed when their amount turns negative (RP-1311 §3.5).
+(g_c − a_c·π < 0) and removed when their amount turns negative (RP-1311 §3.5). States with no
+condensed phases go to the compiled twin of the iteration (``_newton.c``), which solves each
+state to the end with the same rules; where it is not built, the numpy iteration here runs.
 
 The element matrix is first reduced to an orthonormal basis of its row space, so species sets
 whose elements always occur in fixed ratios (CaCO3/CaO/CO2 has rank 2 in Ca, C, O) give a
@@ -24,6 +26,8 @@ from functools import cache
 
 import numpy as np
 from threadpoolctl import ThreadpoolController
+
+from . import _newton
 
 __all__ = [
     "DualPoint",
@@ -333,6 +337,10 @@ def solve_batch(
             converged, iterations,
         )  # fmt: skip
         init = start
+    if nc == 0 and ng and 0 < r <= _newton.MAX_ELEMENTS and B and _newton.compiled():
+        # Gas-only states: the compiled iteration, the same rules, each state to the end.
+        _iterate_compiled(out, init, start_rows, A_g, g_g, b, ln_p, avail_g, max_iter, pivot_tol)
+        return out
     prob = _Problem(A_g, A_c, g_g, g_c, b, ln_p, avail_g, avail_c, max_iter, pivot_tol)
     # The iteration's matrix products are far too small for BLAS threads to pay off: with two
     # threads they spend more time synchronising than multiplying.
@@ -346,6 +354,43 @@ def solve_batch(
     if active0 is None and nc and not np.all(out.converged):
         _retry(out, A_g, A_c, g_g, g_c, b, ln_p, avail_g, avail_c, max_iter)
     return out
+
+
+def _iterate_compiled(
+    out: GibbsBatch,
+    init: GibbsBatch,
+    rows: np.ndarray | None,
+    A_g: np.ndarray,
+    g_g: np.ndarray,
+    b: np.ndarray,
+    ln_p: np.ndarray,
+    avail_g: np.ndarray,
+    max_iter: int,
+    pivot_tol: float,
+) -> None:
+    """``_iterate`` for states with no condensed phases, in the compiled kernel, in place in
+    ``out`` (start values from ``init`` at ``rows``, or at the same states)."""
+    sel = slice(None) if rows is None else rows
+    # Gathered copies (fancy indexing copies anyway): the kernel iterates in place in them.
+    ln_n = np.array(init.ln_n[sel], dtype=np.float64, order="C")
+    ln_N = np.array(init.ln_N[sel], dtype=np.float64, order="C")
+    pi = np.array(init.pi[sel], dtype=np.float64, order="C")
+    converged = np.zeros(ln_N.size, dtype=np.uint8)
+    rules = np.array(
+        [_LN_TRACE, _LN_TRACE_TARGET, _MAX_LN_STEP, _TOL, _LN_TRACE_CHECKED, _TRACE_STEP_TOL,
+         _ROUNDING_STEP, pivot_tol]
+    )  # fmt: skip
+    f64 = np.float64
+    _newton.newton_gas(
+        np.ascontiguousarray(A_g, dtype=f64),
+        np.ascontiguousarray(g_g, dtype=f64),
+        np.ascontiguousarray(avail_g, dtype=bool).view(np.uint8),
+        np.ascontiguousarray(b, dtype=f64),
+        np.ascontiguousarray(ln_p, dtype=f64),
+        ln_n, ln_N, pi, converged, out.iterations, max_iter, _STALL_ITER, rules,
+    )  # fmt: skip
+    out.ln_n, out.ln_N, out.pi = ln_n, ln_N, pi
+    out.converged[:] = converged.view(bool)
 
 
 @dataclass
