@@ -207,11 +207,9 @@ def row_statistics(
     return q, e, c
 
 
-# Threads get whole multiples of this many trials (a multiple of the kernel's CHUNK, so every
-# thread but the last scans whole chunks, four trials at a time).
+# Threads get whole multiples of this many trials (a multiple of the kernel's chunks, so every
+# thread but the last scans whole chunks, eight trials at a time).
 _CHUNK_TRIALS = 1024
-# Inputs are summed eight at a time (the kernel's BLOCK).
-_BLOCK = 8
 # Temperature rows streamed together: bounds the bracket buffers (two threads) to about 5 MB per
 # 100 rows at N = 10^5 and 15 MB at 10^6; more rows are done in turns.
 _ROWS_PER_PASS = 128
@@ -269,11 +267,11 @@ def low_rank(coef: np.ndarray, scale: np.ndarray) -> tuple[np.ndarray, np.ndarra
 
 
 class Factors(NamedTuple):
-    """Output rows as ``left[r] @ z[zoff[r] : zoff[r] + k8]`` with the inputs ``z = right @ x``.
+    """Output rows as ``left[r] @ z[zoff[r] : zoff[r] + kz]`` with the inputs ``z = right @ x``.
 
-    ``left`` (rows × k8, k8 a multiple of 8, zero-padded), ``zoff`` (rows,) the first row of z
-    each output row reads, ``right`` (rz × k) with rz = groups × k8 (zero rows pad each group),
-    or None when z is the draws themselves (zero rows pad them to k8). One group is a low-rank
+    ``left`` (rows × kz, kz the largest rank of a group; zeros pad the rows of smaller ones),
+    ``zoff`` (rows,) the first row of z each output row reads, ``right`` (rz × k) with
+    rz = groups × kz (zero rows pad each group), or None when z is the draws themselves. One group is a low-rank
     factorisation of every row; several are one factorisation per group of rows (rows on the
     same polynomial pieces span a few fixed functions of T — 7 for NASA-7, 9 for NASA-9 — however
     many species the reaction has).
@@ -291,10 +289,6 @@ def _group_factors(coef: np.ndarray, scale: np.ndarray) -> tuple[np.ndarray, np.
     if coef.shape[0] == 1:  # one row is its own rank-1 factorisation, exactly
         return np.ones((1, 1)), coef.copy()
     return low_rank(coef, scale)
-
-
-def _padded(k: int) -> int:
-    return _BLOCK * -(-k // _BLOCK)
 
 
 def factor_rows(coef: np.ndarray, scale: np.ndarray, pieces: np.ndarray | None = None) -> Factors:
@@ -326,26 +320,24 @@ def factor_rows(coef: np.ndarray, scale: np.ndarray, pieces: np.ndarray | None =
                 options.append(groups)
 
     def cost(groups: Groups) -> int:
-        # Multiply-adds per trial: the outputs (k8 each) and forming z (k per row of z), twice
+        # Multiply-adds per trial: the outputs (kz each) and forming z (k per row of z), twice
         # when z is too large to keep (see _KEEP_SHARE: z has rz rows against the k of x).
-        k8 = _padded(max(f[0].shape[1] for _, f in groups))
-        rz = len(groups) * k8
-        return rows * k8 + rz * k * (1 if rz <= _KEEP_SHARE * k else 2)
+        kz = max(f[0].shape[1] for _, f in groups)
+        rz = len(groups) * kz
+        return rows * kz + rz * k * (1 if rz <= _KEEP_SHARE * k else 2)
 
-    # Without a factorisation: k8 per output and a copy of the draws (formed twice).
+    # Without a factorisation: k per output, read from the draws themselves.
     best = min(options, key=cost) if options else None
-    if best is None or cost(best) >= rows * _padded(k) + 2 * _padded(k):
-        left = np.zeros((rows, _padded(k)))
-        left[:, :k] = coef
-        return Factors(left, np.zeros(rows, dtype=np.int64), None)
-    k8 = _padded(max(f[0].shape[1] for _, f in best))
-    left = np.zeros((rows, k8))
+    if best is None or cost(best) >= rows * k:
+        return Factors(np.ascontiguousarray(coef), np.zeros(rows, dtype=np.int64), None)
+    kz = max(f[0].shape[1] for _, f in best)
+    left = np.zeros((rows, kz))
     zoff = np.empty(rows, dtype=np.int64)
-    right = np.zeros((len(best) * k8, k))
+    right = np.zeros((len(best) * kz, k))
     for g, (at, (a, b)) in enumerate(best):
         left[at, : a.shape[1]] = a
-        zoff[at] = g * k8
-        right[g * k8 : g * k8 + b.shape[0]] = b
+        zoff[at] = g * kz
+        right[g * kz : g * kz + b.shape[0]] = b
     return Factors(left, zoff, right)
 
 
@@ -383,19 +375,20 @@ def _z_blocks(
     """``blocks(t)``: thread t's trials of z, as (part, array, first trial, end) in that array.
     With ``keep`` each part's z is formed once, whole, and kept for the next pass."""
     right = factors.right
-    rz = factors.rows_of_z()
     kept: list[np.ndarray | None] = [None] * (edges.size - 1)
+    if right is None:
+        x = np.ascontiguousarray(x)  # the kernel reads the draws in place (rows of length N)
 
     def form(s: int, e: int) -> np.ndarray:
-        if right is not None:
-            return right @ x[:, s:e]
-        z = np.zeros((rz, e - s))  # rows beyond the inputs stay zero: they add exactly nothing
-        z[: x.shape[0]] = x[:, s:e]
-        return z
+        assert right is not None
+        return right @ x[:, s:e]
 
     def blocks(t: int) -> Iterator[tuple[int, np.ndarray, int, int]]:
         for part in range(t, edges.size - 1, threads):
             a, b = int(edges[part]), int(edges[part + 1])
+            if right is None:  # z is the draws themselves: scanned in place
+                yield part, x, a, b
+                continue
             z = kept[part]
             if z is None and keep:
                 kept[part] = z = form(a, b)
@@ -439,9 +432,10 @@ def factored_statistics(
     grams = np.zeros((parts, rz, rz))
 
     def moments(t: int) -> None:
-        for part, z, _, _ in blocks(t):
-            sums[part] += z.sum(axis=1)
-            grams[part] += z @ z.T
+        for part, z, a, b in blocks(t):
+            zp = z[:, a:b]
+            sums[part] += zp.sum(axis=1)
+            grams[part] += zp @ zp.T
 
     run_parallel(moments, threads)
     # Summed part by part in order: the same bits whatever the number of threads.

@@ -3,7 +3,7 @@
 The streamed summary (``_quantiles.factored_statistics``) never holds the T × N matrix of
 outputs. It hands the kernel here a range of trials of the (factored) inputs z; for every
 temperature row the kernel forms the outputs (``coef @ z[zoff : zoff + k] + nominal``, the inputs
-eight at a time, four trials at a time) and adds
+summed left to right, sixteen trials at a time) and adds
 
 * the count of outputs below the row's threshold,
 * the count below the lower edge of each of three brackets, and
@@ -30,7 +30,6 @@ from pathlib import Path
 import numpy as np
 
 __all__ = [
-    "BLOCK",
     "BRACKETS",
     "compiled",
     "gather_numpy",
@@ -42,8 +41,6 @@ __all__ = [
 #: Brackets per call: three covers a coverage interval and its median (unused ones are padded
 #: with brackets that hold nothing).
 BRACKETS = 3
-#: Inputs are summed eight at a time; the input dimension is padded to a multiple of this.
-BLOCK = 8
 
 ScanKernel = Callable[..., None]
 #: (bind a scan to its arrays → run a range of trials, gather one bracket): what
@@ -52,15 +49,12 @@ Kernels = tuple[Callable[..., Callable[[int, int], None]], ScanKernel]
 
 
 def product_numpy(coef: np.ndarray, z: np.ndarray) -> np.ndarray:
-    """``coef @ z`` summed in the compiled kernel's order: inputs in blocks of eight, each block
-    summed left to right, the blocks added in turn. ``coef`` (rows × k), ``z`` (k × m), k a
-    multiple of 8. No fused multiply-add anywhere, so numpy and the kernel agree to the bit."""
-    out = np.zeros((coef.shape[0], z.shape[1]))
-    for kb in range(0, z.shape[0], BLOCK):
-        part = coef[:, kb, None] * z[kb]
-        for k in range(kb + 1, kb + BLOCK):
-            part = part + coef[:, k, None] * z[k]
-        out = part if kb == 0 else out + part
+    """``coef @ z`` summed in the compiled kernel's order: the inputs left to right, one
+    multiply and one add each. ``coef`` (rows × k), ``z`` (k × m), k ≥ 1. No fused multiply-add
+    anywhere, so numpy and the kernel agree to the bit."""
+    out = coef[:, 0, None] * z[0]
+    for k in range(1, z.shape[0]):
+        out = out + coef[:, k, None] * z[k]
     return out
 
 
@@ -82,8 +76,8 @@ def scan_numpy(
     """Add trials ``start`` … ``stop`` to the accumulators, in place.
 
     Row r's outputs are ``coef[r] @ z[zoff[r] : zoff[r] + k] + nominal[r]`` (``product_numpy``'s
-    order): ``z`` (inputs × trials) holds the inputs, ``coef`` (rows × k), k a multiple of 8
-    (zero coefficients pad it); ``nominal``, ``threshold`` (rows,); ``lo``, ``hi`` (rows, 3)
+    order): ``z`` (inputs × trials) holds the inputs, ``coef`` (rows × k), k ≥ 1 (zero
+    coefficients pad rows that read fewer inputs); ``nominal``, ``threshold`` (rows,); ``lo``, ``hi`` (rows, 3)
     bracket edges, inclusive (a bracket at [+inf, +inf] holds nothing); ``below_threshold``
     (rows,) and ``below`` (rows, 3) counts; ``filled`` (rows, 3) how many values each bracket's
     buffer ``values`` (rows, 3, capacity) holds. ``filled`` keeps counting past the capacity, so
@@ -170,10 +164,6 @@ def _address(a: np.ndarray, dtype: type, writeable: bool = False) -> int:
     return int(a.ctypes.data)
 
 
-#: Trials per chunk of the compiled scan (CHUNK in _scan.c; the kernel's work space holds one).
-_KERNEL_CHUNK = 256
-
-
 def _bind_compiled(
     z: np.ndarray,
     zoff: np.ndarray,
@@ -191,7 +181,7 @@ def _bind_compiled(
     trials ``start`` … ``stop`` of ``z``, with the same results to the bit."""
     rows, k = coef.shape
     if (
-        k % BLOCK
+        k < 1
         or z.ndim != 2
         or zoff.shape != (rows,)
         or (rows and (zoff.min() < 0 or zoff.max() + k > z.shape[0]))
@@ -206,8 +196,8 @@ def _bind_compiled(
     f64 = np.float64
     lib = _compiled()
     assert lib is not None
-    # The broadcast coefficients (aligned by the kernel) and the sums of one chunk of trials.
-    room = np.empty(4 * k + 4 + _KERNEL_CHUNK)
+    # The broadcast coefficients, aligned by the kernel.
+    room = np.empty(8 * k + 8)
     args = (
         _address(z, f64),
         _address(zoff, np.int64),
