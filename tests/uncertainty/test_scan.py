@@ -111,23 +111,46 @@ def test_scan_counts_are_plain_counts() -> None:
 
 
 @compiled
-def test_gather_kernel_matches_numpy() -> None:
+def test_pick_kernel_matches_numpy() -> None:
     rng = np.random.default_rng(10)
-    values = rng.standard_normal((2, 5, 3, 40))
+    # Few distinct values, so that runs of equal values meet the selection's partitions.
+    values = rng.integers(0, 12, (2, 5, 3, 40)).astype(float)
+    values[0, 1, 2] = rng.standard_normal(40)
     filled = rng.integers(0, 41, (2, 5, 3))
     filled[1, 3, 0] = 41  # an overflowed buffer: the row reports −1
-    _, c_gather = _scan.scan_kernel()
+    _, c_pick = _scan.scan_kernel()
     for b in range(3):
-        out_c, out_n = np.empty((5, 80)), np.empty((5, 80))
+        total = filled[:, :, b].sum(axis=0)
+        ranks = np.sort(rng.integers(0, np.maximum(total, 1)[:, None], (5, 3)), axis=1)
+        ranks[4] = [0, 1, int(total[4]) + 5]  # a rank beyond the kept values: NaN
+        out_c, out_n = np.empty(ranks.shape), np.empty(ranks.shape)
         cnt_c, cnt_n = np.empty(5, dtype=np.int64), np.empty(5, dtype=np.int64)
-        c_gather(values, filled, b, out_c, cnt_c)
-        _scan.gather_numpy(values, filled, b, out_n, cnt_n)
+        c_pick(values, filled, b, ranks, out_c, cnt_c)
+        _scan.pick_numpy(values, filled, b, ranks, out_n, cnt_n)
         np.testing.assert_array_equal(cnt_c, cnt_n)
         np.testing.assert_array_equal(out_c, out_n)
-    assert cnt_c[3] != -1 and cnt_n[3] != -1  # bracket 2 of row 3 did not overflow
+        for r in range(5):  # and both are the order statistics of the kept values
+            n = filled[:, r, b]
+            if cnt_n[r] >= 0 and ranks[r, -1] < cnt_n[r]:
+                kept = np.sort(np.concatenate([values[t, r, b, : n[t]] for t in range(2)]))
+                np.testing.assert_array_equal(out_n[r], kept[ranks[r]])
     cnt = np.empty(5, dtype=np.int64)
-    _scan.gather_numpy(values, filled, 0, np.empty((5, 80)), cnt)
+    _scan.pick_numpy(values, filled, 0, np.zeros((5, 1), dtype=np.int64), np.empty((5, 1)), cnt)
     assert cnt[3] == -1
+
+
+@compiled
+def test_pick_selects_from_long_runs_of_equal_values() -> None:
+    # Larger buffers than the insertion sort handles, with many ties and all ranks wanted.
+    rng = np.random.default_rng(12)
+    values = rng.integers(0, 5, (1, 2, 3, 300)).astype(float)
+    filled = np.full((1, 2, 3), 300)
+    ranks = np.tile(np.arange(0, 300, 7), (2, 1))
+    out = np.empty(ranks.shape)
+    _, c_pick = _scan.scan_kernel()
+    c_pick(values, filled, 1, ranks, out, np.empty(2, dtype=np.int64))
+    for r in range(2):
+        np.testing.assert_array_equal(out[r], np.sort(values[0, r, 1])[ranks[r]])
 
 
 @compiled

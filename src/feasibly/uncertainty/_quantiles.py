@@ -471,7 +471,7 @@ def streamed_statistics(
     inside the brackets. A row whose brackets miss a needed rank or overflow their buffer is
     recomputed whole by ``row_statistics``' widening path, so every result is exact. ``scale``
     is each input's spread (default: the draws' standard deviations), used to judge a low-rank
-    factorisation of ``coef``; ``kernels`` the scan binder and the gatherer (default:
+    factorisation of ``coef``; ``kernels`` the scan binder and the picker (default:
     ``_scan.scan_kernel()``). Returns quantiles (rows × p), their standard errors and the counts
     below threshold.
     """
@@ -589,7 +589,7 @@ def _stream_rows(
     ``blocks(t)`` gives (part, z, first trial, end) with the rows ``left`` reading from ``zoff``."""
     from ._scan import BRACKETS
 
-    bind, gather = kernels
+    bind, pick = kernels
     rows, n = left.shape[0], x.shape[1]
     plans = [_bracket(n, p) for p in probs]
     usable = np.isfinite(means) & np.isfinite(stds) & (stds > 0)
@@ -638,23 +638,19 @@ def _stream_rows(
     run_parallel(scan, threads)
 
     # Exact order statistics inside each bracket: the kept values of all threads side by side,
-    # sorted per row (numpy's vectorised sort), and the needed ranks read off.
+    # and the needed ranks selected from them (counted from the bracket's lowest value).
     c = below_thr.sum(axis=0)
     total_below = below.sum(axis=0)
-    totals = filled.sum(axis=0)
     ok = usable.copy()
     q = np.empty((rows, len(probs)))
     e = np.empty((rows, len(probs)))
+    count = np.empty(rows, dtype=np.int64)
     for j, plan in enumerate(plans):
-        width = int(min(totals[:, j].max(initial=0), threads * cap))
-        kept = np.empty((rows, max(width, 1)))
-        count = np.empty(rows, dtype=np.int64)
-        gather(values, filled, j, kept, count)
-        kept.sort(axis=1)
         local = np.asarray(plan.ranks)[None, :] - total_below[:, j, None]
+        at = np.empty(local.shape)
+        pick(values, filled, j, local, at, count)
         ok &= (count >= 0) & (local[:, 0] >= 0) & (local[:, -1] < count)
-        at = np.take_along_axis(kept, np.clip(local, 0, kept.shape[1] - 1), axis=1)
-        with np.errstate(invalid="ignore"):  # rows that are not ok hold inf; recomputed below
+        with np.errstate(invalid="ignore"):  # rows that are not ok hold NaN; recomputed below
             q[:, j], e[:, j] = _quantile(dict(zip(plan.ranks, at.T, strict=True)), n, plan)
     retry = np.flatnonzero(~ok & usable)
     if retry.size and widen < 4.0**_MAX_WIDENINGS:

@@ -147,24 +147,85 @@ void feasibly_scan(int64_t k_all, int64_t ld, int64_t start, int64_t stop, int64
     }
 }
 
-void feasibly_gather(int64_t threads, int64_t rows, int64_t cap, const double *values,
-                     const int64_t *filled, int64_t bracket, int64_t width, double *out,
-                     int64_t *count)
+/* Order statistics at the sorted ranks r[0..nr) of v[lo..hi) (every rank inside), in place: after
+ * the call v[r[i]] is the r[i]-th smallest value. Quickselect with a three-way partition (runs
+ * of equal values end a branch), descending only into the sides that hold a wanted rank. */
+static void multiselect(double *v, int64_t lo, int64_t hi, const int64_t *r, int nr)
 {
+    while (nr > 0 && hi - lo > 16) {
+        const int64_t mid = lo + (hi - lo) / 2;
+        double a = v[lo], b = v[mid], c = v[hi - 1]; /* median of three as the pivot */
+        const double p = a < b ? (b < c ? b : (a < c ? c : a)) : (a < c ? a : (b < c ? c : b));
+        int64_t lt = lo, i = lo, gt = hi; /* [lo, lt) < p, [lt, i) == p, [gt, hi) > p */
+        while (i < gt) {
+            const double x = v[i];
+            if (x < p) {
+                v[i] = v[lt];
+                v[lt++] = x;
+                i++;
+            } else if (x > p) {
+                v[i] = v[--gt];
+                v[gt] = x;
+            } else {
+                i++;
+            }
+        }
+        int left = 0;
+        while (left < nr && r[left] < lt)
+            left++;
+        int right = left;
+        while (right < nr && r[right] < gt)
+            right++;
+        multiselect(v, lo, lt, r, left); /* the ranks below the pivot's run */
+        r += right; /* ranks inside the run hold p already; go on with those above it */
+        nr -= right;
+        lo = gt;
+    }
+    if (nr > 0) { /* a few values left: insertion sort */
+        for (int64_t i = lo + 1; i < hi; i++) {
+            const double x = v[i];
+            int64_t j = i;
+            while (j > lo && v[j - 1] > x) {
+                v[j] = v[j - 1];
+                j--;
+            }
+            v[j] = x;
+        }
+    }
+}
+
+void feasibly_pick(int64_t threads, int64_t rows, int64_t cap, const double *values,
+                   const int64_t *filled, int64_t bracket, int64_t nr, const int64_t *ranks,
+                   double *out, int64_t *count, double *work)
+{
+    /* For every row: the values one bracket kept in each thread's buffer, side by side in work
+     * (room for threads × cap), and the order statistics at the row's ranks (sorted; counted
+     * from the bracket's lowest value) into out (rows × nr). count gets how many values there
+     * are, or −1 where a buffer overflowed; out holds NaN where a rank is not inside. */
     for (int64_t r = 0; r < rows; r++) {
-        double *row = out + r * width;
         int64_t k = 0;
         for (int64_t t = 0; t < threads; t++) {
             const int64_t n = filled[(t * rows + r) * NB + bracket];
-            if (n > cap || k + n > width) {
+            if (n > cap) {
                 k = -1;
                 break;
             }
-            memcpy(row + k, values + ((t * rows + r) * NB + bracket) * cap, (size_t)n * 8);
+            memcpy(work + k, values + ((t * rows + r) * NB + bracket) * cap, (size_t)n * 8);
             k += n;
         }
         count[r] = k;
-        for (int64_t i = k > 0 ? k : 0; i < width; i++)
-            row[i] = INFINITY;
+        const int64_t *rk = ranks + r * nr;
+        double *o = out + r * nr;
+        int inside = k >= 0 && nr > 0 && rk[0] >= 0 && rk[nr - 1] < k;
+        for (int64_t i = 1; i < nr; i++)
+            inside &= rk[i - 1] <= rk[i];
+        if (!inside) {
+            for (int64_t i = 0; i < nr; i++)
+                o[i] = NAN;
+            continue;
+        }
+        multiselect(work, 0, k, rk, (int)nr);
+        for (int64_t i = 0; i < nr; i++)
+            o[i] = work[rk[i]];
     }
 }

@@ -32,7 +32,7 @@ import numpy as np
 __all__ = [
     "BRACKETS",
     "compiled",
-    "gather_numpy",
+    "pick_numpy",
     "product_numpy",
     "scan_kernel",
     "scan_numpy",
@@ -43,7 +43,7 @@ __all__ = [
 BRACKETS = 3
 
 ScanKernel = Callable[..., None]
-#: (bind a scan to its arrays → run a range of trials, gather one bracket): what
+#: (bind a scan to its arrays → run a range of trials, pick order statistics of one bracket): what
 #: ``scan_kernel`` returns.
 Kernels = tuple[Callable[..., Callable[[int, int], None]], ScanKernel]
 
@@ -103,25 +103,34 @@ def scan_numpy(
             filled[r, b] = k + kept.size
 
 
-def gather_numpy(
-    values: np.ndarray, filled: np.ndarray, bracket: int, out: np.ndarray, count: np.ndarray
+def pick_numpy(
+    values: np.ndarray,
+    filled: np.ndarray,
+    bracket: int,
+    ranks: np.ndarray,
+    out: np.ndarray,
+    count: np.ndarray,
 ) -> None:
-    """One bracket's kept values of every row, from all threads' buffers, into ``out``
-    (rows × width, the rest +inf so that a row sort leaves them last); ``count`` (rows,) gets how
-    many there are, or −1 where a buffer overflowed (the row must be recomputed).
+    """One bracket's kept values of every row, from all threads' buffers, and their order
+    statistics at ``ranks`` (rows × nr, sorted per row, counted from the bracket's lowest value)
+    into ``out`` (rows × nr; NaN where a rank is not inside). ``count`` (rows,) gets how many
+    values there are, or −1 where a buffer overflowed (the row must be recomputed).
 
     ``values`` is threads × rows × 3 × capacity and ``filled`` threads × rows × 3, as the scan
     left them.
     """
     cap = values.shape[3]
-    out.fill(np.inf)
     for r in range(out.shape[0]):
         n = filled[:, r, bracket]
-        if np.any(n > cap) or n.sum() > out.shape[1]:
+        out[r] = np.nan
+        if np.any(n > cap):
             count[r] = -1
             continue
-        out[r, : n.sum()] = np.concatenate([values[t, r, bracket, : n[t]] for t in range(n.size)])
-        count[r] = n.sum()
+        kept = np.concatenate([values[t, r, bracket, : n[t]] for t in range(n.size)])
+        count[r] = kept.size
+        rk = ranks[r]
+        if rk.size and rk[0] >= 0 and rk[-1] < kept.size and np.all(np.diff(rk) >= 0):
+            out[r] = np.sort(kept)[rk]
 
 
 _LIBRARY = Path(__file__).parent / "_lib" / "libfeasibly_scan.so"
@@ -151,8 +160,8 @@ def _compiled() -> ctypes.CDLL | None:
     i64, ptr = ctypes.c_int64, ctypes.c_void_p
     lib.feasibly_scan.argtypes = [i64] * 6 + [ptr] * 12
     lib.feasibly_scan.restype = None
-    lib.feasibly_gather.argtypes = [i64, i64, i64, ptr, ptr, i64, i64, ptr, ptr]
-    lib.feasibly_gather.restype = None
+    lib.feasibly_pick.argtypes = [i64, i64, i64, ptr, ptr, i64, i64, ptr, ptr, ptr, ptr]
+    lib.feasibly_pick.restype = None
     return lib
 
 
@@ -263,27 +272,41 @@ def _bind_numpy(
     return run
 
 
-def _gather_compiled(
-    values: np.ndarray, filled: np.ndarray, bracket: int, out: np.ndarray, count: np.ndarray
+def _pick_compiled(
+    values: np.ndarray,
+    filled: np.ndarray,
+    bracket: int,
+    ranks: np.ndarray,
+    out: np.ndarray,
+    count: np.ndarray,
 ) -> None:
-    """``gather_numpy`` in C."""
+    """``pick_numpy`` in C (a selection of the few ranks instead of a sort)."""
     threads, rows, nb, cap = values.shape
-    if filled.shape != (threads, rows, nb) or out.shape[0] != rows or count.shape != (rows,):
+    if (
+        filled.shape != (threads, rows, nb)
+        or ranks.ndim != 2
+        or ranks.shape[0] != rows
+        or out.shape != ranks.shape
+        or count.shape != (rows,)
+    ):
         raise ValueError("kernel arguments do not fit together")
     if not 0 <= bracket < nb:
         raise ValueError("no such bracket")
     lib = _compiled()
     assert lib is not None
-    lib.feasibly_gather(
+    work = np.empty(max(threads * cap, 1))
+    lib.feasibly_pick(
         threads,
         rows,
         cap,
         _address(values, np.float64),
         _address(filled, np.int64),
         bracket,
-        out.shape[1],
+        ranks.shape[1],
+        _address(ranks, np.int64),
         _address(out, np.float64, True),
         _address(count, np.int64, True),
+        _address(work, np.float64, True),
     )
 
 
@@ -295,16 +318,16 @@ def compiled() -> bool:
 
 @cache
 def scan_kernel() -> Kernels:
-    """The kernels (bind a scan to its arrays, gather): compiled where the library is present,
+    """The kernels (bind a scan to its arrays, pick order statistics): compiled where the library is present,
     else numpy's.
 
     Both give the same bits; the compiled ones are about twenty times faster. ctypes releases
     the GIL during each call, so worker threads scan their chunks in parallel.
     """
     if compiled():
-        return _bind_compiled, _gather_compiled
-    return _bind_numpy, gather_numpy
+        return _bind_compiled, _pick_compiled
+    return _bind_numpy, pick_numpy
 
 
 #: The numpy kernels in the form ``scan_kernel`` returns (the compiled ones' reference in tests).
-NUMPY_KERNELS: Kernels = (_bind_numpy, gather_numpy)
+NUMPY_KERNELS: Kernels = (_bind_numpy, pick_numpy)
