@@ -271,10 +271,10 @@ class Factors(NamedTuple):
 
     ``left`` (rows × kz, kz the largest rank of a group; zeros pad the rows of smaller ones),
     ``zoff`` (rows,) the first row of z each output row reads, ``right`` (rz × k) with
-    rz = groups × kz (zero rows pad each group), or None when z is the draws themselves. One group is a low-rank
-    factorisation of every row; several are one factorisation per group of rows (rows on the
-    same polynomial pieces span a few fixed functions of T — 7 for NASA-7, 9 for NASA-9 — however
-    many species the reaction has).
+    rz = groups × kz (zero rows pad each group), or None when z is the draws themselves. One
+    group is a low-rank factorisation of every row; several are one factorisation per group of
+    rows (rows on the same polynomial pieces span a few fixed functions of T — 7 for NASA-7, 9
+    for NASA-9 — however many species the reaction has).
     """
 
     left: np.ndarray

@@ -77,12 +77,12 @@ def scan_numpy(
 
     Row r's outputs are ``coef[r] @ z[zoff[r] : zoff[r] + k] + nominal[r]`` (``product_numpy``'s
     order): ``z`` (inputs × trials) holds the inputs, ``coef`` (rows × k), k ≥ 1 (zero
-    coefficients pad rows that read fewer inputs); ``nominal``, ``threshold`` (rows,); ``lo``, ``hi`` (rows, 3)
-    bracket edges, inclusive (a bracket at [+inf, +inf] holds nothing); ``below_threshold``
-    (rows,) and ``below`` (rows, 3) counts; ``filled`` (rows, 3) how many values each bracket's
-    buffer ``values`` (rows, 3, capacity) holds. ``filled`` keeps counting past the capacity, so
-    an overflowing bracket is seen (and its row recomputed by the caller), never truncated
-    silently.
+    coefficients pad rows that read fewer inputs); ``nominal``, ``threshold`` (rows,); ``lo``,
+    ``hi`` (rows, 3) bracket edges, inclusive (a bracket at [+inf, +inf] holds nothing);
+    ``below_threshold`` (rows,) and ``below`` (rows, 3) counts; ``filled`` (rows, 3) how many
+    values each bracket's buffer ``values`` (rows, 3, capacity) holds. ``filled`` keeps
+    counting past the capacity, so an overflowing bracket is seen (and its row recomputed by the
+    caller), never truncated silently.
     """
     k = coef.shape[1]
     v = np.empty((coef.shape[0], stop - start))
@@ -318,8 +318,8 @@ def compiled() -> bool:
 
 @cache
 def scan_kernel() -> Kernels:
-    """The kernels (bind a scan to its arrays, pick order statistics): compiled where the library is present,
-    else numpy's.
+    """The kernels (bind a scan to its arrays, pick order statistics): compiled where the
+    library is present, else numpy's.
 
     Both give the same bits; the compiled ones are about twenty times faster. ctypes releases
     the GIL during each call, so worker threads scan their chunks in parallel.
