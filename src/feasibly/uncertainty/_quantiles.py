@@ -230,10 +230,9 @@ def low_rank(
     the contributions, and refused unless it reproduces them to a few rounding errors, so the
     outputs differ from the direct product only in the last bits.
     """
-    from scipy.linalg import lapack
-
     rows, k = coef.shape
-    scaled = coef * np.where(scale > 0, scale, 1.0)
+    spread = np.where(scale > 0, scale, 1.0)
+    scaled = coef * spread
     top = float(np.max(np.abs(scaled))) if scaled.size else 0.0
     if rows < 2 or k < 4 or not math.isfinite(top) or top == 0.0:
         return None
@@ -242,7 +241,7 @@ def low_rank(
     with single_threaded_blas():  # a few-kB problem: BLAS threads would only wait for each other
         # QR with column pivoting straight from LAPACK (scipy.linalg.qr's checks cost more than
         # the factorisation of a 50 × 60 matrix).
-        geqp3, orgqr = lapack.get_lapack_funcs(("geqp3", "orgqr"), (scaled,))
+        geqp3, orgqr = _lapack()
         qr, jpvt, tau, _, info = geqp3(scaled)
         if info != 0:
             return None
@@ -256,16 +255,24 @@ def low_rank(
         rank = int(np.count_nonzero(diag > 0.5 * tolerance))
         if rank > ((3 * k) // 4 if max_rank is None else max_rank):
             return None
-        q, _, info = orgqr(qr[:, :m], tau)
+        # Only the kept directions of Q: the first ``rank`` reflectors give its first columns.
+        a, _, info = orgqr(qr[:, :rank], tau[:rank]) if rank else (np.zeros((rows, 0)), 0, 0)
         if info != 0:
             return None
-        a = q[:, :rank]
         b_scaled = np.empty((rank, k))
         b_scaled[:, piv] = r[:rank]
         residual = float(np.max(np.abs(a @ b_scaled - scaled)))
     if residual > tolerance:
         return None
-    return np.ascontiguousarray(a), b_scaled / np.where(scale > 0, scale, 1.0)
+    return np.ascontiguousarray(a), b_scaled / spread
+
+
+@cache
+def _lapack() -> tuple[Any, Any]:
+    """LAPACK's QR with column pivoting and the forming of Q, for doubles (looked up once)."""
+    from scipy.linalg import lapack
+
+    return lapack.get_lapack_funcs(("geqp3", "orgqr"), (np.zeros((2, 2)),))
 
 
 class Factors(NamedTuple):
@@ -360,18 +367,15 @@ def _merge_columns(coef: np.ndarray, scale: np.ndarray) -> _Merge | None:
     # Columns equal to about 2^-40 after scaling share a key (a pair split by the rounding is
     # merely not merged); each member is then checked to a few rounding errors.
     keys = np.round(unit * 2.0**40)
-    members: dict[bytes, list[int]] = {}
-    for j in np.flatnonzero(usable):
-        members.setdefault(keys[:, j].tobytes(), []).append(int(j))
-    sets, in_set = [], np.zeros(k, dtype=bool)
-    for js in members.values():
-        rep = unit[:, js[0]]
-        ok = [j for j in js if np.max(np.abs(coef[:, j] - ref[j] * rep)) <= 4 * _EPS * abs(ref[j])]
-        if len(ok) > 1:
-            sets.append(np.asarray(ok))
-            in_set[ok] = True
+    first: dict[bytes, int] = {}
+    rep = np.array([first.setdefault(keys[:, j].tobytes(), j) for j in range(k)])
+    close = np.max(np.abs(coef - ref * unit[:, rep]), axis=0) <= 4 * _EPS * np.abs(ref)
+    rep = np.where(usable & close, rep, -1 - cols)  # a column that fails stays on its own
+    labels, sizes = np.unique(rep, return_counts=True)
+    sets = [np.flatnonzero(rep == label) for label in labels[sizes > 1]]
     if not sets:
         return None
+    in_set = np.isin(rep, labels[sizes > 1])
     single = np.flatnonzero(~in_set)
     column, weight = np.empty(k, dtype=np.int64), np.ones(k)
     merged = np.empty((rows, len(sets) + single.size))
