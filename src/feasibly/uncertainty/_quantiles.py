@@ -299,10 +299,20 @@ class Factors(NamedTuple):
         summary forms it: ``right @ x``, or through the merged inputs when there are any."""
         assert self.right is not None
         part = x[:, start:stop]
-        if self.merged is None:
+        m = self.merged
+        if m is None:
             return self.right @ part
-        w = self.merged.inputs(part)
-        return w if self.merged.right is None else self.merged.right @ w
+        w = m.inputs(part)
+        return w if m.right is None else m.right @ w
+
+
+def _rows(x: np.ndarray, at: np.ndarray) -> np.ndarray:
+    """``x[at]``: a view of ``x`` when the indices are evenly spaced (no copy), else a copy."""
+    if at.size > 1:
+        step = int(at[1] - at[0])
+        if step > 0 and np.all(np.diff(at) == step):
+            return x[int(at[0]) : int(at[-1]) + 1 : step]
+    return x[at]
 
 
 class Merged(NamedTuple):
@@ -324,8 +334,8 @@ class Merged(NamedTuple):
     def inputs(self, x: np.ndarray) -> np.ndarray:
         w = np.empty((len(self.sets) + self.single.size, x.shape[1]))
         for i, (at, weights) in enumerate(self.sets):
-            np.dot(weights, x[at], out=w[i])
-        w[len(self.sets) :] = x[self.single]
+            np.dot(weights, _rows(x, at), out=w[i])
+        w[len(self.sets) :] = _rows(x, self.single)
         return w
 
 
@@ -480,7 +490,7 @@ _SCAN_PRICE = 1.5
 # against 34-35 ms for forming them twice (the cost below then chose the unfactored draws).
 _KEEP_SHARE = 1.0
 # Trials of z formed at a time when z is not kept: 16 rows × 16384 trials is 2 MB per thread.
-_Z_BLOCK = 16384
+_Z_BLOCK = 4096
 
 
 # The trials are cut into this many parts (fewer below 4096 trials a part), whatever the number
@@ -502,36 +512,55 @@ def _part_edges(n: int) -> np.ndarray:
 Blocks = Callable[[int], Iterator[tuple[int, np.ndarray, int, int]]]
 
 
+class _Inputs(NamedTuple):
+    """How each pass reads z: ``formed(t)`` gives thread t's trials of z in blocks of at most
+    ``_Z_BLOCK`` trials, as (part, block), forming them (and keeping each part whole when asked);
+    ``blocks(t)`` then gives them to the scan as (part, array, first trial, end)."""
+
+    formed: Callable[[int], Iterator[tuple[int, np.ndarray]]]
+    blocks: Blocks
+
+
 def _z_blocks(
     factors: Factors, x: np.ndarray, edges: np.ndarray, threads: int, keep: bool
-) -> Blocks:
-    """``blocks(t)``: thread t's trials of z, as (part, array, first trial, end) in that array.
-    With ``keep`` each part's z is formed once, whole, and kept for the next pass."""
+) -> _Inputs:
+    """The passes' access to z = the factored inputs of the draws ``x``. With ``keep`` each
+    part's z is formed once (in blocks that stay in cache while their moments are summed) and
+    kept for the scan; otherwise the scan forms it again, block by block."""
     right = factors.right
     kept: list[np.ndarray | None] = [None] * (edges.size - 1)
     if right is None:
         x = np.ascontiguousarray(x)  # the kernel reads the draws in place (rows of length N)
+    rz = factors.rows_of_z()
 
-    def form(s: int, e: int) -> np.ndarray:
-        return factors.inputs(x, s, e)
-
-    def blocks(t: int) -> Iterator[tuple[int, np.ndarray, int, int]]:
+    def mine(t: int) -> Iterator[tuple[int, int, int]]:
         for part in range(t, edges.size - 1, threads):
-            a, b = int(edges[part]), int(edges[part + 1])
-            if right is None:  # z is the draws themselves: scanned in place
-                yield part, x, a, b
-                continue
-            z = kept[part]
-            if z is None and keep:
-                kept[part] = z = form(a, b)
-            if z is not None:
-                yield part, z, 0, b - a
-                continue
+            yield part, int(edges[part]), int(edges[part + 1])
+
+    def formed(t: int) -> Iterator[tuple[int, np.ndarray]]:
+        for part, a, b in mine(t):
+            whole = np.empty((rz, b - a)) if keep and right is not None else None
             for s in range(a, b, _Z_BLOCK):
                 e = min(s + _Z_BLOCK, b)
-                yield part, form(s, e), 0, e - s
+                zb = x[:, s:e] if right is None else factors.inputs(x, s, e)
+                if whole is not None:
+                    whole[:, s - a : e - a] = zb
+                yield part, zb
+            kept[part] = whole
 
-    return blocks
+    def blocks(t: int) -> Iterator[tuple[int, np.ndarray, int, int]]:
+        for part, a, b in mine(t):
+            z = kept[part]
+            if right is None:  # z is the draws themselves: scanned in place
+                yield part, x, a, b
+            elif z is not None:
+                yield part, z, 0, b - a
+            else:
+                for s in range(a, b, _Z_BLOCK):
+                    e = min(s + _Z_BLOCK, b)
+                    yield part, factors.inputs(x, s, e), 0, e - s
+
+    return _Inputs(formed, blocks)
 
 
 def factored_statistics(
@@ -559,7 +588,7 @@ def factored_statistics(
     edges = _part_edges(n)
     parts = edges.size - 1
     threads = min(workers(), parts)
-    blocks = _z_blocks(factors, x, edges, threads, keep=rz * n * 8 <= _KEEP_SHARE * x.nbytes)
+    inputs = _z_blocks(factors, x, edges, threads, keep=rz * n * 8 <= _KEEP_SHARE * x.nbytes)
     sums = np.zeros((parts, rz))
     grams = np.zeros((parts, rz, rz))
     # Each output row reads one group of rows of z: only the groups' own blocks of the Gram
@@ -567,11 +596,10 @@ def factored_statistics(
     groups = [slice(o, o + left.shape[1]) for o in np.unique(zoff).tolist()]
 
     def moments(t: int) -> None:
-        for part, z, a, b in blocks(t):
-            zp = z[:, a:b]
-            sums[part] += zp.sum(axis=1)
+        for part, zb in inputs.formed(t):
+            sums[part] += zb.sum(axis=1)
             for g in groups:
-                grams[part, g, g] += zp[g] @ zp[g].T
+                grams[part, g, g] += zb[g] @ zb[g].T
 
     run_parallel(moments, threads)
     # Summed part by part in order: the same bits whatever the number of threads.
@@ -582,7 +610,7 @@ def factored_statistics(
     var = np.einsum("ij,ijk,ik->i", left, cov[at[:, :, None], at[:, None, :]], left)
     u = np.sqrt(np.clip(var, 0.0, None))
     q, e, c = _statistics_by_pass(
-        kernels, left, zoff, blocks, threads, coef, nominal, x, mean, u, probs, thresholds
+        kernels, left, zoff, inputs.blocks, threads, coef, nominal, x, mean, u, probs, thresholds
     )
     return mean, u, q, e, c
 
@@ -626,7 +654,7 @@ def streamed_statistics(
     factors = factor_rows(coef, scale)
     edges = _part_edges(x.shape[1])
     threads = min(workers(), edges.size - 1)
-    blocks = _z_blocks(factors, x, edges, threads, keep=False)
+    blocks = _z_blocks(factors, x, edges, threads, keep=False).blocks
     return _statistics_by_pass(
         kernels,
         factors.left,
