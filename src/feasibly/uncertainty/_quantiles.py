@@ -877,11 +877,20 @@ def single_threaded_blas() -> Iterator[None]:
                 limiter.restore_original_limits()
 
 
-@cache
+_POOL: tuple[int, ThreadPoolExecutor] | None = None
+_POOL_LOCK = threading.Lock()
+
+
 def _pool() -> ThreadPoolExecutor:
-    # One pool for the life of the process: starting threads per call costs milliseconds, which
-    # at N = 10^4 trials is a large part of a summary.
-    return ThreadPoolExecutor(workers(), thread_name_prefix="feasibly-scan")
+    """One pool per process: starting threads per call costs milliseconds, which at N = 10^4
+    trials is a large part of a summary. A child made by fork inherits the parent's pool without
+    its threads, where work would wait for ever: the pool is keyed by the process id and made
+    anew in the child."""
+    global _POOL
+    with _POOL_LOCK:
+        if _POOL is None or _POOL[0] != os.getpid():
+            _POOL = (os.getpid(), ThreadPoolExecutor(workers(), thread_name_prefix="feasibly-scan"))
+        return _POOL[1]
 
 
 def run_parallel(job: Callable[[int], None], threads: int) -> None:
