@@ -111,23 +111,46 @@ def test_scan_counts_are_plain_counts() -> None:
 
 
 @compiled
-def test_gather_kernel_matches_numpy() -> None:
+def test_pick_kernel_matches_numpy() -> None:
     rng = np.random.default_rng(10)
-    values = rng.standard_normal((2, 5, 3, 40))
+    # Few distinct values, so that runs of equal values meet the selection's partitions.
+    values = rng.integers(0, 12, (2, 5, 3, 40)).astype(float)
+    values[0, 1, 2] = rng.standard_normal(40)
     filled = rng.integers(0, 41, (2, 5, 3))
     filled[1, 3, 0] = 41  # an overflowed buffer: the row reports −1
-    _, c_gather = _scan.scan_kernel()
+    _, c_pick = _scan.scan_kernel()
     for b in range(3):
-        out_c, out_n = np.empty((5, 80)), np.empty((5, 80))
+        total = filled[:, :, b].sum(axis=0)
+        ranks = np.sort(rng.integers(0, np.maximum(total, 1)[:, None], (5, 3)), axis=1)
+        ranks[4] = [0, 1, int(total[4]) + 5]  # a rank beyond the kept values: NaN
+        out_c, out_n = np.empty(ranks.shape), np.empty(ranks.shape)
         cnt_c, cnt_n = np.empty(5, dtype=np.int64), np.empty(5, dtype=np.int64)
-        c_gather(values, filled, b, out_c, cnt_c)
-        _scan.gather_numpy(values, filled, b, out_n, cnt_n)
+        c_pick(values, filled, b, ranks, out_c, cnt_c)
+        _scan.pick_numpy(values, filled, b, ranks, out_n, cnt_n)
         np.testing.assert_array_equal(cnt_c, cnt_n)
         np.testing.assert_array_equal(out_c, out_n)
-    assert cnt_c[3] != -1 and cnt_n[3] != -1  # bracket 2 of row 3 did not overflow
+        for r in range(5):  # and both are the order statistics of the kept values
+            n = filled[:, r, b]
+            if cnt_n[r] >= 0 and ranks[r, -1] < cnt_n[r]:
+                kept = np.sort(np.concatenate([values[t, r, b, : n[t]] for t in range(2)]))
+                np.testing.assert_array_equal(out_n[r], kept[ranks[r]])
     cnt = np.empty(5, dtype=np.int64)
-    _scan.gather_numpy(values, filled, 0, np.empty((5, 80)), cnt)
+    _scan.pick_numpy(values, filled, 0, np.zeros((5, 1), dtype=np.int64), np.empty((5, 1)), cnt)
     assert cnt[3] == -1
+
+
+@compiled
+def test_pick_selects_from_long_runs_of_equal_values() -> None:
+    # Larger buffers than the insertion sort handles, with many ties and all ranks wanted.
+    rng = np.random.default_rng(12)
+    values = rng.integers(0, 5, (1, 2, 3, 300)).astype(float)
+    filled = np.full((1, 2, 3), 300)
+    ranks = np.tile(np.arange(0, 300, 7), (2, 1))
+    out = np.empty(ranks.shape)
+    _, c_pick = _scan.scan_kernel()
+    c_pick(values, filled, 1, ranks, out, np.empty(2, dtype=np.int64))
+    for r in range(2):
+        np.testing.assert_array_equal(out[r], np.sort(values[0, r, 1])[ranks[r]])
 
 
 @compiled
@@ -331,31 +354,36 @@ def test_rows_on_one_polynomial_piece_need_few_directions_whatever_the_species()
         piece = _selection.low_rank(model.aG[model.pieces == p], scale)
         assert piece is not None and piece[0].shape[1] <= 9 < whole[0].shape[1]
     f = _selection.factor_rows(model.aG, scale, model.pieces)
-    assert f.right is not None and f.left.shape[1] % 8 == 0
+    # The cheapest form is taken: every row reads at most 2 + species merged inputs (the ΔfH°
+    # and S° inputs merged, one heat-capacity input per species), or its piece's directions.
+    species = model.aG.shape[1] // 3
+    assert f.right is not None and f.left.shape[1] <= 2 + species < model.aG.shape[1] // 2
     top = np.abs(model.aG * scale).max()
-    k8 = f.left.shape[1]
+    kz = f.left.shape[1]
     for r in range(model.T.size):
-        rebuilt = f.left[r] @ f.right[f.zoff[r] : f.zoff[r] + k8]
+        rebuilt = f.left[r] @ f.right[f.zoff[r] : f.zoff[r] + kz]
         assert np.abs((rebuilt - model.aG[r]) * scale).max() <= 16 * np.finfo(float).eps * top
 
 
 def test_factor_rows_takes_the_pieces_when_they_cost_less() -> None:
-    # Two groups of rows, each of rank 3 in its own directions: one block of eight per row and
-    # two blocks of z, against rank 6 for all rows together (also one block per row, but then
-    # the per-piece form is not cheaper: the whole one is taken). With rank 6 per group (12 in
-    # all) the pieces need one block per row against two.
+    # Two groups of 20 rows of rank 3 each. In directions of their own, all rows together have
+    # rank 6: the pieces cost 40 × 3 + 6 × 40 multiply-adds per trial against 40 × 6 + 6 × 40,
+    # and are taken. In shared directions all rows together have rank 3: one factorisation
+    # (40 × 3 + 3 × 40) is cheaper than two.
     rng = np.random.default_rng(45)  # seeded: the same matrices every run
-    for r_piece, want_zoff in ((3, {0}), (6, {0, 8})):
-        a = rng.standard_normal((20, r_piece)) @ rng.standard_normal((r_piece, 40))
-        b = rng.standard_normal((20, r_piece)) @ rng.standard_normal((r_piece, 40))
+    for shared, want_zoff in ((False, {0, 3}), (True, {0})):
+        right_a = rng.standard_normal((3, 40))
+        right_b = right_a if shared else rng.standard_normal((3, 40))
+        a = rng.standard_normal((20, 3)) @ right_a
+        b = rng.standard_normal((20, 3)) @ right_b
         coef = np.vstack([a, b])
         pieces = np.repeat([0, 1], 20)
         f = _selection.factor_rows(coef, np.ones(40), pieces)
-        assert f.right is not None and f.left.shape[1] == 8
+        assert f.right is not None and f.left.shape[1] == 3
         assert set(f.zoff) == want_zoff
         top = np.abs(coef).max()
         for r in range(40):
-            rebuilt = f.left[r] @ f.right[f.zoff[r] : f.zoff[r] + 8]
+            rebuilt = f.left[r] @ f.right[f.zoff[r] : f.zoff[r] + 3]
             assert np.abs(rebuilt - coef[r]).max() <= 16 * np.finfo(float).eps * top
 
 
@@ -372,7 +400,7 @@ def test_factored_summary_is_numpys_quantile_of_the_outputs_it_forms(
     mean, u, q, _, c = _selection.factored_statistics(
         f, model.G0, samples.values, PROBS, thr, model.aG
     )
-    z = f.right @ samples.values
+    z = f.inputs(samples.values)
     g = np.empty((model.T.size, samples.n))
     k8 = f.left.shape[1]
     for off in np.unique(f.zoff):
@@ -430,3 +458,59 @@ def test_summary_is_the_same_bits_whatever_the_number_of_threads(
     for other in results[1:]:
         for a, b in zip(results[0], other, strict=True):
             np.testing.assert_array_equal(a, b)
+
+
+def test_inputs_with_proportional_columns_are_merged_once_and_checked() -> None:
+    # Every ΔfH° input enters ΔrG with the same coefficient shape (ν, constant in T) and every
+    # S° input with −νT: each set becomes one merged input, the heat-capacity inputs stay.
+    model, samples = _pieces_model(2_000, 46)
+    scale = _scale(samples)
+    m = _selection._merge_columns(model.aG, scale)
+    assert m is not None and len(m.sets) == 2
+    kinds = [inp.key[1] for inp in samples.inputs]
+    assert sorted({kinds[j] for j in m.sets[0][0]} | {kinds[j] for j in m.sets[1][0]}) == [
+        "S298",
+        "dHf",
+    ]
+    assert all(kinds[j] == "cp" for j in m.single)
+    # The merged inputs reproduce the direct product to rounding.
+    w = _selection.Merged(m.sets, m.single).inputs(samples.values)
+    np.testing.assert_allclose(m.coef @ w, model.aG @ samples.values, rtol=1e-12, atol=1e-6)
+    # A column a hair off proportional (1e-12 relative: beyond the 4-ulp check) is not merged.
+    coef = model.aG.copy()
+    j = int(m.sets[0][0][0])
+    coef[0, j] *= 1.0 + 1e-12
+    m2 = _selection._merge_columns(coef, scale)
+    assert m2 is not None and j in m2.single and all(j not in at for at, _ in m2.sets)
+    # And a matrix with no two proportional columns is left alone.
+    rng = np.random.default_rng(47)  # seeded: the same matrix every run
+    assert _selection._merge_columns(rng.standard_normal((30, 12)), np.ones(12)) is None
+
+
+def _summary_in_child(model, samples, queue) -> None:  # type: ignore[no-untyped-def]
+    s = summarise(model, samples, "G", 0.0)
+    queue.put((s.median, s.p_below))
+
+
+def test_a_forked_child_summarises_on_threads_of_its_own() -> None:
+    # The parent's worker threads do not exist in a child made by fork (multiprocessing's
+    # default on Linux): the child must start its own instead of waiting on the parent's.
+    import multiprocessing
+
+    model, samples = _pieces_model(20_000, 48)
+    here = summarise(model, samples, "G", 0.0)  # the parent's pool now exists
+    ctx = multiprocessing.get_context("fork")
+    queue = ctx.Queue()
+    child = ctx.Process(target=_summary_in_child, args=(model, samples, queue))
+    child.start()
+    try:
+        # a child waiting on threads that do not exist would never answer: 120 s is ~1000 times
+        # the work (common practice, no source)
+        median, p_below = queue.get(timeout=120)
+        child.join(timeout=60)
+    finally:
+        if child.is_alive():
+            child.kill()
+    assert child.exitcode == 0
+    np.testing.assert_array_equal(median, here.median)
+    np.testing.assert_array_equal(p_below, here.p_below)

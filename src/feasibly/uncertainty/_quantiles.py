@@ -53,7 +53,18 @@ __all__ = [
 # it is for a near-normal output; the bracket is widened (×4) when the guess was worse. Narrow
 # brackets matter: extracting the values inside costs in proportion to how many there are.
 _WIDTH_FACTOR = 1.5
+# From this many trials on, 2.5 (about four standard errors of slack instead of two): there a
+# miss costs a second scan of the row, while the values inside the brackets are under 1 % of the
+# outputs. Measured: at 10^6 trials of a normal output the 2.5 % quantile lay 2.4 standard errors
+# from its normal guess, and 40 of 50 rows were scanned twice (bench_uncertainty_summary.py,
+# 8 species).
+_WIDE_FROM = 200_000
+_WIDE_FACTOR = 2.5
 _MAX_WIDENINGS = 3
+
+
+def _width_factor(n: int) -> float:
+    return _WIDE_FACTOR if n >= _WIDE_FROM else _WIDTH_FACTOR
 
 
 @cache
@@ -123,12 +134,14 @@ class _Plan(NamedTuple):
         return self.ranks[-1] - self.ranks[0]
 
 
+@cache
 def _bracket(n: int, p: float) -> _Plan:
     lo, frac, d = _ranks(n, p)
     ranks = sorted({max(lo - d, 0), lo, min(lo + 1, n - 1), min(lo + 1 + d, n - 1)})
     z = float(special.ndtri(p))
     density = math.exp(-0.5 * z * z) / math.sqrt(2 * math.pi)  # of the standardised output
-    return _Plan(ranks, lo, frac, d, z, _WIDTH_FACTOR * (ranks[-1] - ranks[0] + 8) / (n * density))
+    half = _width_factor(n) * (ranks[-1] - ranks[0] + 8) / (n * density)
+    return _Plan(ranks, lo, frac, d, z, half)
 
 
 def _quantile(vals: dict[int, Any], n: int, plan: _Plan) -> tuple[Any, Any]:
@@ -207,11 +220,9 @@ def row_statistics(
     return q, e, c
 
 
-# Threads get whole multiples of this many trials (a multiple of the kernel's CHUNK, so every
-# thread but the last scans whole chunks, four trials at a time).
+# Threads get whole multiples of this many trials (a multiple of the kernel's chunks, so every
+# thread but the last scans whole chunks, eight trials at a time).
 _CHUNK_TRIALS = 1024
-# Inputs are summed eight at a time (the kernel's BLOCK).
-_BLOCK = 8
 # Temperature rows streamed together: bounds the bracket buffers (two threads) to about 5 MB per
 # 100 rows at N = 10^5 and 15 MB at 10^6; more rows are done in turns.
 _ROWS_PER_PASS = 128
@@ -220,7 +231,9 @@ _ROWS_PER_PASS = 128
 _DIRECT_ROWS = 2
 
 
-def low_rank(coef: np.ndarray, scale: np.ndarray) -> tuple[np.ndarray, np.ndarray] | None:
+def low_rank(
+    coef: np.ndarray, scale: np.ndarray, max_rank: int | None = None
+) -> tuple[np.ndarray, np.ndarray] | None:
     """``coef`` (rows × k) as A (rows × r) @ B (r × k) when its rank r is well below k, else None.
 
     Δr rows over temperature have low rank: every ΔfH° input enters with the same T-independent
@@ -230,10 +243,9 @@ def low_rank(coef: np.ndarray, scale: np.ndarray) -> tuple[np.ndarray, np.ndarra
     the contributions, and refused unless it reproduces them to a few rounding errors, so the
     outputs differ from the direct product only in the last bits.
     """
-    from scipy.linalg import lapack
-
     rows, k = coef.shape
-    scaled = coef * np.where(scale > 0, scale, 1.0)
+    spread = np.where(scale > 0, scale, 1.0)
+    scaled = coef * spread
     top = float(np.max(np.abs(scaled))) if scaled.size else 0.0
     if rows < 2 or k < 4 or not math.isfinite(top) or top == 0.0:
         return None
@@ -242,7 +254,7 @@ def low_rank(coef: np.ndarray, scale: np.ndarray) -> tuple[np.ndarray, np.ndarra
     with single_threaded_blas():  # a few-kB problem: BLAS threads would only wait for each other
         # QR with column pivoting straight from LAPACK (scipy.linalg.qr's checks cost more than
         # the factorisation of a 50 × 60 matrix).
-        geqp3, orgqr = lapack.get_lapack_funcs(("geqp3", "orgqr"), (scaled,))
+        geqp3, orgqr = _lapack()
         qr, jpvt, tau, _, info = geqp3(scaled)
         if info != 0:
             return None
@@ -254,62 +266,177 @@ def low_rank(coef: np.ndarray, scale: np.ndarray) -> tuple[np.ndarray, np.ndarra
         # entry of the dropped part Q[:, r:] R[r:, r:] is at most |R[r, r]|, so directions up to
         # half the tolerance may go and the other half is left for the rounding of the rest.
         rank = int(np.count_nonzero(diag > 0.5 * tolerance))
-        if rank > (3 * k) // 4:
+        if rank > ((3 * k) // 4 if max_rank is None else max_rank):
             return None
-        q, _, info = orgqr(qr[:, :m], tau)
+        # Only the kept directions of Q: the first ``rank`` reflectors give its first columns.
+        a, _, info = orgqr(qr[:, :rank], tau[:rank]) if rank else (np.zeros((rows, 0)), 0, 0)
         if info != 0:
             return None
-        a = q[:, :rank]
         b_scaled = np.empty((rank, k))
         b_scaled[:, piv] = r[:rank]
         residual = float(np.max(np.abs(a @ b_scaled - scaled)))
     if residual > tolerance:
         return None
-    return np.ascontiguousarray(a), b_scaled / np.where(scale > 0, scale, 1.0)
+    return np.ascontiguousarray(a), b_scaled / spread
+
+
+@cache
+def _lapack() -> tuple[Any, Any]:
+    """LAPACK's QR with column pivoting and the forming of Q, for doubles (looked up once)."""
+    from scipy.linalg import lapack
+
+    return lapack.get_lapack_funcs(("geqp3", "orgqr"), (np.zeros((2, 2)),))
 
 
 class Factors(NamedTuple):
-    """Output rows as ``left[r] @ z[zoff[r] : zoff[r] + k8]`` with the inputs ``z = right @ x``.
+    """Output rows as ``left[r] @ z[zoff[r] : zoff[r] + kz]`` with the inputs ``z = right @ x``.
 
-    ``left`` (rows × k8, k8 a multiple of 8, zero-padded), ``zoff`` (rows,) the first row of z
-    each output row reads, ``right`` (rz × k) with rz = groups × k8 (zero rows pad each group),
-    or None when z is the draws themselves (zero rows pad them to k8). One group is a low-rank
-    factorisation of every row; several are one factorisation per group of rows (rows on the
-    same polynomial pieces span a few fixed functions of T — 7 for NASA-7, 9 for NASA-9 — however
-    many species the reaction has).
+    ``left`` (rows × kz, kz the largest rank of a group; zeros pad the rows of smaller ones),
+    ``zoff`` (rows,) the first row of z each output row reads, ``right`` (rz × k) with
+    rz = groups × kz (zero rows pad each group), or None when z is the draws themselves. One
+    group is a low-rank factorisation of every row; several are one factorisation per group of
+    rows (rows on the same polynomial pieces span a few fixed functions of T — 7 for NASA-7, 9
+    for NASA-9 — however many species the reaction has).
     """
 
     left: np.ndarray
     zoff: np.ndarray
     right: np.ndarray | None
+    merged: Merged | None = None
 
     def rows_of_z(self) -> int:
         return self.left.shape[1] if self.right is None else self.right.shape[0]
 
+    def inputs(self, x: np.ndarray, start: int = 0, stop: int | None = None) -> np.ndarray:
+        """z for trials ``start`` … ``stop`` of the draws ``x`` (inputs × trials), formed as the
+        summary forms it: ``right @ x``, or through the merged inputs when there are any."""
+        assert self.right is not None
+        part = x[:, start:stop]
+        m = self.merged
+        if m is None:
+            return self.right @ part
+        w = m.inputs(part)
+        return w if m.right is None else m.right @ w
 
-def _group_factors(coef: np.ndarray, scale: np.ndarray) -> tuple[np.ndarray, np.ndarray] | None:
+
+def _rows(x: np.ndarray, at: np.ndarray) -> np.ndarray:
+    """``x[at]``: a view of ``x`` when the indices are evenly spaced (no copy), else a copy."""
+    if at.size > 1:
+        step = int(at[1] - at[0])
+        if step > 0 and np.all(np.diff(at) == step):
+            return x[int(at[0]) : int(at[-1]) + 1 : step]
+    return x[at]
+
+
+class Merged(NamedTuple):
+    """Inputs whose coefficient columns are multiples of one column, each set summed into one
+    merged input (every ΔfH° input of a species that keeps its phase enters ΔrG with the same
+    T-independent coefficient, every S° input with −T times it): ``w = merged inputs of x``, and
+    z = ``right @ w`` with ``right`` (rz × k') in the merged coordinates, or z = w when
+    ``right`` is None (the rows read the merged inputs themselves).
+
+    ``sets``: (input indices, weights) of each set of two or more, whose merged input is the
+    weighted sum; ``single``: the indices of the other inputs, which are merged inputs as they
+    are (after the sets).
+    """
+
+    sets: tuple[tuple[np.ndarray, np.ndarray], ...]
+    single: np.ndarray
+    right: np.ndarray | None = None
+
+    def inputs(self, x: np.ndarray) -> np.ndarray:
+        w = np.empty((len(self.sets) + self.single.size, x.shape[1]))
+        for i, (at, weights) in enumerate(self.sets):
+            np.dot(weights, _rows(x, at), out=w[i])
+        w[len(self.sets) :] = _rows(x, self.single)
+        return w
+
+
+def _group_factors(
+    coef: np.ndarray, scale: np.ndarray, max_rank: int | None = None
+) -> tuple[np.ndarray, np.ndarray] | None:
     if coef.shape[0] == 1:  # one row is its own rank-1 factorisation, exactly
         return np.ones((1, 1)), coef.copy()
-    return low_rank(coef, scale)
+    return low_rank(coef, scale, max_rank)
 
 
-def _padded(k: int) -> int:
-    return _BLOCK * -(-k // _BLOCK)
+_EPS = float(np.finfo(float).eps)
 
 
-def factor_rows(coef: np.ndarray, scale: np.ndarray, pieces: np.ndarray | None = None) -> Factors:
+class _Merge(NamedTuple):
+    """``coef`` in merged coordinates (see ``Merged``): ``coef`` (rows × k') and ``scale`` (k')
+    of the merged inputs, the sets and singles, and for every original input the merged column
+    it went to and its weight there."""
+
+    coef: np.ndarray
+    scale: np.ndarray
+    sets: tuple[tuple[np.ndarray, np.ndarray], ...]
+    single: np.ndarray
+    column: np.ndarray
+    weight: np.ndarray
+
+
+def _merge_columns(coef: np.ndarray, scale: np.ndarray) -> _Merge | None:
+    """The inputs of ``coef`` whose columns are multiples of one column, merged; None when no
+    two are. Forming z then reads each input once (a weighted sum) instead of once per row of z:
+    20 species have 60 inputs but only 22 merged ones."""
+    rows, k = coef.shape
+    if rows < 2 or k < 2:
+        return None
+    cols = np.arange(k)
+    ref = coef[np.argmax(np.abs(coef), axis=0), cols]  # each column's largest entry, signed
+    usable = (ref != 0) & np.all(np.isfinite(coef), axis=0)
+    unit = coef / np.where(usable, ref, 1.0)
+    # Columns equal to about 2^-40 after scaling share a key (a pair split by the rounding is
+    # merely not merged); each member is then checked to a few rounding errors.
+    keys = np.round(unit * 2.0**40)
+    first: dict[bytes, int] = {}
+    rep = np.array([first.setdefault(keys[:, j].tobytes(), j) for j in range(k)])
+    close = np.max(np.abs(coef - ref * unit[:, rep]), axis=0) <= 4 * _EPS * np.abs(ref)
+    rep = np.where(usable & close, rep, -1 - cols)  # a column that fails stays on its own
+    labels, sizes = np.unique(rep, return_counts=True)
+    sets = [np.flatnonzero(rep == label) for label in labels[sizes > 1]]
+    if not sets:
+        return None
+    in_set = np.isin(rep, labels[sizes > 1])
+    single = np.flatnonzero(~in_set)
+    column, weight = np.empty(k, dtype=np.int64), np.ones(k)
+    merged = np.empty((rows, len(sets) + single.size))
+    mscale = np.empty(len(sets) + single.size)
+    for i, at in enumerate(sets):
+        merged[:, i] = unit[:, at[0]]
+        column[at], weight[at] = i, ref[at]
+        mscale[i] = math.sqrt(float(np.sum((ref[at] * scale[at]) ** 2)))
+    merged[:, len(sets) :] = coef[:, single]
+    column[single] = len(sets) + np.arange(single.size)
+    mscale[len(sets) :] = scale[single]
+    pairs = tuple((at, ref[at].copy()) for at in sets)
+    return _Merge(merged, mscale, pairs, single, column, weight)
+
+
+def factor_rows(
+    coef: np.ndarray, scale: np.ndarray, pieces: np.ndarray | None = None, merge: bool = True
+) -> Factors:
     """``coef`` (rows × k) in the form ``Factors``: the cheapest of a low-rank factorisation of
     all rows, one per piece, and none (z = the draws).
 
     ``pieces`` labels the rows whose coefficients are the same functions of T (the same
-    polynomial piece of every species): each label's rows are then factored on their own. Every
-    factorisation passes ``low_rank``'s acceptance test, so the outputs differ from the direct
+    polynomial piece of every species): each label's rows are then factored on their own.
+    Inputs whose columns are multiples of one another are first merged (``Merged``; not with
+    ``merge=False``). Every factorisation passes ``low_rank``'s acceptance test, and the
+    merged one the same test on the original rows, so the outputs differ from the direct
     product only in the last bits.
     """
     rows, k = coef.shape
+    m = _merge_columns(coef, scale) if merge else None
+    target, tscale = (coef, scale) if m is None else (m.coef, m.scale)
+    kt = target.shape[1]
+    # In merged coordinates any rank may pay (the cost below decides); otherwise a rank above
+    # three quarters of the inputs never does.
+    cap = kt if m is not None else None
     Groups = list[tuple[np.ndarray, tuple[np.ndarray, np.ndarray]]]
     options: list[Groups] = []
-    whole = low_rank(coef, scale)
+    whole = low_rank(target, tscale, cap)
     if whole is not None:
         options.append([(np.arange(rows), whole)])
     if pieces is not None:
@@ -318,44 +445,65 @@ def factor_rows(coef: np.ndarray, scale: np.ndarray, pieces: np.ndarray | None =
             groups = []
             for label in labels:
                 at = np.flatnonzero(pieces == label)
-                f = _group_factors(coef[at], scale)
+                f = _group_factors(target[at], tscale, cap)
                 if f is None:
                     break
                 groups.append((at, f))
             else:
                 options.append(groups)
+    merging = k if m is not None else 0  # multiply-adds per trial to form the merged inputs
 
-    def cost(groups: Groups) -> int:
-        # Multiply-adds per trial: the outputs (k8 each) and forming z (k per row of z), twice
-        # when z is too large to keep (see _KEEP_SHARE: z has rz rows against the k of x).
-        k8 = _padded(max(f[0].shape[1] for _, f in groups))
-        rz = len(groups) * k8
-        return rows * k8 + rz * k * (1 if rz <= _KEEP_SHARE * k else 2)
+    def cost(groups: Groups) -> float:
+        # Multiply-adds per trial: the outputs (kz each, at the kernel's price), forming z (kt
+        # per row of z, after merging), twice when z is too large to keep (see _KEEP_SHARE: z
+        # has rz rows against the k of x).
+        kz = max(f[0].shape[1] for _, f in groups)
+        rz = len(groups) * kz
+        return _SCAN_PRICE * rows * kz + (rz * kt + merging) * (1 if rz <= _KEEP_SHARE * k else 2)
 
-    # Without a factorisation: k8 per output and a copy of the draws (formed twice).
     best = min(options, key=cost) if options else None
-    if best is None or cost(best) >= rows * _padded(k) + 2 * _padded(k):
-        left = np.zeros((rows, _padded(k)))
-        left[:, :k] = coef
-        return Factors(left, np.zeros(rows, dtype=np.int64), None)
-    k8 = _padded(max(f[0].shape[1] for _, f in best))
-    left = np.zeros((rows, k8))
+    # Without a factorisation: k per output, read from the draws themselves; or kt per output
+    # from the merged inputs (formed twice when not kept).
+    plain = _SCAN_PRICE * rows * k
+    direct = _SCAN_PRICE * rows * kt + merging * (1 if kt <= _KEEP_SHARE * k else 2) if m else plain
+    if best is None or cost(best) >= min(plain, direct):
+        if direct < plain and m is not None:
+            zoff0 = np.zeros(rows, dtype=np.int64)
+            full = np.zeros((kt, k))
+            full[m.column, np.arange(k)] = m.weight
+            return Factors(np.ascontiguousarray(m.coef), zoff0, full, Merged(m.sets, m.single))
+        return Factors(np.ascontiguousarray(coef), np.zeros(rows, dtype=np.int64), None)
+    kz = max(f[0].shape[1] for _, f in best)
+    left = np.zeros((rows, kz))
     zoff = np.empty(rows, dtype=np.int64)
-    right = np.zeros((len(best) * k8, k))
+    right = np.zeros((len(best) * kz, kt))
     for g, (at, (a, b)) in enumerate(best):
         left[at, : a.shape[1]] = a
-        zoff[at] = g * k8
-        right[g * k8 : g * k8 + b.shape[0]] = b
-    return Factors(left, zoff, right)
+        zoff[at] = g * kz
+        right[g * kz : g * kz + b.shape[0]] = b
+    if m is None:
+        return Factors(left, zoff, right)
+    # Back in the original inputs, checked there as low_rank checks its own rows.
+    full = right[:, m.column] * m.weight[None, :]
+    s = np.where(scale > 0, scale, 1.0)
+    rebuilt = np.einsum("rj,rjk->rk", left, full[zoff[:, None] + np.arange(kz)[None, :]])
+    top = float(np.max(np.abs(coef * s)))
+    if not float(np.max(np.abs((rebuilt - coef) * s))) <= 16 * _EPS * top:
+        return factor_rows(coef, scale, pieces, merge=False)
+    return Factors(left, zoff, full, Merged(m.sets, m.single, right))
 
 
+# A multiply-add of the scan costs about 1.5 of those of the matrix product forming z: measured
+# on one thread, 0.15 ns per input and output in the scan (9 to 24 inputs, 5·10^6 outputs)
+# against 0.11 ns per multiply-add for z = right @ x (17 × 60 × 10^5, OpenBLAS).
+_SCAN_PRICE = 1.5
 # The factored inputs z are kept whole when they are no larger than the draws themselves (20
 # species: 24 of 60 rows); otherwise they are formed twice, a block at a time. Measured (CPU
 # time, one thread, 8 species × 10^5 trials, NASA-9 data): keeping 16 of 24 rows took 25-28 ms
 # against 34-35 ms for forming them twice (the cost below then chose the unfactored draws).
 _KEEP_SHARE = 1.0
 # Trials of z formed at a time when z is not kept: 16 rows × 16384 trials is 2 MB per thread.
-_Z_BLOCK = 16384
+_Z_BLOCK = 4096
 
 
 # The trials are cut into this many parts (fewer below 4096 trials a part), whatever the number
@@ -377,36 +525,55 @@ def _part_edges(n: int) -> np.ndarray:
 Blocks = Callable[[int], Iterator[tuple[int, np.ndarray, int, int]]]
 
 
+class _Inputs(NamedTuple):
+    """How each pass reads z: ``formed(t)`` gives thread t's trials of z in blocks of at most
+    ``_Z_BLOCK`` trials, as (part, block), forming them (and keeping each part whole when asked);
+    ``blocks(t)`` then gives them to the scan as (part, array, first trial, end)."""
+
+    formed: Callable[[int], Iterator[tuple[int, np.ndarray]]]
+    blocks: Blocks
+
+
 def _z_blocks(
     factors: Factors, x: np.ndarray, edges: np.ndarray, threads: int, keep: bool
-) -> Blocks:
-    """``blocks(t)``: thread t's trials of z, as (part, array, first trial, end) in that array.
-    With ``keep`` each part's z is formed once, whole, and kept for the next pass."""
+) -> _Inputs:
+    """The passes' access to z = the factored inputs of the draws ``x``. With ``keep`` each
+    part's z is formed once (in blocks that stay in cache while their moments are summed) and
+    kept for the scan; otherwise the scan forms it again, block by block."""
     right = factors.right
-    rz = factors.rows_of_z()
     kept: list[np.ndarray | None] = [None] * (edges.size - 1)
+    if right is None:
+        x = np.ascontiguousarray(x)  # the kernel reads the draws in place (rows of length N)
+    rz = factors.rows_of_z()
 
-    def form(s: int, e: int) -> np.ndarray:
-        if right is not None:
-            return right @ x[:, s:e]
-        z = np.zeros((rz, e - s))  # rows beyond the inputs stay zero: they add exactly nothing
-        z[: x.shape[0]] = x[:, s:e]
-        return z
-
-    def blocks(t: int) -> Iterator[tuple[int, np.ndarray, int, int]]:
+    def mine(t: int) -> Iterator[tuple[int, int, int]]:
         for part in range(t, edges.size - 1, threads):
-            a, b = int(edges[part]), int(edges[part + 1])
-            z = kept[part]
-            if z is None and keep:
-                kept[part] = z = form(a, b)
-            if z is not None:
-                yield part, z, 0, b - a
-                continue
+            yield part, int(edges[part]), int(edges[part + 1])
+
+    def formed(t: int) -> Iterator[tuple[int, np.ndarray]]:
+        for part, a, b in mine(t):
+            whole = np.empty((rz, b - a)) if keep and right is not None else None
             for s in range(a, b, _Z_BLOCK):
                 e = min(s + _Z_BLOCK, b)
-                yield part, form(s, e), 0, e - s
+                zb = x[:, s:e] if right is None else factors.inputs(x, s, e)
+                if whole is not None:
+                    whole[:, s - a : e - a] = zb
+                yield part, zb
+            kept[part] = whole
 
-    return blocks
+    def blocks(t: int) -> Iterator[tuple[int, np.ndarray, int, int]]:
+        for part, a, b in mine(t):
+            z = kept[part]
+            if right is None:  # z is the draws themselves: scanned in place
+                yield part, x, a, b
+            elif z is not None:
+                yield part, z, 0, b - a
+            else:
+                for s in range(a, b, _Z_BLOCK):
+                    e = min(s + _Z_BLOCK, b)
+                    yield part, factors.inputs(x, s, e), 0, e - s
+
+    return _Inputs(formed, blocks)
 
 
 def factored_statistics(
@@ -434,14 +601,18 @@ def factored_statistics(
     edges = _part_edges(n)
     parts = edges.size - 1
     threads = min(workers(), parts)
-    blocks = _z_blocks(factors, x, edges, threads, keep=rz * n * 8 <= _KEEP_SHARE * x.nbytes)
+    inputs = _z_blocks(factors, x, edges, threads, keep=rz * n * 8 <= _KEEP_SHARE * x.nbytes)
     sums = np.zeros((parts, rz))
     grams = np.zeros((parts, rz, rz))
+    # Each output row reads one group of rows of z: only the groups' own blocks of the Gram
+    # matrix are ever used.
+    groups = [slice(o, o + left.shape[1]) for o in np.unique(zoff).tolist()]
 
     def moments(t: int) -> None:
-        for part, z, _, _ in blocks(t):
-            sums[part] += z.sum(axis=1)
-            grams[part] += z @ z.T
+        for part, zb in inputs.formed(t):
+            sums[part] += zb.sum(axis=1)
+            for g in groups:
+                grams[part, g, g] += zb[g] @ zb[g].T
 
     run_parallel(moments, threads)
     # Summed part by part in order: the same bits whatever the number of threads.
@@ -452,7 +623,7 @@ def factored_statistics(
     var = np.einsum("ij,ijk,ik->i", left, cov[at[:, :, None], at[:, None, :]], left)
     u = np.sqrt(np.clip(var, 0.0, None))
     q, e, c = _statistics_by_pass(
-        kernels, left, zoff, blocks, threads, coef, nominal, x, mean, u, probs, thresholds
+        kernels, left, zoff, inputs.blocks, threads, coef, nominal, x, mean, u, probs, thresholds
     )
     return mean, u, q, e, c
 
@@ -477,7 +648,7 @@ def streamed_statistics(
     inside the brackets. A row whose brackets miss a needed rank or overflow their buffer is
     recomputed whole by ``row_statistics``' widening path, so every result is exact. ``scale``
     is each input's spread (default: the draws' standard deviations), used to judge a low-rank
-    factorisation of ``coef``; ``kernels`` the scan binder and the gatherer (default:
+    factorisation of ``coef``; ``kernels`` the scan binder and the picker (default:
     ``_scan.scan_kernel()``). Returns quantiles (rows × p), their standard errors and the counts
     below threshold.
     """
@@ -496,7 +667,7 @@ def streamed_statistics(
     factors = factor_rows(coef, scale)
     edges = _part_edges(x.shape[1])
     threads = min(workers(), edges.size - 1)
-    blocks = _z_blocks(factors, x, edges, threads, keep=False)
+    blocks = _z_blocks(factors, x, edges, threads, keep=False).blocks
     return _statistics_by_pass(
         kernels,
         factors.left,
@@ -595,7 +766,7 @@ def _stream_rows(
     ``blocks(t)`` gives (part, z, first trial, end) with the rows ``left`` reading from ``zoff``."""
     from ._scan import BRACKETS
 
-    bind, gather = kernels
+    bind, pick = kernels
     rows, n = left.shape[0], x.shape[1]
     plans = [_bracket(n, p) for p in probs]
     usable = np.isfinite(means) & np.isfinite(stds) & (stds > 0)
@@ -611,9 +782,9 @@ def _stream_rows(
     hi_edge[~usable] = np.inf
 
     # Expected values inside a bracket for a normal output: 2 × half-width × density
-    # = 2 × 1.5 × (rank span + 8). Each thread's buffer holds twice its share plus slack; a row
-    # whose bracket needs more is recomputed whole.
-    expected = max(2 * _WIDTH_FACTOR * (pl.span + 8) for pl in plans) * widen
+    # = 2 × width factor × (rank span + 8). Each thread's buffer holds twice its share plus
+    # slack; a row whose bracket needs more is recomputed whole.
+    expected = max(2 * _width_factor(n) * (pl.span + 8) for pl in plans) * widen
     cap = int(2 * expected / threads) + 64
     values = np.empty((threads, rows, BRACKETS, cap))
     filled = np.zeros((threads, rows, BRACKETS), dtype=np.int64)
@@ -644,23 +815,19 @@ def _stream_rows(
     run_parallel(scan, threads)
 
     # Exact order statistics inside each bracket: the kept values of all threads side by side,
-    # sorted per row (numpy's vectorised sort), and the needed ranks read off.
+    # and the needed ranks selected from them (counted from the bracket's lowest value).
     c = below_thr.sum(axis=0)
     total_below = below.sum(axis=0)
-    totals = filled.sum(axis=0)
     ok = usable.copy()
     q = np.empty((rows, len(probs)))
     e = np.empty((rows, len(probs)))
+    count = np.empty(rows, dtype=np.int64)
     for j, plan in enumerate(plans):
-        width = int(min(totals[:, j].max(initial=0), threads * cap))
-        kept = np.empty((rows, max(width, 1)))
-        count = np.empty(rows, dtype=np.int64)
-        gather(values, filled, j, kept, count)
-        kept.sort(axis=1)
         local = np.asarray(plan.ranks)[None, :] - total_below[:, j, None]
+        at = np.empty(local.shape)
+        pick(values, filled, j, local, at, count)
         ok &= (count >= 0) & (local[:, 0] >= 0) & (local[:, -1] < count)
-        at = np.take_along_axis(kept, np.clip(local, 0, kept.shape[1] - 1), axis=1)
-        with np.errstate(invalid="ignore"):  # rows that are not ok hold inf; recomputed below
+        with np.errstate(invalid="ignore"):  # rows that are not ok hold NaN; recomputed below
             q[:, j], e[:, j] = _quantile(dict(zip(plan.ranks, at.T, strict=True)), n, plan)
     retry = np.flatnonzero(~ok & usable)
     if retry.size and widen < 4.0**_MAX_WIDENINGS:
@@ -710,11 +877,20 @@ def single_threaded_blas() -> Iterator[None]:
                 limiter.restore_original_limits()
 
 
-@cache
+_POOL: tuple[int, ThreadPoolExecutor] | None = None
+_POOL_LOCK = threading.Lock()
+
+
 def _pool() -> ThreadPoolExecutor:
-    # One pool for the life of the process: starting threads per call costs milliseconds, which
-    # at N = 10^4 trials is a large part of a summary.
-    return ThreadPoolExecutor(workers(), thread_name_prefix="feasibly-scan")
+    """One pool per process: starting threads per call costs milliseconds, which at N = 10^4
+    trials is a large part of a summary. A child made by fork inherits the parent's pool without
+    its threads, where work would wait for ever: the pool is keyed by the process id and made
+    anew in the child."""
+    global _POOL
+    with _POOL_LOCK:
+        if _POOL is None or _POOL[0] != os.getpid():
+            _POOL = (os.getpid(), ThreadPoolExecutor(workers(), thread_name_prefix="feasibly-scan"))
+        return _POOL[1]
 
 
 def run_parallel(job: Callable[[int], None], threads: int) -> None:

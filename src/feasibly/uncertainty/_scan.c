@@ -1,8 +1,8 @@
 /* Compiled kernels of feasibly._scan: one read of a range of Monte Carlo trials, a chunk at a time,
  * for every temperature row, and the gathering of the values kept inside the brackets.
  *
- * The arithmetic mirrors scan_numpy / product_numpy in _scan.py operation for operation (inputs in
- * blocks of eight summed left to right, the blocks added in turn, then the nominal), and the
+ * The arithmetic mirrors scan_numpy / product_numpy in _scan.py operation for operation (the inputs
+ * summed left to right, then the nominal), and the
  * build passes -ffp-contract=off, so no multiply-add is fused: the two give the same bits, which
  * the tests check. Layouts are C order; every array is contiguous (the Python side checks).
  */
@@ -11,7 +11,7 @@
 #include <math.h>
 
 #define NB 3 /* brackets per row */
-#define CHUNK 256 /* trials per chunk: eight inputs of a chunk (16 KB) stay in L1 */
+#define CHUNK 256 /* trials per chunk: up to twelve inputs of a chunk (24 KB) stay in L1 */
 
 #if defined(__GNUC__) && defined(__x86_64__) && !defined(__clang__)
 /* One binary for every x86-64 machine: an AVX2 clone is picked at load time where the CPU has it. */
@@ -41,17 +41,35 @@ static inline __attribute__((always_inline)) void keep(double x, int f, int64_t 
     }
 }
 
+/* Count and keep four outputs x (trials i .. i + 3 of one row): below the threshold, below each
+ * bracket's lower edge, and appended where inside a bracket. */
+#define COUNT4(x)                                                                                  \
+    do {                                                                                           \
+        const v4i b0 = (x) < L0, b1 = (x) < L1, b2 = (x) < L2;                                     \
+        ct -= (x) < T;                                                                             \
+        c0 -= b0;                                                                                  \
+        c1 -= b1;                                                                                  \
+        c2 -= b2;                                                                                  \
+        /* Inside a bracket: not below its lower edge and not above its upper edge. */             \
+        const v4i in0 = ~b0 & ((x) <= H0), in1 = ~b1 & ((x) <= H1), in2 = ~b2 & ((x) <= H2);      \
+        const v4i any = in0 | in1 | in2;                                                           \
+        if (any[0] | any[1] | any[2] | any[3]) { /* rare: about 1 % of the outputs */              \
+            for (int l = 0; l < 4; l++)                                                            \
+                keep((x)[l],                                                                       \
+                     (int)((in0[l] & 1) | ((in1[l] & 1) << 1) | ((in2[l] & 1) << 2)), k, out,      \
+                     cap);                                                                         \
+        }                                                                                          \
+    } while (0)
+
 /* One chunk of m trials (zc points at its first trial in input row 0) for every row: the
- * outputs, four trials at a time, are counted against the threshold and the bracket edges, and
+ * outputs, eight trials at a time, are counted against the threshold and the bracket edges, and
  * the few inside a bracket appended at once (so they are never stored or read again). Each
- * output is summed as in product_numpy: inputs in blocks of eight left to right, the blocks
- * added in turn, then the nominal. */
+ * output is summed as in product_numpy: the inputs left to right, then the nominal. */
 static inline __attribute__((always_inline)) void
 scan_chunk(int64_t k_all, int64_t ld, int64_t m, int64_t rows, int64_t cap, const double *zc,
            const int64_t *zoff, const double *coef, const double *nominal,
            const double *threshold, const double *lo, const double *hi,
-           int64_t *below_threshold, int64_t *below, int64_t *filled, double *values,
-           v4d *av, v4d *vbuf)
+           int64_t *below_threshold, int64_t *below, int64_t *filled, double *values, v4d *av)
 {
     for (int64_t r = 0; r < rows; r++) {
         const double *a = coef + r * k_all;
@@ -68,53 +86,28 @@ scan_chunk(int64_t k_all, int64_t ld, int64_t m, int64_t rows, int64_t cap, cons
         int64_t k[NB] = {filled[r * NB], filled[r * NB + 1], filled[r * NB + 2]};
         double *const out[NB] = {values + (r * NB) * cap, values + (r * NB + 1) * cap,
                                  values + (r * NB + 2) * cap};
-        /* The sums of the blocks of eight inputs are accumulated in vbuf, one block at a time
-         * over the chunk (eight input rows read in sequence: reading every row at once thrashes
-         * the caches beyond one block); then every output is counted and kept. */
-        const int64_t m4 = m / 4 * 4;
-        for (int64_t kb = 0; kb < k_all; kb += 8) {
-            const double *z = zr + kb * ld;
-            const v4d *w = av + kb;
-            for (int64_t i = 0; i < m4; i += 4) {
-                const v4d s = w[0] * load4(z + i) + w[1] * load4(z + ld + i) +
-                              w[2] * load4(z + 2 * ld + i) + w[3] * load4(z + 3 * ld + i) +
-                              w[4] * load4(z + 4 * ld + i) + w[5] * load4(z + 5 * ld + i) +
-                              w[6] * load4(z + 6 * ld + i) + w[7] * load4(z + 7 * ld + i);
-                vbuf[i / 4] = kb == 0 ? s : vbuf[i / 4] + s;
-            }
-        }
+        /* Eight trials at a time: two independent sums keep the adder busy while each waits for
+         * its previous term (the inputs of a chunk are in L1). */
+        const int64_t m8 = m / 8 * 8;
         int64_t i = 0;
-        for (; i < m4; i += 4) {
-            const v4d v = vbuf[i / 4];
-            const v4d x = v + G;
-            const v4i b0 = x < L0, b1 = x < L1, b2 = x < L2;
-            ct -= x < T;
-            c0 -= b0;
-            c1 -= b1;
-            c2 -= b2;
-            /* Inside a bracket: not below its lower edge and not above its upper edge. */
-            const v4i in0 = ~b0 & (x <= H0), in1 = ~b1 & (x <= H1), in2 = ~b2 & (x <= H2);
-            const v4i any = in0 | in1 | in2;
-            if (any[0] | any[1] | any[2] | any[3]) { /* rare: about 1 % of the outputs */
-                for (int l = 0; l < 4; l++)
-                    keep(x[l], (int)((in0[l] & 1) | ((in1[l] & 1) << 1) | ((in2[l] & 1) << 2)),
-                         k, out, cap);
+        for (; i < m8; i += 8) {
+            v4d s = av[0] * load4(zr + i), u = av[0] * load4(zr + i + 4);
+            for (int64_t j = 1; j < k_all; j++) {
+                s = s + av[j] * load4(zr + j * ld + i);
+                u = u + av[j] * load4(zr + j * ld + i + 4);
             }
+            const v4d x = s + G, y = u + G;
+            COUNT4(x);
+            COUNT4(y);
         }
         int64_t nt = ct[0] + ct[1] + ct[2] + ct[3];
         int64_t n0 = c0[0] + c0[1] + c0[2] + c0[3];
         int64_t n1 = c1[0] + c1[1] + c1[2] + c1[3];
         int64_t n2 = c2[0] + c2[1] + c2[2] + c2[3];
         for (; i < m; i++) { /* the last few trials of the range, one at a time */
-            double v = 0.0;
-            for (int64_t kb = 0; kb < k_all; kb += 8) {
-                const double *z = zr + kb * ld + i;
-                const double *w = a + kb;
-                const double s = w[0] * z[0] + w[1] * z[ld] + w[2] * z[2 * ld] +
-                                 w[3] * z[3 * ld] + w[4] * z[4 * ld] + w[5] * z[5 * ld] +
-                                 w[6] * z[6 * ld] + w[7] * z[7 * ld];
-                v = kb == 0 ? s : v + s;
-            }
+            double v = a[0] * zr[i];
+            for (int64_t j = 1; j < k_all; j++)
+                v = v + a[j] * zr[j * ld + i];
             const double x = v + g;
             nt += x < t;
             n0 += x < l0;
@@ -142,36 +135,97 @@ void feasibly_scan(int64_t k_all, int64_t ld, int64_t start, int64_t stop, int64
                    double *values, double *room)
 {
     /* Trials start .. stop of the inputs zall (rows of length ld), CHUNK at a time (the chunk's
-     * inputs stay in L1 while every row reads them); output row r reads the k_all input rows
-     * from zoff[r] on. room holds 4 k_all + 4 + CHUNK doubles: the broadcast coefficients,
-     * aligned, and the sums of a chunk. */
+     * inputs stay in L1 while every row reads them: fewer trials per chunk when there are many
+     * inputs); output row r reads the k_all input rows from zoff[r] on. room holds 8 k_all + 8
+     * doubles: the broadcast coefficients, aligned. */
     v4d *av = (v4d *)(((uintptr_t)room + 31) & ~(uintptr_t)31);
-    v4d *vbuf = av + k_all;
-    for (int64_t c0 = start; c0 < stop; c0 += CHUNK) {
-        const int64_t m = stop - c0 < CHUNK ? stop - c0 : CHUNK;
+    const int64_t chunk = k_all <= 12 ? CHUNK : k_all <= 24 ? CHUNK / 2 : CHUNK / 4;
+    for (int64_t c0 = start; c0 < stop; c0 += chunk) {
+        const int64_t m = stop - c0 < chunk ? stop - c0 : chunk;
         scan_chunk(k_all, ld, m, rows, cap, zall + c0, zoff, coef, nominal, threshold, lo, hi,
-                   below_threshold, below, filled, values, av, vbuf);
+                   below_threshold, below, filled, values, av);
     }
 }
 
-void feasibly_gather(int64_t threads, int64_t rows, int64_t cap, const double *values,
-                     const int64_t *filled, int64_t bracket, int64_t width, double *out,
-                     int64_t *count)
+/* Order statistics at the sorted ranks r[0..nr) of v[lo..hi) (every rank inside), in place: after
+ * the call v[r[i]] is the r[i]-th smallest value. Quickselect with a three-way partition (runs
+ * of equal values end a branch), descending only into the sides that hold a wanted rank. */
+static void multiselect(double *v, int64_t lo, int64_t hi, const int64_t *r, int nr)
 {
+    while (nr > 0 && hi - lo > 16) {
+        const int64_t mid = lo + (hi - lo) / 2;
+        double a = v[lo], b = v[mid], c = v[hi - 1]; /* median of three as the pivot */
+        const double p = a < b ? (b < c ? b : (a < c ? c : a)) : (a < c ? a : (b < c ? c : b));
+        int64_t lt = lo, i = lo, gt = hi; /* [lo, lt) < p, [lt, i) == p, [gt, hi) > p */
+        while (i < gt) {
+            const double x = v[i];
+            if (x < p) {
+                v[i] = v[lt];
+                v[lt++] = x;
+                i++;
+            } else if (x > p) {
+                v[i] = v[--gt];
+                v[gt] = x;
+            } else {
+                i++;
+            }
+        }
+        int left = 0;
+        while (left < nr && r[left] < lt)
+            left++;
+        int right = left;
+        while (right < nr && r[right] < gt)
+            right++;
+        multiselect(v, lo, lt, r, left); /* the ranks below the pivot's run */
+        r += right; /* ranks inside the run hold p already; go on with those above it */
+        nr -= right;
+        lo = gt;
+    }
+    if (nr > 0) { /* a few values left: insertion sort */
+        for (int64_t i = lo + 1; i < hi; i++) {
+            const double x = v[i];
+            int64_t j = i;
+            while (j > lo && v[j - 1] > x) {
+                v[j] = v[j - 1];
+                j--;
+            }
+            v[j] = x;
+        }
+    }
+}
+
+void feasibly_pick(int64_t threads, int64_t rows, int64_t cap, const double *values,
+                   const int64_t *filled, int64_t bracket, int64_t nr, const int64_t *ranks,
+                   double *out, int64_t *count, double *work)
+{
+    /* For every row: the values one bracket kept in each thread's buffer, side by side in work
+     * (room for threads × cap), and the order statistics at the row's ranks (sorted; counted
+     * from the bracket's lowest value) into out (rows × nr). count gets how many values there
+     * are, or −1 where a buffer overflowed; out holds NaN where a rank is not inside. */
     for (int64_t r = 0; r < rows; r++) {
-        double *row = out + r * width;
         int64_t k = 0;
         for (int64_t t = 0; t < threads; t++) {
             const int64_t n = filled[(t * rows + r) * NB + bracket];
-            if (n > cap || k + n > width) {
+            if (n > cap) {
                 k = -1;
                 break;
             }
-            memcpy(row + k, values + ((t * rows + r) * NB + bracket) * cap, (size_t)n * 8);
+            memcpy(work + k, values + ((t * rows + r) * NB + bracket) * cap, (size_t)n * 8);
             k += n;
         }
         count[r] = k;
-        for (int64_t i = k > 0 ? k : 0; i < width; i++)
-            row[i] = INFINITY;
+        const int64_t *rk = ranks + r * nr;
+        double *o = out + r * nr;
+        int inside = k >= 0 && nr > 0 && rk[0] >= 0 && rk[nr - 1] < k;
+        for (int64_t i = 1; i < nr; i++)
+            inside &= rk[i - 1] <= rk[i];
+        if (!inside) {
+            for (int64_t i = 0; i < nr; i++)
+                o[i] = NAN;
+            continue;
+        }
+        multiselect(work, 0, k, rk, (int)nr);
+        for (int64_t i = 0; i < nr; i++)
+            o[i] = work[rk[i]];
     }
 }

@@ -3,7 +3,7 @@
 The streamed summary (``_quantiles.factored_statistics``) never holds the T × N matrix of
 outputs. It hands the kernel here a range of trials of the (factored) inputs z; for every
 temperature row the kernel forms the outputs (``coef @ z[zoff : zoff + k] + nominal``, the inputs
-eight at a time, four trials at a time) and adds
+summed left to right, sixteen trials at a time) and adds
 
 * the count of outputs below the row's threshold,
 * the count below the lower edge of each of three brackets, and
@@ -30,10 +30,9 @@ from pathlib import Path
 import numpy as np
 
 __all__ = [
-    "BLOCK",
     "BRACKETS",
     "compiled",
-    "gather_numpy",
+    "pick_numpy",
     "product_numpy",
     "scan_kernel",
     "scan_numpy",
@@ -42,25 +41,20 @@ __all__ = [
 #: Brackets per call: three covers a coverage interval and its median (unused ones are padded
 #: with brackets that hold nothing).
 BRACKETS = 3
-#: Inputs are summed eight at a time; the input dimension is padded to a multiple of this.
-BLOCK = 8
 
 ScanKernel = Callable[..., None]
-#: (bind a scan to its arrays → run a range of trials, gather one bracket): what
+#: (bind a scan to its arrays → run a range of trials, pick order statistics of one bracket): what
 #: ``scan_kernel`` returns.
 Kernels = tuple[Callable[..., Callable[[int, int], None]], ScanKernel]
 
 
 def product_numpy(coef: np.ndarray, z: np.ndarray) -> np.ndarray:
-    """``coef @ z`` summed in the compiled kernel's order: inputs in blocks of eight, each block
-    summed left to right, the blocks added in turn. ``coef`` (rows × k), ``z`` (k × m), k a
-    multiple of 8. No fused multiply-add anywhere, so numpy and the kernel agree to the bit."""
-    out = np.zeros((coef.shape[0], z.shape[1]))
-    for kb in range(0, z.shape[0], BLOCK):
-        part = coef[:, kb, None] * z[kb]
-        for k in range(kb + 1, kb + BLOCK):
-            part = part + coef[:, k, None] * z[k]
-        out = part if kb == 0 else out + part
+    """``coef @ z`` summed in the compiled kernel's order: the inputs left to right, one
+    multiply and one add each. ``coef`` (rows × k), ``z`` (k × m), k ≥ 1. No fused multiply-add
+    anywhere, so numpy and the kernel agree to the bit."""
+    out = coef[:, 0, None] * z[0]
+    for k in range(1, z.shape[0]):
+        out = out + coef[:, k, None] * z[k]
     return out
 
 
@@ -82,13 +76,13 @@ def scan_numpy(
     """Add trials ``start`` … ``stop`` to the accumulators, in place.
 
     Row r's outputs are ``coef[r] @ z[zoff[r] : zoff[r] + k] + nominal[r]`` (``product_numpy``'s
-    order): ``z`` (inputs × trials) holds the inputs, ``coef`` (rows × k), k a multiple of 8
-    (zero coefficients pad it); ``nominal``, ``threshold`` (rows,); ``lo``, ``hi`` (rows, 3)
-    bracket edges, inclusive (a bracket at [+inf, +inf] holds nothing); ``below_threshold``
-    (rows,) and ``below`` (rows, 3) counts; ``filled`` (rows, 3) how many values each bracket's
-    buffer ``values`` (rows, 3, capacity) holds. ``filled`` keeps counting past the capacity, so
-    an overflowing bracket is seen (and its row recomputed by the caller), never truncated
-    silently.
+    order): ``z`` (inputs × trials) holds the inputs, ``coef`` (rows × k), k ≥ 1 (zero
+    coefficients pad rows that read fewer inputs); ``nominal``, ``threshold`` (rows,); ``lo``,
+    ``hi`` (rows, 3) bracket edges, inclusive (a bracket at [+inf, +inf] holds nothing);
+    ``below_threshold`` (rows,) and ``below`` (rows, 3) counts; ``filled`` (rows, 3) how many
+    values each bracket's buffer ``values`` (rows, 3, capacity) holds. ``filled`` keeps
+    counting past the capacity, so an overflowing bracket is seen (and its row recomputed by the
+    caller), never truncated silently.
     """
     k = coef.shape[1]
     v = np.empty((coef.shape[0], stop - start))
@@ -109,25 +103,34 @@ def scan_numpy(
             filled[r, b] = k + kept.size
 
 
-def gather_numpy(
-    values: np.ndarray, filled: np.ndarray, bracket: int, out: np.ndarray, count: np.ndarray
+def pick_numpy(
+    values: np.ndarray,
+    filled: np.ndarray,
+    bracket: int,
+    ranks: np.ndarray,
+    out: np.ndarray,
+    count: np.ndarray,
 ) -> None:
-    """One bracket's kept values of every row, from all threads' buffers, into ``out``
-    (rows × width, the rest +inf so that a row sort leaves them last); ``count`` (rows,) gets how
-    many there are, or −1 where a buffer overflowed (the row must be recomputed).
+    """One bracket's kept values of every row, from all threads' buffers, and their order
+    statistics at ``ranks`` (rows × nr, sorted per row, counted from the bracket's lowest value)
+    into ``out`` (rows × nr; NaN where a rank is not inside). ``count`` (rows,) gets how many
+    values there are, or −1 where a buffer overflowed (the row must be recomputed).
 
     ``values`` is threads × rows × 3 × capacity and ``filled`` threads × rows × 3, as the scan
     left them.
     """
     cap = values.shape[3]
-    out.fill(np.inf)
     for r in range(out.shape[0]):
         n = filled[:, r, bracket]
-        if np.any(n > cap) or n.sum() > out.shape[1]:
+        out[r] = np.nan
+        if np.any(n > cap):
             count[r] = -1
             continue
-        out[r, : n.sum()] = np.concatenate([values[t, r, bracket, : n[t]] for t in range(n.size)])
-        count[r] = n.sum()
+        kept = np.concatenate([values[t, r, bracket, : n[t]] for t in range(n.size)])
+        count[r] = kept.size
+        rk = ranks[r]
+        if rk.size and rk[0] >= 0 and rk[-1] < kept.size and np.all(np.diff(rk) >= 0):
+            out[r] = np.sort(kept)[rk]
 
 
 _LIBRARY = Path(__file__).parent / "_lib" / "libfeasibly_scan.so"
@@ -157,8 +160,8 @@ def _compiled() -> ctypes.CDLL | None:
     i64, ptr = ctypes.c_int64, ctypes.c_void_p
     lib.feasibly_scan.argtypes = [i64] * 6 + [ptr] * 12
     lib.feasibly_scan.restype = None
-    lib.feasibly_gather.argtypes = [i64, i64, i64, ptr, ptr, i64, i64, ptr, ptr]
-    lib.feasibly_gather.restype = None
+    lib.feasibly_pick.argtypes = [i64, i64, i64, ptr, ptr, i64, i64, ptr, ptr, ptr, ptr]
+    lib.feasibly_pick.restype = None
     return lib
 
 
@@ -168,10 +171,6 @@ def _address(a: np.ndarray, dtype: type, writeable: bool = False) -> int:
         msg = f"kernel argument must be a C-contiguous {np.dtype(dtype)} array, got {a.dtype}"
         raise TypeError(msg)
     return int(a.ctypes.data)
-
-
-#: Trials per chunk of the compiled scan (CHUNK in _scan.c; the kernel's work space holds one).
-_KERNEL_CHUNK = 256
 
 
 def _bind_compiled(
@@ -191,7 +190,7 @@ def _bind_compiled(
     trials ``start`` … ``stop`` of ``z``, with the same results to the bit."""
     rows, k = coef.shape
     if (
-        k % BLOCK
+        k < 1
         or z.ndim != 2
         or zoff.shape != (rows,)
         or (rows and (zoff.min() < 0 or zoff.max() + k > z.shape[0]))
@@ -206,8 +205,8 @@ def _bind_compiled(
     f64 = np.float64
     lib = _compiled()
     assert lib is not None
-    # The broadcast coefficients (aligned by the kernel) and the sums of one chunk of trials.
-    room = np.empty(4 * k + 4 + _KERNEL_CHUNK)
+    # The broadcast coefficients, aligned by the kernel.
+    room = np.empty(8 * k + 8)
     args = (
         _address(z, f64),
         _address(zoff, np.int64),
@@ -273,27 +272,41 @@ def _bind_numpy(
     return run
 
 
-def _gather_compiled(
-    values: np.ndarray, filled: np.ndarray, bracket: int, out: np.ndarray, count: np.ndarray
+def _pick_compiled(
+    values: np.ndarray,
+    filled: np.ndarray,
+    bracket: int,
+    ranks: np.ndarray,
+    out: np.ndarray,
+    count: np.ndarray,
 ) -> None:
-    """``gather_numpy`` in C."""
+    """``pick_numpy`` in C (a selection of the few ranks instead of a sort)."""
     threads, rows, nb, cap = values.shape
-    if filled.shape != (threads, rows, nb) or out.shape[0] != rows or count.shape != (rows,):
+    if (
+        filled.shape != (threads, rows, nb)
+        or ranks.ndim != 2
+        or ranks.shape[0] != rows
+        or out.shape != ranks.shape
+        or count.shape != (rows,)
+    ):
         raise ValueError("kernel arguments do not fit together")
     if not 0 <= bracket < nb:
         raise ValueError("no such bracket")
     lib = _compiled()
     assert lib is not None
-    lib.feasibly_gather(
+    work = np.empty(max(threads * cap, 1))
+    lib.feasibly_pick(
         threads,
         rows,
         cap,
         _address(values, np.float64),
         _address(filled, np.int64),
         bracket,
-        out.shape[1],
+        ranks.shape[1],
+        _address(ranks, np.int64),
         _address(out, np.float64, True),
         _address(count, np.int64, True),
+        _address(work, np.float64, True),
     )
 
 
@@ -305,16 +318,16 @@ def compiled() -> bool:
 
 @cache
 def scan_kernel() -> Kernels:
-    """The kernels (bind a scan to its arrays, gather): compiled where the library is present,
-    else numpy's.
+    """The kernels (bind a scan to its arrays, pick order statistics): compiled where the
+    library is present, else numpy's.
 
     Both give the same bits; the compiled ones are about twenty times faster. ctypes releases
     the GIL during each call, so worker threads scan their chunks in parallel.
     """
     if compiled():
-        return _bind_compiled, _gather_compiled
-    return _bind_numpy, gather_numpy
+        return _bind_compiled, _pick_compiled
+    return _bind_numpy, pick_numpy
 
 
 #: The numpy kernels in the form ``scan_kernel`` returns (the compiled ones' reference in tests).
-NUMPY_KERNELS: Kernels = (_bind_numpy, gather_numpy)
+NUMPY_KERNELS: Kernels = (_bind_numpy, pick_numpy)
