@@ -23,6 +23,7 @@ from ..errors import (
     UnitError,
     UnknownSpecies,
 )
+from ..library import gibbs_rt
 from ..library.catalogue import Library, default_library
 from ..library.cp_models import R
 from ..library.species import Species
@@ -150,11 +151,9 @@ def _availability(sset: _SpeciesSet, T: np.ndarray) -> np.ndarray:
 
 
 def _gibbs_rt(sset: _SpeciesSet, T: np.ndarray, avail: np.ndarray) -> np.ndarray:
-    g = np.zeros((T.size, len(sset.entries)))
-    for j, sp in enumerate(sset.entries):
-        mask = avail[:, j]
-        if np.any(mask):
-            g[mask, j] = sp.gibbs(T[mask]) / (R * T[mask])
+    """G°/RT of every entry at each state's T (states × entries), 0 where an entry has no data."""
+    g = gibbs_rt(sset.entries, T)
+    g[~avail] = 0.0
     return g
 
 

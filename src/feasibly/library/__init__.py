@@ -18,7 +18,7 @@ from .catalogue import (
 )
 from .cp_models import T_REF, ConstantCp, CpModel, MaierKelleyCp, Nasa7, Nasa9, R
 from .formula import ParsedFormula, element_table, parse_formula, pretty_formula
-from .species import PHASES, SourcedValue, Species
+from .species import PHASES, SourcedValue, Species, gibbs_rt
 
 __all__ = [
     "COVERAGE_DIVISORS",
@@ -37,6 +37,7 @@ __all__ = [
     "canonical_hash",
     "default_library",
     "element_table",
+    "gibbs_rt",
     "parse_formula",
     "pretty_formula",
     "standard_uncertainty",

@@ -47,6 +47,15 @@ class CpModel:
         raise NotImplementedError
 
 
+def gibbs_basis(T: np.ndarray) -> np.ndarray:
+    """The nine functions of T (9 × len(T)) that G°/RT of a NASA-7 or NASA-9 entry combines on
+    each interval: T⁻², ln T / T, 1/T, ln T, 1, T, T², T³, T⁴."""
+    T = np.asarray(T, dtype=float)
+    inv, ln = 1.0 / T, np.log(T)
+    t2 = T * T
+    return np.stack([inv * inv, ln * inv, inv, ln, np.ones_like(T), T, t2, t2 * T, t2 * t2])
+
+
 @dataclass(frozen=True)
 class Nasa7(CpModel):
     """NASA 7-coefficient polynomial in one or more temperature intervals.
@@ -108,6 +117,30 @@ class Nasa7(CpModel):
         """H(298.15 K) in J/mol and S(298.15 K) in J/(mol·K) implied by the polynomial itself."""
         return self._ref()
 
+    def interval(self, T: np.ndarray) -> np.ndarray:
+        """Index of the interval each temperature falls in (NASA's convention at a break)."""
+        return self._interval(np.asarray(T, dtype=float))
+
+    def gibbs_coefficients(self, dHf: float, S298: float) -> np.ndarray:
+        """G°/RT on each interval as coefficients (intervals × 9) of ``gibbs_basis(T)``, for an
+        entry whose ΔfH° and S° at 298.15 K are ``dHf`` and ``S298`` (the polynomial giving the
+        increments, as ``h_inc`` and ``s_inc`` do).
+
+        From H/RT − S/R of the polynomial: a1(1 − ln T) − a2 T/2 − a3 T²/6 − a4 T³/12 − a5 T⁴/20
+        + a6/T − a7, plus (ΔfH° − H_poly(298.15))/(RT) + (S_poly(298.15) − S°)/R.
+        """
+        h_ref, s_ref = self._ref()
+        a = self.coeffs
+        c = np.zeros((a.shape[0], 9))
+        c[:, 2] = a[:, 5] + (dHf - h_ref) / R  # 1/T
+        c[:, 3] = -a[:, 0]  # ln T
+        c[:, 4] = a[:, 0] - a[:, 6] + (s_ref - S298) / R  # 1
+        c[:, 5] = -a[:, 1] / 2  # T
+        c[:, 6] = -a[:, 2] / 6  # T²
+        c[:, 7] = -a[:, 3] / 12  # T³
+        c[:, 8] = -a[:, 4] / 20  # T⁴
+        return c
+
 
 @dataclass(frozen=True)
 class Nasa9(Nasa7):
@@ -140,6 +173,24 @@ class Nasa9(Nasa7):
             + T * (a[..., 3] + T * (a[..., 4] / 2 + T * (a[..., 5] / 3 + T * a[..., 6] / 4)))
             + a[..., 8]
         )
+
+    def gibbs_coefficients(self, dHf: float, S298: float) -> np.ndarray:
+        """As :meth:`Nasa7.gibbs_coefficients`; from the NASA-9 forms, H/RT − S/R is
+        −a1 T⁻²/2 + a2 (ln T + 1)/T + a3 (1 − ln T) − a4 T/2 − a5 T²/6 − a6 T³/12 − a7 T⁴/20
+        + b1/T − b2."""
+        h_ref, s_ref = self._ref()
+        a = self.coeffs
+        c = np.zeros((a.shape[0], 9))
+        c[:, 0] = -a[:, 0] / 2  # T⁻²
+        c[:, 1] = a[:, 1]  # ln T / T
+        c[:, 2] = a[:, 1] + a[:, 7] + (dHf - h_ref) / R  # 1/T
+        c[:, 3] = -a[:, 2]  # ln T
+        c[:, 4] = a[:, 2] - a[:, 8] + (s_ref - S298) / R  # 1
+        c[:, 5] = -a[:, 3] / 2  # T
+        c[:, 6] = -a[:, 4] / 6  # T²
+        c[:, 7] = -a[:, 5] / 12  # T³
+        c[:, 8] = -a[:, 6] / 20  # T⁴
+        return c
 
     def cp(self, T: np.ndarray) -> np.ndarray:
         T = np.asarray(T, dtype=float)

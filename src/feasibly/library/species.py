@@ -7,17 +7,18 @@ checked against the entry's validity range and never extrapolated.
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass, field
 from types import MappingProxyType
-from typing import Any
+from typing import Any, cast
 
 import numpy as np
 
 from .._pickling import ProxyPickling
 from ..errors import OutsideDataRange
-from .cp_models import CpModel
+from .cp_models import CpModel, Nasa7, R, gibbs_basis
 
-__all__ = ["PHASES", "SourcedValue", "Species"]
+__all__ = ["PHASES", "SourcedValue", "Species", "gibbs_rt"]
 
 #: Phase codes and what they mean in a report.
 PHASES = MappingProxyType(
@@ -138,3 +139,37 @@ class Species(ProxyPickling):
             "hypothetical_298": self.hypothetical_298,
             "notes": list(self.notes),
         }
+
+
+def gibbs_rt(entries: Sequence[Species], T: np.ndarray) -> np.ndarray:
+    """G°/RT of every entry at every temperature (len(T) × entries), without range checks.
+
+    The NASA-7 and NASA-9 entries are evaluated together: the functions of T their G°/RT
+    combines are formed once (``gibbs_basis``) and one matrix product gives every entry on every
+    interval, of which each temperature takes its own interval. The same values as
+    ``entry.gibbs(T) / (R T)`` to rounding (a few 1e-15 relative). Other heat-capacity models are
+    evaluated entry by entry. Values outside an entry's range are the polynomial's
+    extrapolation: the caller masks them (``Species.covers``).
+    """
+    T = np.asarray(T, dtype=float)
+    out = np.empty((T.size, len(entries)))
+    poly = [j for j, sp in enumerate(entries) if isinstance(sp.cp_model, Nasa7)]
+    if poly:
+        models = [cast(Nasa7, entries[j].cp_model) for j in poly]
+        blocks = [
+            m.gibbs_coefficients(entries[j].dHf.value, entries[j].S298.value)
+            for m, j in zip(models, poly, strict=True)
+        ]
+        first = np.cumsum([0] + [b.shape[0] for b in blocks[:-1]])
+        # (len(T), all intervals). einsum's own loop, not BLAS: a multi-threaded BLAS call here
+        # leaves its threads spinning beside the solver's (measured: 24 → 38 ms of CPU time for
+        # 10^4 equilibrium states).
+        values = np.einsum("kn,ck->nc", gibbs_basis(T), np.vstack(blocks), optimize=False)
+        rows = np.arange(T.size)
+        for j, m, start in zip(poly, models, first, strict=True):
+            out[:, j] = values[rows, start + m.interval(T)]
+    for j, sp in enumerate(entries):
+        if not isinstance(sp.cp_model, Nasa7):
+            cp = sp.cp_model
+            out[:, j] = (sp.dHf.value + cp.h_inc(T) - T * (sp.S298.value + cp.s_inc(T))) / (R * T)
+    return out
