@@ -77,3 +77,37 @@ def no_hang() -> Any:
             signal.signal(signal.SIGALRM, old)
 
     return guard
+
+
+def _call_and_send(target: Any, args: tuple[Any, ...], queue: Any) -> None:
+    queue.put(target(*args))
+
+
+@pytest.fixture
+def in_forked_child() -> Any:
+    """``in_forked_child(target, *args)``: ``target(*args)`` in a child made by fork
+    (multiprocessing's default on Linux), its result returned; fails if the child does not
+    answer or exits with an error.
+
+    For code with worker threads: the parent's threads do not exist in the child, which must
+    start its own instead of waiting on them.
+    """
+    import multiprocessing
+
+    def run(target: Any, *args: Any) -> Any:
+        ctx = multiprocessing.get_context("fork")
+        queue = ctx.Queue()
+        child = ctx.Process(target=_call_and_send, args=(target, args, queue))
+        child.start()
+        try:
+            # a child waiting on threads that do not exist would never answer: 120 s is ~1000
+            # times the work of the tests that use this (common practice, no source)
+            result = queue.get(timeout=120)
+            child.join(timeout=60)
+        finally:
+            if child.is_alive():
+                child.kill()
+        assert child.exitcode == 0
+        return result
+
+    return run

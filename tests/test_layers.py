@@ -27,6 +27,7 @@ LEVELS: dict[str, int] = {
     "_palette": 1,
     "_pickling": 1,
     "_limits": 1,
+    "_kernels": 1,
     "_tables": 2,
     "units": 2,
     "library": 2,

@@ -14,6 +14,7 @@ from __future__ import annotations
 
 import importlib.util
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 import pytest
@@ -349,31 +350,17 @@ def test_installed_package_carries_the_compiled_newton_kernel() -> None:
         pytest.skip("running from src/ without bin/build-kernel")
 
 
-def _solve_in_child(args, queue) -> None:  # type: ignore[no-untyped-def]
+def _solve_in_child(args):  # type: ignore[no-untyped-def]
     sol = gs.solve_batch(*args)
-    queue.put((sol.converged.copy(), sol.ln_n.copy()))
+    return sol.converged.copy(), sol.ln_n.copy()
 
 
 @compiled
-def test_a_forked_child_solves_on_threads_of_its_own() -> None:
+def test_a_forked_child_solves_on_threads_of_its_own(in_forked_child: Any) -> None:
     # The parent's worker threads do not exist in a child made by fork (multiprocessing's
     # default on Linux): the child must start its own instead of waiting on the parent's.
-    import multiprocessing
-
     _, (_, args) = _nine(_newton._MIN_THREADED + 100, 11)
     here = gs.solve_batch(*args)  # the parent's pool now exists
-    ctx = multiprocessing.get_context("fork")
-    queue = ctx.Queue()
-    child = ctx.Process(target=_solve_in_child, args=(args, queue))
-    child.start()
-    try:
-        # a child waiting on threads that do not exist would never answer: 120 s is ~1000 times
-        # the work (common practice, no source)
-        converged, ln_n = queue.get(timeout=120)
-        child.join(timeout=60)
-    finally:
-        if child.is_alive():
-            child.kill()
-    assert child.exitcode == 0
+    converged, ln_n = in_forked_child(_solve_in_child, args)
     np.testing.assert_array_equal(converged, here.converged)
     np.testing.assert_array_equal(ln_n, here.ln_n)

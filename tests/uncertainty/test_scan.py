@@ -6,6 +6,7 @@ the outside reference here: its 'linear' quantile rule is Hyndman & Fan's defini
 from __future__ import annotations
 
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 import pytest
@@ -487,30 +488,16 @@ def test_inputs_with_proportional_columns_are_merged_once_and_checked() -> None:
     assert _selection._merge_columns(rng.standard_normal((30, 12)), np.ones(12)) is None
 
 
-def _summary_in_child(model, samples, queue) -> None:  # type: ignore[no-untyped-def]
+def _summary_in_child(model, samples):  # type: ignore[no-untyped-def]
     s = summarise(model, samples, "G", 0.0)
-    queue.put((s.median, s.p_below))
+    return s.median, s.p_below
 
 
-def test_a_forked_child_summarises_on_threads_of_its_own() -> None:
+def test_a_forked_child_summarises_on_threads_of_its_own(in_forked_child: Any) -> None:
     # The parent's worker threads do not exist in a child made by fork (multiprocessing's
     # default on Linux): the child must start its own instead of waiting on the parent's.
-    import multiprocessing
-
     model, samples = _pieces_model(20_000, 48)
     here = summarise(model, samples, "G", 0.0)  # the parent's pool now exists
-    ctx = multiprocessing.get_context("fork")
-    queue = ctx.Queue()
-    child = ctx.Process(target=_summary_in_child, args=(model, samples, queue))
-    child.start()
-    try:
-        # a child waiting on threads that do not exist would never answer: 120 s is ~1000 times
-        # the work (common practice, no source)
-        median, p_below = queue.get(timeout=120)
-        child.join(timeout=60)
-    finally:
-        if child.is_alive():
-            child.kill()
-    assert child.exitcode == 0
+    median, p_below = in_forked_child(_summary_in_child, model, samples)
     np.testing.assert_array_equal(median, here.median)
     np.testing.assert_array_equal(p_below, here.p_below)

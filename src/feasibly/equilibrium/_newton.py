@@ -19,13 +19,14 @@ from __future__ import annotations
 import ctypes
 import itertools
 import os
-import threading
-import warnings
 from concurrent.futures import ThreadPoolExecutor
 from functools import cache
 from pathlib import Path
 
 import numpy as np
+
+from .._kernels import WorkerPool, load_library
+from .._kernels import address as _address
 
 __all__ = ["MAX_ELEMENTS", "compiled", "newton_gas"]
 
@@ -51,18 +52,12 @@ def _library_path() -> Path | None:
 
 @cache
 def _compiled() -> ctypes.CDLL | None:
-    path = _library_path()
-    if path is None:
-        return None
-    try:
-        lib = ctypes.CDLL(str(path))
-    except OSError as exc:  # built for another machine, say: numpy iterates the same way
-        warnings.warn(
-            f"feasibly's compiled equilibrium kernel could not be loaded ({exc}); iterating with "
-            "numpy instead: the same results, a few times slower",
-            RuntimeWarning,
-            stacklevel=2,
-        )
+    lib = load_library(
+        _library_path(),
+        "equilibrium kernel",
+        "iterating with numpy instead: the same results, a few times slower",
+    )
+    if lib is None:
         return None
     i64, ptr = ctypes.c_int64, ctypes.c_void_p
     lib.feasibly_newton_gas.argtypes = [i64] * 6 + [ptr] * 11
@@ -75,19 +70,12 @@ def compiled() -> bool:
     return _compiled() is not None
 
 
-_POOL: tuple[int, ThreadPoolExecutor] | None = None
-_POOL_LOCK = threading.Lock()
+# One pool per process, made anew in a child made by fork (see WorkerPool).
+_WORKERS = WorkerPool(lambda: _MAX_THREADS, "feasibly-newton")
 
 
 def _pool() -> ThreadPoolExecutor:
-    """One pool per process (starting threads per call costs more than the work of a thousand
-    states). A child made by fork inherits the parent's pool without its threads, where work
-    would wait for ever: the pool is keyed by the process id and made anew in the child."""
-    global _POOL
-    with _POOL_LOCK:
-        if _POOL is None or _POOL[0] != os.getpid():
-            _POOL = (os.getpid(), ThreadPoolExecutor(_MAX_THREADS, "feasibly-newton"))
-        return _POOL[1]
+    return _WORKERS.get()
 
 
 def _threads() -> int:
@@ -96,14 +84,6 @@ def _threads() -> int:
     except AttributeError:  # not on Linux
         cores = os.cpu_count() or 1
     return max(1, min(_MAX_THREADS, cores))
-
-
-def _address(a: np.ndarray, dtype: type, writeable: bool = False) -> int:
-    """The data address of ``a`` after checking what the C code assumes of it."""
-    if a.dtype != dtype or not a.flags.c_contiguous or (writeable and not a.flags.writeable):
-        msg = f"kernel argument must be a C-contiguous {np.dtype(dtype)} array, got {a.dtype}"
-        raise TypeError(msg)
-    return int(a.ctypes.data)
 
 
 def newton_gas(

@@ -33,6 +33,8 @@ from typing import TYPE_CHECKING, Any, NamedTuple
 import numpy as np
 from scipy import special
 
+from .._kernels import WorkerPool
+
 if TYPE_CHECKING:
     from ._scan import Kernels
 
@@ -877,20 +879,12 @@ def single_threaded_blas() -> Iterator[None]:
                 limiter.restore_original_limits()
 
 
-_POOL: tuple[int, ThreadPoolExecutor] | None = None
-_POOL_LOCK = threading.Lock()
+# One pool for the life of the process (made anew in a child made by fork: see WorkerPool).
+_WORKERS = WorkerPool(workers, "feasibly-scan")
 
 
 def _pool() -> ThreadPoolExecutor:
-    """One pool per process: starting threads per call costs milliseconds, which at N = 10^4
-    trials is a large part of a summary. A child made by fork inherits the parent's pool without
-    its threads, where work would wait for ever: the pool is keyed by the process id and made
-    anew in the child."""
-    global _POOL
-    with _POOL_LOCK:
-        if _POOL is None or _POOL[0] != os.getpid():
-            _POOL = (os.getpid(), ThreadPoolExecutor(workers(), thread_name_prefix="feasibly-scan"))
-        return _POOL[1]
+    return _WORKERS.get()
 
 
 def run_parallel(job: Callable[[int], None], threads: int) -> None:

@@ -22,12 +22,14 @@ quantiles to the last bits, a few times slower than with the kernel.
 from __future__ import annotations
 
 import ctypes
-import warnings
 from collections.abc import Callable
 from functools import cache
 from pathlib import Path
 
 import numpy as np
+
+from .._kernels import address as _address
+from .._kernels import load_library
 
 __all__ = [
     "BRACKETS",
@@ -144,18 +146,12 @@ def _library_path() -> Path | None:
 
 @cache
 def _compiled() -> ctypes.CDLL | None:
-    path = _library_path()
-    if path is None:
-        return None
-    try:
-        lib = ctypes.CDLL(str(path))
-    except OSError as exc:  # built for another machine, say: numpy selection gives the same
-        warnings.warn(
-            f"feasibly's compiled Monte Carlo kernel could not be loaded ({exc}); selecting with "
-            "numpy instead: the same numbers, a few times slower",
-            RuntimeWarning,
-            stacklevel=2,
-        )
+    lib = load_library(
+        _library_path(),
+        "Monte Carlo kernel",
+        "selecting with numpy instead: the same numbers, a few times slower",
+    )
+    if lib is None:
         return None
     i64, ptr = ctypes.c_int64, ctypes.c_void_p
     lib.feasibly_scan.argtypes = [i64] * 6 + [ptr] * 12
@@ -163,14 +159,6 @@ def _compiled() -> ctypes.CDLL | None:
     lib.feasibly_pick.argtypes = [i64, i64, i64, ptr, ptr, i64, i64, ptr, ptr, ptr, ptr]
     lib.feasibly_pick.restype = None
     return lib
-
-
-def _address(a: np.ndarray, dtype: type, writeable: bool = False) -> int:
-    """The data address of ``a`` after checking what the C code assumes of it."""
-    if a.dtype != dtype or not a.flags.c_contiguous or (writeable and not a.flags.writeable):
-        msg = f"kernel argument must be a C-contiguous {np.dtype(dtype)} array, got {a.dtype}"
-        raise TypeError(msg)
-    return int(a.ctypes.data)
 
 
 def _bind_compiled(
