@@ -49,7 +49,7 @@ export PATH="$VENV/bin:$PATH"
 install_feasibly() {
     local extras="${1:-}"
     rm -rf "$ROOT/.build/wheel"
-    step "building feasibly from this checkout (compiles the Monte Carlo kernel)"
+    step "building feasibly from this checkout (compiles the C kernels)"
     quiet_pip python -m pip wheel --no-deps -w "$ROOT/.build/wheel" "$ROOT"
     local wheel
     wheel="$(ls "$ROOT"/.build/wheel/feasibly-*.whl)"
