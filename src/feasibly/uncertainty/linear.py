@@ -399,8 +399,23 @@ def crossings(
     n = samples.n
     first = np.full(n, np.nan)
     count = np.zeros(n, dtype=np.int64)
-    prev: np.ndarray | None = None  # the previous block's last row
     chunk = chunk or block_rows(n)
+    # One BLAS thread: a multi-threaded product leaves its threads spinning after the call,
+    # beside the summaries' own worker threads that follow.
+    with single_threaded_blas():
+        return _crossings(model, samples, T, thr, first, count, chunk)
+
+
+def _crossings(
+    model: LinearModel,
+    samples: SampleSet,
+    T: np.ndarray,
+    thr: np.ndarray,
+    first: np.ndarray,
+    count: np.ndarray,
+    chunk: int,
+) -> tuple[np.ndarray, np.ndarray]:
+    prev: np.ndarray | None = None  # the previous block's last row
     for start in range(0, T.size, chunk):
         block = model.values("G", samples, slice(start, min(start + chunk, T.size)))
         block -= thr[start : start + block.shape[0], None]
