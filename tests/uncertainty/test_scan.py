@@ -14,9 +14,20 @@ import pytest
 import feasibly
 from feasibly.uncertainty import _quantiles as _selection
 from feasibly.uncertainty import _scan, build_inputs, draw_samples
-from feasibly.uncertainty.linear import linear_model, summarise
+from feasibly.uncertainty.linear import Summary, linear_model, summarise
 
 PROBS = (0.025, 0.5, 0.975)
+
+
+def _assert_summary_is_numpys(s: Summary, g: np.ndarray, threshold: Any) -> None:
+    """The summary's quantiles are numpy's of the outputs ``g`` (rows × trials), to the last
+    bits of the summation order, and its P(below) the plain count below ``threshold``."""
+    ref = np.quantile(g, PROBS, axis=1)
+    for got, want in zip((s.lo, s.median, s.hi), ref, strict=True):
+        np.testing.assert_allclose(got, want, rtol=1e-13, atol=1e-9)
+    np.testing.assert_array_equal(s.p_below * g.shape[1], (g < threshold).sum(axis=1))
+
+
 compiled = pytest.mark.skipif(
     not _scan.compiled(),
     reason="C kernels not built in this tree (bin/build-kernel); the installed wheel has them",
@@ -182,10 +193,7 @@ def test_streamed_summary_is_numpys(threads: int, monkeypatch: pytest.MonkeyPatc
     thr = np.linspace(-2e4, 2e4, model.T.size)
     s = summarise(model, samples, "G", thr)
     g = model.values("G", samples)
-    ref = np.quantile(g, PROBS, axis=1)
-    for got, want in zip((s.lo, s.median, s.hi), ref, strict=True):
-        np.testing.assert_allclose(got, want, rtol=1e-13, atol=1e-9)
-    np.testing.assert_array_equal(s.p_below * samples.n, (g < thr[:, None]).sum(axis=1))
+    _assert_summary_is_numpys(s, g, thr[:, None])
 
 
 @compiled
@@ -287,10 +295,7 @@ def test_without_the_compiled_kernel_rows_are_formed_and_selected_by_numpy(
     model, samples = _reaction_model(10_007, 38)
     s = summarise(model, samples, "G", 0.0)
     g = model.values("G", samples)
-    ref = np.quantile(g, PROBS, axis=1)
-    for got, want in zip((s.lo, s.median, s.hi), ref, strict=True):
-        np.testing.assert_allclose(got, want, rtol=1e-13, atol=1e-9)
-    np.testing.assert_array_equal(s.p_below * samples.n, (g < 0).sum(axis=1))
+    _assert_summary_is_numpys(s, g, 0.0)
 
 
 def test_low_rank_keeps_every_direction_its_acceptance_test_needs() -> None:
@@ -437,10 +442,7 @@ def test_summary_of_many_species_is_numpys(keep: bool, monkeypatch: pytest.Monke
     model, samples = _pieces_model(20_011, 43)
     s = summarise(model, samples, "G", 0.0)
     g = model.values("G", samples)
-    ref = np.quantile(g, PROBS, axis=1)
-    for got, want in zip((s.lo, s.median, s.hi), ref, strict=True):
-        np.testing.assert_allclose(got, want, rtol=1e-13, atol=1e-9)
-    np.testing.assert_array_equal(s.p_below * samples.n, (g < 0).sum(axis=1))
+    _assert_summary_is_numpys(s, g, 0.0)
     np.testing.assert_allclose(s.mean, g.mean(axis=1), rtol=1e-12, atol=1e-9)
     np.testing.assert_allclose(s.u, g.std(axis=1, ddof=1), rtol=1e-10)
 

@@ -19,7 +19,6 @@ from __future__ import annotations
 import ctypes
 import itertools
 import os
-from concurrent.futures import ThreadPoolExecutor
 from functools import cache
 from pathlib import Path
 
@@ -72,10 +71,6 @@ def compiled() -> bool:
 
 # One pool per process, made anew in a child made by fork (see WorkerPool).
 _WORKERS = WorkerPool(lambda: _MAX_THREADS, "feasibly-newton")
-
-
-def _pool() -> ThreadPoolExecutor:
-    return _WORKERS.get()
 
 
 def _threads() -> int:
@@ -145,7 +140,7 @@ def newton_gas(
         # Interleaved halves would balance slow states better, but contiguous blocks keep each
         # thread's rows apart in memory (no shared cache lines); states cost about the same.
         edges = [B * k // threads for k in range(threads + 1)]
-        futures = [_pool().submit(run, lo, hi) for lo, hi in itertools.pairwise(edges)]
+        futures = [_WORKERS.get().submit(run, lo, hi) for lo, hi in itertools.pairwise(edges)]
         status = [f.result() for f in futures]
     if any(s == -2 for s in status):
         raise ValueError(f"the equilibrium kernel takes 1 … {MAX_ELEMENTS} elements, not {r}")

@@ -400,47 +400,36 @@ def crossings(
     first = np.full(n, np.nan)
     count = np.zeros(n, dtype=np.int64)
     chunk = chunk or block_rows(n)
+    prev: np.ndarray | None = None  # the previous block's last row
     # One BLAS thread: a multi-threaded product leaves its threads spinning after the call,
     # beside the summaries' own worker threads that follow.
     with single_threaded_blas():
-        return _crossings(model, samples, T, thr, first, count, chunk)
-
-
-def _crossings(
-    model: LinearModel,
-    samples: SampleSet,
-    T: np.ndarray,
-    thr: np.ndarray,
-    first: np.ndarray,
-    count: np.ndarray,
-    chunk: int,
-) -> tuple[np.ndarray, np.ndarray]:
-    prev: np.ndarray | None = None  # the previous block's last row
-    for start in range(0, T.size, chunk):
-        block = model.values("G", samples, slice(start, min(start + chunk, T.size)))
-        block -= thr[start : start + block.shape[0], None]
-        negative = block < 0
-        # Whole blocks at once: first the step from the previous block's last row into this
-        # block (grid points start − 1 → start), then the steps inside the block (a sign flip
-        # between rows j and j + 1 is a crossing between grid points start + j and start + j + 1).
-        if prev is not None:
-            edge = (prev < 0) != negative[0]
-            count += edge
-            new = np.flatnonzero(edge & np.isnan(first))
+        for start in range(0, T.size, chunk):
+            block = model.values("G", samples, slice(start, min(start + chunk, T.size)))
+            block -= thr[start : start + block.shape[0], None]
+            negative = block < 0
+            # Whole blocks at once: first the step from the previous block's last row into this
+            # block (grid points start − 1 → start), then the steps inside the block (a sign
+            # flip between rows j and j + 1 is a crossing between grid points start + j and
+            # start + j + 1).
+            if prev is not None:
+                edge = (prev < 0) != negative[0]
+                count += edge
+                new = np.flatnonzero(edge & np.isnan(first))
+                if new.size:
+                    a, b = prev[new], block[0, new]
+                    frac = a / (a - b)
+                    first[new] = T[start - 1] + frac * (T[start] - T[start - 1])
+            flip = negative[1:] != negative[:-1]
+            count += flip.sum(axis=0)
+            new = np.flatnonzero(flip.any(axis=0) & np.isnan(first))
             if new.size:
-                a, b = prev[new], block[0, new]
+                j = np.argmax(flip[:, new], axis=0)  # each trial's first flip in this block
+                a, b = block[j, new], block[j + 1, new]
+                k = start + j + 1
                 frac = a / (a - b)
-                first[new] = T[start - 1] + frac * (T[start] - T[start - 1])
-        flip = negative[1:] != negative[:-1]
-        count += flip.sum(axis=0)
-        new = np.flatnonzero(flip.any(axis=0) & np.isnan(first))
-        if new.size:
-            j = np.argmax(flip[:, new], axis=0)  # each trial's first flip in this block
-            a, b = block[j, new], block[j + 1, new]
-            k = start + j + 1
-            frac = a / (a - b)
-            first[new] = T[k - 1] + frac * (T[k] - T[k - 1])
-        prev = block[-1]
+                first[new] = T[k - 1] + frac * (T[k] - T[k - 1])
+            prev = block[-1]
     return first, count
 
 
