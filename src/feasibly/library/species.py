@@ -150,9 +150,9 @@ def gibbs_rt(entries: Sequence[Species], T: np.ndarray) -> np.ndarray:
     combines are formed once (``gibbs_basis``) and one matrix product gives every entry on every
     interval, of which each temperature takes its own interval. The same values as
     ``entry.gibbs(T) / (R T)`` to rounding: the two cancel the polynomial's terms in different
-    orders, within 1e-10 of |G°/RT| over every library entry's range (measured worst 9.6e-11,
-    NaCN(cr,II); tests/reference/test_gibbs_table_vs_cantera.py). Other heat-capacity models are
-    evaluated entry by entry. Values outside an entry's range are the polynomial's
+    orders, within 1e-10 of the size of G°/RT over every library entry's range (measured worst
+    9.6e-11, NaCN(cr,II); tests/reference/test_gibbs_table_vs_cantera.py). Other heat-capacity
+    models are evaluated entry by entry. Values outside an entry's range are the polynomial's
     extrapolation: the caller masks them (``Species.covers``).
     """
     T = np.asarray(T, dtype=float)
