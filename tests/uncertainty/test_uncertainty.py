@@ -476,13 +476,19 @@ def test_crossings_match_a_trial_by_trial_scan() -> None:
     # Reference: each trial's row of ΔrG − threshold scanned in plain Python order, with the
     # same linear interpolation. The threshold oscillates, so trials cross several times, and
     # the small chunk puts crossings on block boundaries.
+    from feasibly.uncertainty._quantiles import single_threaded_blas
     from feasibly.uncertainty.linear import crossings, linear_model
 
     rxn = feasibly.Reaction.parse("CaCO3 -> CaO + CO2")
     samples = draw_samples(build_inputs(rxn.species_used()), 500, seed=41)
     T = np.linspace(900.0, 1200.0, 61)
     model = linear_model(rxn, T, samples)
-    g = model.values("G", samples)
+    # The values as crossings forms them (blocks of 7 rows on one BLAS thread): a BLAS product
+    # of other shape or threading may differ in the last bit, and the check below is exact.
+    with single_threaded_blas():
+        g = np.vstack(
+            [model.values("G", samples, slice(s, min(s + 7, T.size))) for s in range(0, T.size, 7)]
+        )
     thr = np.median(g, axis=1) + 3000.0 * np.sin(T / 7.0)
     first, count = crossings(model, samples, thr, chunk=7)
     d = g - thr[:, None]
