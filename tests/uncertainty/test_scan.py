@@ -80,7 +80,7 @@ def test_scan_kernel_matches_numpy_to_the_bit(m: int, k: int, cap: int) -> None:
     rng = np.random.default_rng(7)
     args, acc_c = _chunk(rng, 9, m, k, cap)
     acc_n = tuple(a.copy() for a in acc_c)
-    bind, _ = _scan.scan_kernel()
+    bind, _, _ = _scan.scan_kernel()
     run = bind(*args, *acc_c)
     # Several ranges accumulate; ranges longer than the kernel's chunk are cut into chunks.
     for a, b in [(0, m // 3), (m // 3, m), (0, m)]:
@@ -102,7 +102,7 @@ def test_scan_kernel_counts_past_a_full_buffer() -> None:
     rng = np.random.default_rng(8)
     args, acc_c = _chunk(rng, 4, 1024, 8, 5)  # room for 5 values only
     acc_n = tuple(a.copy() for a in acc_c)
-    bind, _ = _scan.scan_kernel()
+    bind, _, _ = _scan.scan_kernel()
     bind(*args, *acc_c)(0, 1024)
     _scan.scan_numpy(*args, *acc_n, 0, 1024)
     np.testing.assert_array_equal(acc_c[2], acc_n[2])
@@ -130,7 +130,7 @@ def test_pick_kernel_matches_numpy() -> None:
     values[0, 1, 2] = rng.standard_normal(40)
     filled = rng.integers(0, 41, (2, 5, 3))
     filled[1, 3, 0] = 41  # an overflowed buffer: the row reports −1
-    _, c_pick = _scan.scan_kernel()
+    _, c_pick, _ = _scan.scan_kernel()
     for b in range(3):
         total = filled[:, :, b].sum(axis=0)
         ranks = np.sort(rng.integers(0, np.maximum(total, 1)[:, None], (5, 3)), axis=1)
@@ -159,7 +159,7 @@ def test_pick_selects_from_long_runs_of_equal_values() -> None:
     filled = np.full((1, 2, 3), 300)
     ranks = np.tile(np.arange(0, 300, 7), (2, 1))
     out = np.empty(ranks.shape)
-    _, c_pick = _scan.scan_kernel()
+    _, c_pick, _ = _scan.scan_kernel()
     c_pick(values, filled, 1, ranks, out, np.empty(2, dtype=np.int64))
     for r in range(2):
         np.testing.assert_array_equal(out[r], np.sort(values[0, r, 1])[ranks[r]])
@@ -169,7 +169,7 @@ def test_pick_selects_from_long_runs_of_equal_values() -> None:
 def test_kernels_refuse_misshapen_arguments() -> None:
     rng = np.random.default_rng(11)
     args, acc = _chunk(rng, 3, 64, 8, 10)
-    bind, _ = _scan.scan_kernel()
+    bind, _, _ = _scan.scan_kernel()
     with pytest.raises(ValueError, match="do not fit"):
         bind(args[0][:15], *args[1:], *acc)  # the second group's block is cut short
     with pytest.raises(TypeError, match="C-contiguous"):
@@ -503,3 +503,189 @@ def test_a_forked_child_summarises_on_threads_of_its_own(in_forked_child: Any) -
     median, p_below = in_forked_child(_summary_in_child, model, samples)
     np.testing.assert_array_equal(median, here.median)
     np.testing.assert_array_equal(p_below, here.p_below)
+
+
+def _former_case(rng: np.random.Generator, n: int, with_right: bool):  # type: ignore[no-untyped-def]
+    # Draws of 11 inputs; three sets of proportional inputs (one of a single member) and three
+    # singles, in a scrambled order; right maps the 6 merged inputs to 8 rows of z (two groups
+    # of four), or z is the merged inputs themselves.
+    x = rng.standard_normal((11, n)) * rng.uniform(0.1, 30.0, (11, 1))
+    sets = (
+        (np.array([4, 0, 9]), rng.standard_normal(3)),
+        (np.array([2]), np.array([-1.5])),
+        (np.array([7, 5]), rng.standard_normal(2)),
+    )
+    single = np.array([10, 1, 3])
+    right = rng.standard_normal((8, 6)) if with_right else None
+    return x, sets, single, right
+
+
+@compiled
+@pytest.mark.parametrize("n", [1, 3, 127, 128, 1000, 4099])
+@pytest.mark.parametrize("with_right", [True, False])
+def test_former_matches_numpy_to_the_bit(n: int, with_right: bool) -> None:
+    # z and its moments (sums of rows, sums of products within each group), with trial counts
+    # that end inside a chunk, a vector and a lane; formed into a wider array at an offset.
+    rng = np.random.default_rng(n)
+    x, sets, single, right = _former_case(rng, n, with_right)
+    rz = 8 if with_right else 6
+    groups, kg = (np.array([0, 4]), 4) if with_right else (np.array([0, 3]), 3)
+    results = []
+    for bind in (_scan._form_compiled, _scan.form_numpy):
+        form = bind(x, sets, single, right, groups, kg)
+        out = np.full((rz, n + 5), np.nan)
+        sums, gram = np.ones(rz), np.full((rz, rz), 2.0)
+        form(0, n, out, 2, sums, gram)
+        if n > 2:  # a second, partial range adds to the same moments
+            form(1, n - 1, out, 3, sums, gram)
+        results.append((out, sums, gram))
+    for a, b in zip(*results, strict=True):
+        np.testing.assert_array_equal(a, b)
+    out, sums, gram = results[0]
+    # Against plain numpy (to rounding): the merged inputs, z, and the moments.
+    w = np.array([ws @ x[at] for at, ws in sets] + [x[i] for i in single])
+    z = w if right is None else right @ w
+    np.testing.assert_allclose(out[:, 2 : 2 + n], z, rtol=1e-12, atol=1e-9)
+    want_sums = 1.0 + z.sum(axis=1) + (z[:, 1 : n - 1].sum(axis=1) if n > 2 else 0.0)
+    np.testing.assert_allclose(sums, want_sums, rtol=1e-11)
+    for o in groups:
+        g = slice(o, o + kg)
+        want = 2.0 + z[g] @ z[g].T + (z[g, 1 : n - 1] @ z[g, 1 : n - 1].T if n > 2 else 0.0)
+        np.testing.assert_allclose(gram[g, g], want, rtol=1e-11)
+    outside = np.ones((rz, rz), dtype=bool)
+    for o in groups:
+        outside[o : o + kg, o : o + kg] = False
+    assert np.all(gram[outside] == 2.0)  # blocks of no group are never touched
+
+
+@compiled
+def test_former_refuses_misshapen_arguments() -> None:
+    rng = np.random.default_rng(3)
+    x, sets, single, right = _former_case(rng, 50, True)
+    with pytest.raises(ValueError, match="do not fit"):
+        _scan._form_compiled(x, sets, single, right[:, :5])
+    with pytest.raises(ValueError, match="do not fit"):
+        _scan._form_compiled(x, sets, np.array([11]), None)  # no such input
+    with pytest.raises(ValueError, match="do not fit"):
+        _scan._form_compiled(x, sets, single, right, np.array([6]), 4)  # group past the end
+    form = _scan._form_compiled(x, sets, single, right)
+    with pytest.raises(ValueError, match="outside"):
+        form(0, 51, np.empty((8, 60)), 0)
+    with pytest.raises(ValueError, match="do not fit"):
+        form(0, 50, np.empty((8, 40)), 0)  # too few columns
+    with pytest.raises(TypeError, match="C-contiguous"):
+        form(0, 10, np.empty((8, 40))[:, ::2], 0)
+
+
+def test_population_moments_are_the_inputs_distributions() -> None:
+    # Against the moments of many draws (the draws follow the distributions; 4 standard errors).
+    from scipy import stats
+
+    from feasibly.uncertainty import Override
+    from feasibly.uncertainty.linear import population_moments
+
+    rxn = feasibly.Reaction.parse("CO(g) + H2O(g) -> CO2(g) + H2(g)")
+    overrides = [
+        Override("CO(g)", "dHf", "demo", uncertainty="3 kJ/mol", distribution="uniform"),
+        Override("H2(g)", "S298", "demo", uncertainty="0.5 J/(mol*K)", distribution="triangular"),
+        # A skewed distribution of the value itself (invented for the test).
+        Override("CO2(g)", "dHf", "demo", distribution=stats.skewnorm(4.0, -394.0e3, 600.0)),
+    ]
+    inputs = build_inputs(rxn.species_used(), overrides)
+    n = 200_000
+    samples = draw_samples(inputs, n, seed=3)
+    mean, cov = population_moments(samples)
+    x = samples.values
+    sd = np.sqrt(np.diag(cov))
+    assert np.all(np.abs(x.mean(axis=1) - mean) <= 4 * sd / np.sqrt(n) + 1e-12)
+    np.testing.assert_allclose(x.std(axis=1, ddof=1), sd, rtol=0.02)
+    # Correlated normal inputs: the covariance carries the correlation asked for.
+    corr = np.eye(len(inputs))
+    corr[0, 1] = corr[1, 0] = 0.8
+    plain = build_inputs(rxn.species_used())
+    samples = draw_samples(plain, n, seed=4, correlation=corr)
+    mean, cov = population_moments(samples)
+    sd = np.sqrt(np.diag(cov))
+    both = np.outer(sd, sd)
+    rho = np.divide(cov, both, out=np.zeros_like(cov), where=both > 0)
+    se = both * np.sqrt((1.0 + rho**2) / n)
+    assert np.all(np.abs(np.cov(samples.values) - cov) <= 5 * se)
+    assert cov[0, 1] == pytest.approx(0.8 * sd[0] * sd[1])
+
+
+def _guess(model, samples):  # type: ignore[no-untyped-def]
+    from feasibly.uncertainty.linear import population_moments
+
+    mu, sigma = population_moments(samples)
+    return model.G0 + model.aG @ mu, np.sqrt(np.einsum("ij,jk,ik->i", model.aG, sigma, model.aG))
+
+
+@pytest.mark.parametrize("guess", ["none", "inputs", "far off", "too narrow"])
+def test_one_pass_summary_is_the_two_pass_summary_to_the_bit(
+    guess: str, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    # Brackets placed from the inputs' distributions (one pass), from nothing (two passes), or
+    # from a guess that misses every bracket (10 standard deviations off, or a spread 1000
+    # times too small): the misses are scanned again, and every number is the same bits.
+    model, samples = _pieces_model(30_001, 45)
+    f = _selection.factor_rows(model.aG, _scale(samples), model.pieces)
+    args = (f, model.G0, samples.values, PROBS, np.zeros(model.T.size), model.aG)
+    want = _selection.factored_statistics(*args)
+    mean, std = _guess(model, samples)
+    given = {
+        "none": None,
+        "inputs": (mean, std),
+        "far off": (mean + 10 * std, std),
+        "too narrow": (mean, std / 1000),
+    }[guess]
+    calls: list[int] = []
+    redo = _selection._redo_missed
+
+    def spy(*a: Any, **k: Any) -> Any:
+        calls.append(int(np.count_nonzero(~a[1])))
+        return redo(*a, **k)
+
+    monkeypatch.setattr(_selection, "_redo_missed", spy)
+    got = _selection.factored_statistics(*args, guess=given)
+    for a, b in zip(want, got, strict=True):
+        np.testing.assert_array_equal(a, b)
+    if guess in ("far off", "too narrow"):
+        assert calls and calls[0] == model.T.size  # every row missed once and was redone
+    elif guess == "inputs":
+        assert calls == [0]  # one pass, no row missed
+
+
+@compiled
+def test_compiled_and_numpy_kernels_give_the_same_one_pass_summary() -> None:
+    model, samples = _pieces_model(20_001, 46)
+    f = _selection.factor_rows(model.aG, _scale(samples), model.pieces)
+    args = (f, model.G0, samples.values, PROBS, np.zeros(model.T.size), model.aG)
+    guess = _guess(model, samples)
+    fast = _selection.factored_statistics(*args, guess=guess)
+    slow = _selection.factored_statistics(*args, kernels=_scan.NUMPY_KERNELS, guess=guess)
+    for a, b in zip(fast, slow, strict=True):
+        np.testing.assert_array_equal(a, b)
+
+
+def test_summary_of_a_far_from_normal_output_is_numpys(monkeypatch: pytest.MonkeyPatch) -> None:
+    # One input with a wide uniform distribution dominates: the outputs are nearly uniform, so
+    # brackets placed for a normal output miss at the tails and those rows are scanned again.
+    from feasibly.uncertainty import Override
+
+    rxn = feasibly.Reaction.parse(_TWELVE)
+    wide = Override("CO(g)", "dHf", "demo", uncertainty="60 kJ/mol", distribution="uniform")
+    samples = draw_samples(build_inputs(rxn.species_used(), [wide]), 20_011, seed=47)
+    model = linear_model(rxn, np.linspace(800.0, 1500.0, 30), samples)
+    missed: list[int] = []
+    redo = _selection._redo_missed
+
+    def spy(*a: Any, **k: Any) -> Any:
+        missed.append(int(np.count_nonzero(~a[1])))
+        return redo(*a, **k)
+
+    monkeypatch.setattr(_selection, "_redo_missed", spy)
+    s = summarise(model, samples, "G", 0.0)
+    assert missed and missed[0] > 0
+    g = model.values("G", samples)
+    _assert_summary_is_numpys(s, g, 0.0)
+    np.testing.assert_allclose(s.u, g.std(axis=1, ddof=1), rtol=1e-10)

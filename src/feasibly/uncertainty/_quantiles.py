@@ -13,10 +13,14 @@ row partitioned — so the result is always exact, never approximate.
 
 ``factored_statistics`` does this for outputs that are linear in the draws (every Δr quantity
 is) without ever holding them: the coefficient rows are factored (``factor_rows``: one low-rank
-factorisation, or one per polynomial piece, whichever costs less), the few factored inputs
-z = right @ x formed once in worker threads with their moments (which give each output's mean
-and standard deviation), and z scanned once by the kernel of ``_scan``. ``streamed_statistics``
-does the same for given moments, and ``row_statistics`` for rows already in memory.
+factorisation, or one per polynomial piece, whichever costs less), and the few factored inputs
+z = right @ x are formed by the compiled former of ``_scan`` in worker threads, a block of
+trials at a time, with their moments (which give each output's mean and standard deviation).
+Given a guess of each output's mean and spread from the inputs' distributions, each block is
+scanned by the kernel as soon as it is formed, while it is in cache (one pass; rows whose
+guessed brackets missed are scanned again); otherwise z is formed first and scanned after.
+``streamed_statistics`` does the same for given moments, and ``row_statistics`` for rows
+already in memory.
 """
 
 from __future__ import annotations
@@ -35,7 +39,7 @@ from scipy import special
 from .._kernels import WorkerPool
 
 if TYPE_CHECKING:
-    from ._scan import Kernels
+    from ._scan import Former, Kernels
 
 __all__ = [
     "Factors",
@@ -63,6 +67,13 @@ _EPS = float(np.finfo(float).eps)
 _WIDE_FROM = 200_000
 _WIDE_FACTOR = 2.5
 _MAX_WIDENINGS = 3
+# Bracket half-width, in the same units, when the brackets are placed from the inputs'
+# distributions before any trial is seen (the one-pass summary): the sample quantile then lies
+# about one standard error of the quantile from the guess, against a fraction of one from a
+# guess through the sample moments. Simulated (standard normal outputs, brackets at the
+# population's quantiles): with 2.0, 2 of 900 brackets missed at 10^5 trials; with 2.5 none of
+# 6 000 at 10^4, 900 at 10^5 and 120 at 10^6. A miss costs a second scan of that row.
+_GUESS_WIDTH = 2.5
 
 
 def _width_factor(n: int) -> float:
@@ -326,14 +337,30 @@ class Factors(NamedTuple):
 
     def inputs(self, x: np.ndarray, start: int = 0, stop: int | None = None) -> np.ndarray:
         """z for trials ``start`` … ``stop`` of the draws ``x`` (inputs × trials), formed as the
-        summary forms it: ``right @ x``, or through the merged inputs when there are any."""
+        summary forms it (the same bits as the compiled former)."""
+        from ._scan import form_numpy
+
+        stop = x.shape[1] if stop is None else stop
+        out = np.empty((self.rows_of_z(), stop - start))
+        self.former(form_numpy, x)(start, stop, out, 0)
+        return out
+
+    def former(self, bind: Callable[..., Former], x: np.ndarray, moments: bool = False) -> Former:
+        """``bind`` (a kernel's former binder) applied to the draws ``x`` and these factors:
+        z = ``right @ x`` in the merged coordinates when inputs were merged. With ``moments``
+        the former can also sum the moments of each group of rows of z that an output row
+        reads (``groups``)."""
         assert self.right is not None
-        part = x[:, start:stop]
+        kz = self.left.shape[1]
+        groups = (self.groups(), kz) if moments else (None, 0)
         m = self.merged
         if m is None:
-            return self.right @ part
-        w = m.inputs(part)
-        return w if m.right is None else m.right @ w
+            return bind(x, (), np.arange(x.shape[0]), self.right, *groups)
+        return bind(x, m.sets, m.single, m.right, *groups)
+
+    def groups(self) -> np.ndarray:
+        """The first row of z of each group of rows that output rows read (``zoff``'s values)."""
+        return np.unique(self.zoff)
 
 
 def _rows(x: np.ndarray, at: np.ndarray) -> np.ndarray:
@@ -362,11 +389,12 @@ class Merged(NamedTuple):
     right: np.ndarray | None = None
 
     def inputs(self, x: np.ndarray) -> np.ndarray:
-        w = np.empty((len(self.sets) + self.single.size, x.shape[1]))
-        for i, (at, weights) in enumerate(self.sets):
-            np.dot(weights, _rows(x, at), out=w[i])
-        w[len(self.sets) :] = _rows(x, self.single)
-        return w
+        """The merged inputs w of the draws ``x`` (the sets' weighted sums, then the singles)."""
+        from ._scan import form_numpy
+
+        out = np.empty((len(self.sets) + self.single.size, x.shape[1]))
+        form_numpy(x, self.sets, self.single, None)(0, x.shape[1], out, 0)
+        return out
 
 
 def _group_factors(
@@ -541,44 +569,69 @@ Blocks = Callable[[int], Iterator[tuple[int, np.ndarray, int, int]]]
 
 
 class _Inputs(NamedTuple):
-    """How each pass reads z: ``formed(t)`` gives thread t's trials of z in blocks of at most
-    ``_Z_BLOCK`` trials, as (part, block), forming them (and keeping each part whole when asked);
-    ``blocks(t)`` then gives them to the scan as (part, array, first trial, end)."""
+    """How each pass reads z: ``moments(t, sums, grams)`` forms thread t's parts of z and sums
+    their moments (keeping each part whole when asked); ``blocks(t)`` then gives them to the
+    scan as (part, array, first trial, end). ``through(t, sums, grams)`` forms thread t's parts
+    a block at a time into one buffer of the thread's, summing their moments, and gives
+    (buffer, trials in it) after each block, for a scan in the same pass."""
 
-    formed: Callable[[int], Iterator[tuple[int, np.ndarray]]]
+    moments: Callable[[int, np.ndarray, np.ndarray], None]
     blocks: Blocks
+    through: Callable[[int, np.ndarray, np.ndarray], Iterator[tuple[np.ndarray, int]]]
 
 
 def _z_blocks(
-    factors: Factors, x: np.ndarray, edges: np.ndarray, threads: int, keep: bool
+    factors: Factors,
+    x: np.ndarray,
+    edges: np.ndarray,
+    threads: int,
+    keep: bool,
+    bind_form: Callable[..., Former],
 ) -> _Inputs:
-    """The passes' access to z = the factored inputs of the draws ``x``. With ``keep`` each
-    part's z is formed once (in blocks that stay in cache while their moments are summed) and
-    kept for the scan; otherwise the scan forms it again, block by block."""
+    """The passes' access to z = the factored inputs of the draws ``x``, formed by the kernel's
+    former (``bind_form``; one binding per thread, each with its own work space). With ``keep``
+    each part's z is formed once (while its moments are summed) and kept for the scan;
+    otherwise the scan forms it again, block by block."""
     right = factors.right
     kept: list[np.ndarray | None] = [None] * (edges.size - 1)
-    if right is None:
-        x = np.ascontiguousarray(x)  # the kernel reads the draws in place (rows of length N)
+    x = np.ascontiguousarray(x)  # the kernels read the draws in place (rows of length N)
+    formers = [] if right is None else [factors.former(bind_form, x, True) for _ in range(threads)]
     rz = factors.rows_of_z()
+    kz = factors.left.shape[1]
 
     def mine(t: int) -> Iterator[tuple[int, int, int]]:
         for part in range(t, edges.size - 1, threads):
             yield part, int(edges[part]), int(edges[part + 1])
 
-    def form(a: int, b: int) -> Iterator[tuple[int, int, np.ndarray]]:
-        # z of trials a … b, _Z_BLOCK trials at a time: (first trial, end, block)
+    def steps(a: int, b: int) -> Iterator[tuple[int, int]]:
         for s in range(a, b, _Z_BLOCK):
-            e = min(s + _Z_BLOCK, b)
-            yield s, e, (x[:, s:e] if right is None else factors.inputs(x, s, e))
+            yield s, min(s + _Z_BLOCK, b)
 
-    def formed(t: int) -> Iterator[tuple[int, np.ndarray]]:
+    def form(t: int, a: int, b: int) -> Iterator[tuple[np.ndarray, int]]:
+        # z of trials a … b, _Z_BLOCK trials at a time, into the first columns of one buffer of
+        # the thread's: (buffer, columns filled)
+        buf = np.empty((rz, min(_Z_BLOCK, b - a)))
+        for s, e in steps(a, b):
+            formers[t](s, e, buf, 0)
+            yield buf, e - s
+
+    def moments(t: int, sums: np.ndarray, grams: np.ndarray) -> None:
+        # Thread t's parts of z formed, their moments summed into sums[part] and grams[part]
+        # (the groups' blocks), and each part kept when asked.
         for part, a, b in mine(t):
-            whole = np.empty((rz, b - a)) if keep and right is not None else None
-            for s, e, zb in form(a, b):
-                if whole is not None:
-                    whole[:, s - a : e - a] = zb
-                yield part, zb
-            kept[part] = whole
+            if right is None:  # z is the draws themselves
+                for s, e in steps(a, b):
+                    zb = x[:, s:e]
+                    sums[part] += zb.sum(axis=1)
+                    for o in factors.groups().tolist():
+                        g = slice(o, o + kz)
+                        grams[part, g, g] += zb[g] @ zb[g].T
+                continue
+            whole = np.empty((rz, b - a if keep else min(_Z_BLOCK, b - a)))
+            for s, e in steps(a, b):
+                formers[t](s, e, whole, s - a if keep else 0, sums[part], grams[part])
+            if keep:
+                kept[part] = whole
 
     def blocks(t: int) -> Iterator[tuple[int, np.ndarray, int, int]]:
         for part, a, b in mine(t):
@@ -588,10 +641,18 @@ def _z_blocks(
             elif z is not None:
                 yield part, z, 0, b - a
             else:
-                for _, _, zb in form(a, b):
-                    yield part, zb, 0, zb.shape[1]
+                for buf, m in form(t, a, b):
+                    yield part, buf, 0, m
 
-    return _Inputs(formed, blocks)
+    def through(t: int, sums: np.ndarray, grams: np.ndarray) -> Iterator[tuple[np.ndarray, int]]:
+        assert right is not None
+        buf = np.empty((rz, min(_Z_BLOCK, int(np.max(np.diff(edges))))))
+        for part, a, b in mine(t):
+            for s, e in steps(a, b):
+                formers[t](s, e, buf, 0, sums[part], grams[part])
+                yield buf, e - s
+
+    return _Inputs(moments, blocks, through)
 
 
 def factored_statistics(
@@ -602,14 +663,19 @@ def factored_statistics(
     thresholds: np.ndarray,
     coef: np.ndarray,
     kernels: Kernels | None = None,
+    guess: tuple[np.ndarray, np.ndarray] | None = None,
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """Mean, standard deviation, quantiles, their standard errors and counts below threshold of
     the outputs ``nominal + coef @ x``, through their factored form ``factors``.
 
-    One pass forms z = right @ x (rz × N, small) in worker threads and its moments (mean and
-    covariance, ddof = 1), which give each output's mean and standard deviation (placing the
-    brackets); a second pass scans z with the kernel. Quantiles are numpy's of the outputs the
-    kernel forms, exactly; ``coef`` (the unfactored rows) serves rows whose brackets miss.
+    z = right @ x (rz × N, small) is formed in worker threads with its moments (mean and
+    covariance, ddof = 1), which give each output's mean and standard deviation exactly, and
+    scanned by the kernel. With ``guess`` (each output's mean and standard deviation as the
+    inputs' distributions define them) the scan runs in the same pass, a block of z at a time
+    while it is in cache, with brackets placed from the guess; rows whose brackets missed are
+    scanned again with brackets from the sample moments. Without it, a first pass forms z and
+    its moments and a second pass scans. Quantiles are numpy's of the outputs the kernel forms,
+    exactly; ``coef`` (the unfactored rows) serves rows whose brackets miss.
     """
     from . import _scan
 
@@ -619,20 +685,37 @@ def factored_statistics(
     edges = _part_edges(n)
     parts = edges.size - 1
     threads = min(workers(), parts)
-    inputs = _z_blocks(factors, x, edges, threads, keep=rz * n * 8 <= _KEEP_SHARE * x.nbytes)
+    one_pass = (
+        guess is not None
+        and factors.right is not None
+        and left.shape[0] <= _ROWS_PER_PASS
+        and len(probs) <= _scan.BRACKETS
+        and bool(np.all(np.isfinite(guess[0])) and np.all(np.isfinite(guess[1])))
+    )
+    keep = not one_pass and rz * n * 8 <= _KEEP_SHARE * x.nbytes
+    inputs = _z_blocks(factors, x, edges, threads, keep, kernels[2])
+    # Each output row reads one group of rows of z: only the groups' own blocks of the Gram
+    # matrix are ever summed and used.
     sums = np.zeros((parts, rz))
     grams = np.zeros((parts, rz, rz))
-    # Each output row reads one group of rows of z: only the groups' own blocks of the Gram
-    # matrix are ever used.
-    groups = [slice(o, o + left.shape[1]) for o in np.unique(zoff).tolist()]
+    scan: _Scan | None = None
+    if one_pass:
+        assert guess is not None
+        left_c, zoff_c = np.ascontiguousarray(left), np.ascontiguousarray(zoff)
+        nominal_c, thr_c = np.ascontiguousarray(nominal), np.ascontiguousarray(thresholds)
+        scan = _prepare(n, probs, guess[0], guess[1], threads, _GUESS_WIDTH / _width_factor(n))
 
-    def moments(t: int) -> None:
-        for part, zb in inputs.formed(t):
-            sums[part] += zb.sum(axis=1)
-            for g in groups:
-                grams[part, g, g] += zb[g] @ zb[g].T
+        def job(t: int) -> None:
+            assert scan is not None
+            run = None
+            for buf, m in inputs.through(t, sums, grams):
+                if run is None:  # the thread's buffer is the same array for every block
+                    run = _bind_scan(kernels, scan, t, buf, left_c, zoff_c, nominal_c, thr_c)
+                run(0, m)
 
-    run_parallel(moments, threads)
+        run_parallel(job, threads)
+    else:
+        run_parallel(lambda t: inputs.moments(t, sums, grams), threads)
     # Summed part by part in order: the same bits whatever the number of threads.
     zbar = np.add.reduce(sums, axis=0) / n
     cov = (np.add.reduce(grams, axis=0) / n - np.outer(zbar, zbar)) * (n / (n - 1))
@@ -640,9 +723,19 @@ def factored_statistics(
     mean = nominal + np.einsum("ij,ij->i", left, zbar[at])
     var = np.einsum("ij,ijk,ik->i", left, cov[at[:, :, None], at[:, None, :]], left)
     u = np.sqrt(np.clip(var, 0.0, None))
-    q, e, c = _statistics_by_pass(
-        kernels, left, zoff, inputs.blocks, threads, coef, nominal, x, mean, u, probs, thresholds
-    )
+    if scan is None:
+        q, e, c = _statistics_by_pass(
+            kernels, left, zoff, inputs.blocks, threads, coef, nominal, x, mean, u, probs,
+            thresholds,
+        )  # fmt: skip
+        return mean, u, q, e, c
+    q, e, c, ok = _finish(kernels, scan, n)
+    # Rows whose guessed brackets missed (a far-from-normal output): scanned again, z formed
+    # again, with brackets from the sample moments (widen 1/4 here is 1 there).
+    q, e, c = _redo_missed(
+        kernels, ok, scan.usable, (q, e, c), left, zoff, inputs.blocks, threads, coef, nominal,
+        x, mean, u, probs, thresholds, 0.25,
+    )  # fmt: skip
     return mean, u, q, e, c
 
 
@@ -685,7 +778,7 @@ def streamed_statistics(
     factors = factor_rows(coef, scale)
     edges = _part_edges(x.shape[1])
     threads = min(workers(), edges.size - 1)
-    blocks = _z_blocks(factors, x, edges, threads, keep=False).blocks
+    blocks = _z_blocks(factors, x, edges, threads, False, kernels[2]).blocks
     return _statistics_by_pass(
         kernels,
         factors.left,
@@ -765,6 +858,113 @@ def _blocked_rows(
     return q, e, c
 
 
+class _Scan(NamedTuple):
+    """The brackets of one scan of rows and at most three probabilities, and its accumulators
+    per thread: counts below the threshold and below each bracket, and the values kept inside
+    each bracket (``values``, ``filled``)."""
+
+    plans: list[_Plan]
+    usable: np.ndarray
+    lo: np.ndarray
+    hi: np.ndarray
+    values: np.ndarray
+    filled: np.ndarray
+    below_thr: np.ndarray
+    below: np.ndarray
+
+
+def _prepare(
+    n: int,
+    probs: tuple[float, ...],
+    means: np.ndarray,
+    stds: np.ndarray,
+    threads: int,
+    widen: float,
+) -> _Scan:
+    """Brackets around the normal guess ``means + stds × z_p`` of each row's quantiles (half
+    width ``widen`` times the plan's), and empty accumulators for ``threads`` threads."""
+    from ._scan import BRACKETS
+
+    rows = means.shape[0]
+    plans = [_bracket(n, p) for p in probs]
+    usable = np.isfinite(means) & np.isfinite(stds) & (stds > 0)
+    spread = np.where(usable, stds, 0.0)
+    z = np.array([pl.z for pl in plans])
+    guess = np.where(usable, means, 0.0)[:, None] + spread[:, None] * z[None, :]
+    half = spread[:, None] * np.array([pl.half * widen for pl in plans])[None, :]
+    lo_edge = np.full((rows, BRACKETS), np.inf)  # padding brackets [+inf, +inf] hold nothing
+    hi_edge = np.full((rows, BRACKETS), np.inf)
+    lo_edge[:, : len(probs)] = guess - half
+    hi_edge[:, : len(probs)] = guess + half
+    lo_edge[~usable] = np.inf
+    hi_edge[~usable] = np.inf
+    # Expected values inside a bracket for a normal output: 2 × half-width × density
+    # = 2 × width factor × (rank span + 8). Each thread's buffer holds twice its share plus
+    # slack; a row whose bracket needs more is recomputed whole.
+    expected = max(2 * _width_factor(n) * (pl.span + 8) for pl in plans) * widen
+    cap = int(2 * expected / threads) + 64
+    return _Scan(
+        plans,
+        usable,
+        lo_edge,
+        hi_edge,
+        np.empty((threads, rows, BRACKETS, cap)),
+        np.zeros((threads, rows, BRACKETS), dtype=np.int64),
+        np.zeros((threads, rows), dtype=np.int64),
+        np.zeros((threads, rows, BRACKETS), dtype=np.int64),
+    )
+
+
+def _bind_scan(
+    kernels: Kernels,
+    scan: _Scan,
+    t: int,
+    z: np.ndarray,
+    left: np.ndarray,
+    zoff: np.ndarray,
+    nominal: np.ndarray,
+    thresholds: np.ndarray,
+) -> Callable[[int, int], None]:
+    """Thread t's scan of the trials of ``z`` (rows ``left`` reading from ``zoff``)."""
+    return kernels[0](
+        z,
+        zoff,
+        left,
+        nominal,
+        thresholds,
+        scan.lo,
+        scan.hi,
+        scan.below_thr[t],
+        scan.below[t],
+        scan.filled[t],
+        scan.values[t],
+    )
+
+
+def _finish(
+    kernels: Kernels, scan: _Scan, n: int
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Quantiles, their standard errors, counts below threshold, and which rows are exact:
+    the kept values of all threads side by side, and the needed ranks selected from them
+    (counted from the bracket's lowest value)."""
+    pick = kernels[1]
+    rows = scan.usable.shape[0]
+    c = scan.below_thr.sum(axis=0)
+    total_below = scan.below.sum(axis=0)
+    ok = scan.usable.copy()
+    q = np.empty((rows, len(scan.plans)))
+    e = np.empty((rows, len(scan.plans)))
+    count = np.empty(rows, dtype=np.int64)
+    for j, plan in enumerate(scan.plans):
+        local = np.asarray(plan.ranks)[None, :] - total_below[:, j, None]
+        at = np.empty(local.shape)
+        pick(scan.values, scan.filled, j, local, at, count)
+        ok &= (count >= 0) & (local[:, 0] >= 0) & (local[:, -1] < count)
+        with np.errstate(invalid="ignore"):  # rows that are not ok hold NaN; recomputed later
+            q[:, j], e[:, j] = _quantile(dict(zip(plan.ranks, at.T, strict=True)), n, plan)
+    return q, e, c, ok
+
+
 def _stream_rows(
     kernels: Kernels,
     left: np.ndarray,
@@ -782,76 +982,50 @@ def _stream_rows(
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """One pass of rows and at most three probabilities: thread t scans the blocks of z that
     ``blocks(t)`` gives (part, z, first trial, end) with the rows ``left`` reading from ``zoff``."""
-    from ._scan import BRACKETS
-
-    bind, pick = kernels
-    rows, n = left.shape[0], x.shape[1]
-    plans = [_bracket(n, p) for p in probs]
-    usable = np.isfinite(means) & np.isfinite(stds) & (stds > 0)
-    spread = np.where(usable, stds, 0.0)
-    z = np.array([pl.z for pl in plans])
-    guess = np.where(usable, means, 0.0)[:, None] + spread[:, None] * z[None, :]
-    half = spread[:, None] * np.array([pl.half * widen for pl in plans])[None, :]
-    lo_edge = np.full((rows, BRACKETS), np.inf)  # padding brackets [+inf, +inf] hold nothing
-    hi_edge = np.full((rows, BRACKETS), np.inf)
-    lo_edge[:, : len(probs)] = guess - half
-    hi_edge[:, : len(probs)] = guess + half
-    lo_edge[~usable] = np.inf
-    hi_edge[~usable] = np.inf
-
-    # Expected values inside a bracket for a normal output: 2 × half-width × density
-    # = 2 × width factor × (rank span + 8). Each thread's buffer holds twice its share plus
-    # slack; a row whose bracket needs more is recomputed whole.
-    expected = max(2 * _width_factor(n) * (pl.span + 8) for pl in plans) * widen
-    cap = int(2 * expected / threads) + 64
-    values = np.empty((threads, rows, BRACKETS, cap))
-    filled = np.zeros((threads, rows, BRACKETS), dtype=np.int64)
-    below_thr = np.zeros((threads, rows), dtype=np.int64)
-    below = np.zeros((threads, rows, BRACKETS), dtype=np.int64)
+    n = x.shape[1]
     left = np.ascontiguousarray(left)
     zoff = np.ascontiguousarray(zoff)
     nominal = np.ascontiguousarray(nominal)
     thresholds = np.ascontiguousarray(thresholds)
+    scan = _prepare(n, probs, means, stds, threads, widen)
 
-    def scan(t: int) -> None:
+    def job(t: int) -> None:
         for _, zb, a, b in blocks(t):
-            run = bind(
-                zb,
-                zoff,
-                left,
-                nominal,
-                thresholds,
-                lo_edge,
-                hi_edge,
-                below_thr[t],
-                below[t],
-                filled[t],
-                values[t],
-            )
-            run(a, b)
+            _bind_scan(kernels, scan, t, zb, left, zoff, nominal, thresholds)(a, b)
 
-    run_parallel(scan, threads)
+    run_parallel(job, threads)
+    q, e, c, ok = _finish(kernels, scan, n)
+    return _redo_missed(
+        kernels, ok, scan.usable, (q, e, c), left, zoff, blocks, threads, coef, nominal, x,
+        means, stds, probs, thresholds, widen,
+    )  # fmt: skip
 
-    # Exact order statistics inside each bracket: the kept values of all threads side by side,
-    # and the needed ranks selected from them (counted from the bracket's lowest value).
-    c = below_thr.sum(axis=0)
-    total_below = below.sum(axis=0)
-    ok = usable.copy()
-    q = np.empty((rows, len(probs)))
-    e = np.empty((rows, len(probs)))
-    count = np.empty(rows, dtype=np.int64)
-    for j, plan in enumerate(plans):
-        local = np.asarray(plan.ranks)[None, :] - total_below[:, j, None]
-        at = np.empty(local.shape)
-        pick(values, filled, j, local, at, count)
-        ok &= (count >= 0) & (local[:, 0] >= 0) & (local[:, -1] < count)
-        with np.errstate(invalid="ignore"):  # rows that are not ok hold NaN; recomputed below
-            q[:, j], e[:, j] = _quantile(dict(zip(plan.ranks, at.T, strict=True)), n, plan)
+
+def _redo_missed(
+    kernels: Kernels,
+    ok: np.ndarray,
+    usable: np.ndarray,
+    got: tuple[np.ndarray, np.ndarray, np.ndarray],
+    left: np.ndarray,
+    zoff: np.ndarray,
+    blocks: Blocks,
+    threads: int,
+    coef: np.ndarray,
+    nominal: np.ndarray,
+    x: np.ndarray,
+    means: np.ndarray,
+    stds: np.ndarray,
+    probs: tuple[float, ...],
+    thresholds: np.ndarray,
+    widen: float,
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """``got`` (quantiles, errors, counts) with the rows that are not ``ok`` recomputed: scanned
+    again with brackets four times wider (the normal guess ``means``, ``stds`` missed: a
+    far-from-normal output, or at 10^6 trials brackets of under 0.01 standard deviations), as
+    row_statistics does, and in the end formed whole."""
+    q, e, c = got
     retry = np.flatnonzero(~ok & usable)
     if retry.size and widen < 4.0**_MAX_WIDENINGS:
-        # The normal guess missed (a far-from-normal output, or at 10^6 trials brackets of
-        # under 0.01 standard deviations): scan those rows again with brackets four times wider,
-        # as row_statistics does, before forming them whole.
         q[retry], e[retry], c[retry] = _stream_rows(
             kernels, left[retry], zoff[retry], blocks, threads, coef[retry], nominal[retry], x,
             means[retry], stds[retry], probs, thresholds[retry], widen * 4.0,

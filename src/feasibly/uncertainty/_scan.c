@@ -86,10 +86,27 @@ scan_chunk(int64_t k_all, int64_t ld, int64_t m, int64_t rows, int64_t cap, cons
         int64_t k[NB] = {filled[r * NB], filled[r * NB + 1], filled[r * NB + 2]};
         double *const out[NB] = {values + (r * NB) * cap, values + (r * NB + 1) * cap,
                                  values + (r * NB + 2) * cap};
-        /* Eight trials at a time: two independent sums keep the adder busy while each waits for
-         * its previous term (the inputs of a chunk are in L1). */
-        const int64_t m8 = m / 8 * 8;
+        /* Sixteen trials at a time: four independent sums keep both adders busy while each waits
+         * for its previous term (the inputs of a chunk are in L1), then eight at a time. */
+        const int64_t m16 = m / 16 * 16, m8 = m / 8 * 8;
         int64_t i = 0;
+        for (; i < m16; i += 16) {
+            const double *z0 = zr + i;
+            v4d s0 = av[0] * load4(z0), s1 = av[0] * load4(z0 + 4);
+            v4d s2 = av[0] * load4(z0 + 8), s3 = av[0] * load4(z0 + 12);
+            for (int64_t j = 1; j < k_all; j++) {
+                const double *zj = z0 + j * ld;
+                s0 = s0 + av[j] * load4(zj);
+                s1 = s1 + av[j] * load4(zj + 4);
+                s2 = s2 + av[j] * load4(zj + 8);
+                s3 = s3 + av[j] * load4(zj + 12);
+            }
+            const v4d x0 = s0 + G, x1 = s1 + G, x2 = s2 + G, x3 = s3 + G;
+            COUNT4(x0);
+            COUNT4(x1);
+            COUNT4(x2);
+            COUNT4(x3);
+        }
         for (; i < m8; i += 8) {
             v4d s = av[0] * load4(zr + i), u = av[0] * load4(zr + i + 4);
             for (int64_t j = 1; j < k_all; j++) {
@@ -227,5 +244,208 @@ void feasibly_pick(int64_t threads, int64_t rows, int64_t cap, const double *val
         multiselect(work, 0, k, rk, (int)nr);
         for (int64_t i = 0; i < nr; i++)
             o[i] = work[rk[i]];
+    }
+}
+
+/* Moments of the rows of z in lanes: lane l sums the trials t ≡ l (mod 4) of a call in order,
+ * and the lanes are combined as (l0 + l1) + (l2 + l3) at the end of the call (moments_numpy in
+ * _scan.py does the same). Four independent sums per row keep the adders busy. */
+static inline __attribute__((always_inline)) void lane_sums(const double *zr, int64_t m,
+                                                            double *lane)
+{
+    v4d acc = load4(lane);
+    const int64_t m4 = m / 4 * 4;
+    for (int64_t t = 0; t < m4; t += 4)
+        acc = acc + load4(zr + t);
+    memcpy(lane, &acc, 32);
+    for (int64_t t = m4; t < m; t++)
+        lane[t % 4] = lane[t % 4] + zr[t];
+}
+
+/* The same for the products of row zr with rows zs[0 .. ns), ns ≤ 4: lane[q] (4 doubles each)
+ * for pair q; four pairs at a time keep the adders busy. */
+static inline __attribute__((always_inline)) void lane_products(const double *zr,
+                                                                const double *const *zs, int ns,
+                                                                int64_t m, double *const *lane)
+{
+    const int64_t m4 = m / 4 * 4;
+    if (ns == 4) {
+        v4d a0 = load4(lane[0]), a1 = load4(lane[1]), a2 = load4(lane[2]), a3 = load4(lane[3]);
+        for (int64_t t = 0; t < m4; t += 4) {
+            const v4d r = load4(zr + t);
+            a0 = a0 + r * load4(zs[0] + t);
+            a1 = a1 + r * load4(zs[1] + t);
+            a2 = a2 + r * load4(zs[2] + t);
+            a3 = a3 + r * load4(zs[3] + t);
+        }
+        memcpy(lane[0], &a0, 32);
+        memcpy(lane[1], &a1, 32);
+        memcpy(lane[2], &a2, 32);
+        memcpy(lane[3], &a3, 32);
+    } else {
+        for (int q = 0; q < ns; q++) {
+            v4d a = load4(lane[q]);
+            for (int64_t t = 0; t < m4; t += 4)
+                a = a + load4(zr + t) * load4(zs[q] + t);
+            memcpy(lane[q], &a, 32);
+        }
+    }
+    for (int64_t t = m4; t < m; t++)
+        for (int q = 0; q < ns; q++)
+            lane[q][t % 4] = lane[q][t % 4] + zr[t] * zs[q][t];
+}
+
+/* z (rz × m, rows of length ldz) = right (rz × kt) @ the merged inputs rows[0 .. kt), each
+ * sum left to right (the first product, then each further one added): four rows of z and
+ * eight trials at a time, so eight sums are independent and each input is read once for four
+ * rows. */
+static inline __attribute__((always_inline)) void product(int64_t rz, int64_t kt, int64_t m,
+                                                          const double *right,
+                                                          const double *const *rows, double *zc,
+                                                          int64_t ldz)
+{
+    int64_t r = 0;
+    for (; r + 4 <= rz; r += 4) {
+        const double *a = right + r * kt;
+        int64_t t = 0;
+        for (; t + 8 <= m; t += 8) {
+            v4d s[4][2];
+            for (int q = 0; q < 4; q++) {
+                const double c = a[q * kt];
+                const v4d cq = {c, c, c, c};
+                s[q][0] = cq * load4(rows[0] + t);
+                s[q][1] = cq * load4(rows[0] + t + 4);
+            }
+            for (int64_t i = 1; i < kt; i++) {
+                const v4d w0 = load4(rows[i] + t), w1 = load4(rows[i] + t + 4);
+                for (int q = 0; q < 4; q++) {
+                    const double c = a[q * kt + i];
+                    const v4d cq = {c, c, c, c};
+                    s[q][0] = s[q][0] + cq * w0;
+                    s[q][1] = s[q][1] + cq * w1;
+                }
+            }
+            for (int q = 0; q < 4; q++) {
+                memcpy(zc + (r + q) * ldz + t, &s[q][0], 32);
+                memcpy(zc + (r + q) * ldz + t + 4, &s[q][1], 32);
+            }
+        }
+        for (; t < m; t++) {
+            for (int q = 0; q < 4; q++) {
+                double v = a[q * kt] * rows[0][t];
+                for (int64_t i = 1; i < kt; i++)
+                    v = v + a[q * kt + i] * rows[i][t];
+                zc[(r + q) * ldz + t] = v;
+            }
+        }
+    }
+    for (; r < rz; r++) {
+        const double *a = right + r * kt;
+        double *zr = zc + r * ldz;
+        for (int64_t t = 0; t < m; t++) {
+            double v = a[0] * rows[0][t];
+            for (int64_t i = 1; i < kt; i++)
+                v = v + a[i] * rows[i][t];
+            zr[t] = v;
+        }
+    }
+}
+
+/* The factored inputs z of trials start .. stop of the draws x (inputs × trials, rows of length
+ * ldx), written to z (rz rows of length ldz, its column 0 being trial start).
+ *
+ * First the merged inputs w: set s is the weighted sum of its draws, set_idx[set_ptr[s] ..
+ * set_ptr[s + 1]) with weights set_w (the first weight times its draw, then each further product
+ * added, left to right), and after the sets each single input is its own draw. Then z = right @ w
+ * (product), or z = w when right is NULL. The order is product_numpy's, and no multiply-add is
+ * fused, so form_numpy gives the same bits. work holds nsets × FORM_CHUNK doubles, rows kt
+ * pointers.
+ *
+ * With sums not NULL the moments of z are added too: sums[r] (rz) gets the sum of row r over
+ * the trials, and gram (rz × rz) the sums of products of rows r and s of the same group (ngroups
+ * groups of kg rows from row group_off[g]; other entries are not touched), each summed in lanes
+ * (lane_sums); lanes holds 4 (rz + ngroups kg kg) doubles. */
+#define FORM_CHUNK 128
+
+VECTOR_CLONES
+void feasibly_form(int64_t ldx, const double *x, int64_t start, int64_t stop, int64_t nsets,
+                   const int64_t *set_ptr, const int64_t *set_idx, const double *set_w,
+                   int64_t nsingle, const int64_t *single, int64_t rz, const double *right,
+                   double *z, int64_t ldz, double *work, const double **rows, int64_t ngroups,
+                   const int64_t *group_off, int64_t kg, double *sums, double *gram,
+                   double *lanes)
+{
+    const int64_t kt = nsets + nsingle;
+    double *const lane_gram = lanes + 4 * rz;
+    if (sums)
+        memset(lanes, 0, (size_t)(4 * (rz + ngroups * kg * kg)) * sizeof(double));
+    for (int64_t c = start; c < stop; c += FORM_CHUNK) {
+        const int64_t m = stop - c < FORM_CHUNK ? stop - c : FORM_CHUNK;
+        double *const zc = z + (c - start);
+        for (int64_t s = 0; s < nsets; s++) {
+            double *w = right ? work + s * FORM_CHUNK : zc + s * ldz;
+            const int64_t p0 = set_ptr[s];
+            const double w0 = set_w[p0];
+            const double *x0 = x + set_idx[p0] * ldx + c;
+            for (int64_t t = 0; t < m; t++)
+                w[t] = w0 * x0[t];
+            for (int64_t p = p0 + 1; p < set_ptr[s + 1]; p++) {
+                const double wp = set_w[p];
+                const double *xp = x + set_idx[p] * ldx + c;
+                for (int64_t t = 0; t < m; t++)
+                    w[t] = w[t] + wp * xp[t];
+            }
+            rows[s] = w;
+        }
+        for (int64_t i = 0; i < nsingle; i++) {
+            const double *xi = x + single[i] * ldx + c;
+            if (right) {
+                rows[nsets + i] = xi;
+            } else {
+                double *zi = zc + (nsets + i) * ldz;
+                for (int64_t t = 0; t < m; t++)
+                    zi[t] = xi[t];
+            }
+        }
+        if (right)
+            product(rz, kt, m, right, rows, zc, ldz);
+        if (!sums)
+            continue;
+        for (int64_t r = 0; r < rz; r++)
+            lane_sums(zc + r * ldz, m, lanes + 4 * r);
+        for (int64_t g = 0; g < ngroups; g++) {
+            const double *zg = zc + group_off[g] * ldz;
+            double *lg = lane_gram + 4 * g * kg * kg;
+            for (int64_t r = 0; r < kg; r++) {
+                for (int64_t s0 = 0; s0 <= r; s0 += 4) {
+                    const int ns = r + 1 - s0 < 4 ? (int)(r + 1 - s0) : 4;
+                    const double *zs[4];
+                    double *lq[4];
+                    for (int q = 0; q < ns; q++) {
+                        zs[q] = zg + (s0 + q) * ldz;
+                        lq[q] = lg + 4 * (r * kg + s0 + q);
+                    }
+                    lane_products(zg + r * ldz, zs, ns, m, lq);
+                }
+            }
+        }
+    }
+    if (!sums)
+        return;
+    for (int64_t r = 0; r < rz; r++) {
+        const double *l = lanes + 4 * r;
+        sums[r] = sums[r] + ((l[0] + l[1]) + (l[2] + l[3]));
+    }
+    for (int64_t g = 0; g < ngroups; g++) {
+        const int64_t o = group_off[g];
+        const double *lg = lane_gram + 4 * g * kg * kg;
+        for (int64_t r = 0; r < kg; r++) {
+            for (int64_t s = 0; s <= r; s++) {
+                const double *l = lg + 4 * (r * kg + s);
+                double *at = gram + (o + r) * rz + o + s;
+                *at = *at + ((l[0] + l[1]) + (l[2] + l[3]));
+                gram[(o + s) * rz + o + r] = *at;
+            }
+        }
     }
 }

@@ -9,7 +9,10 @@ summed left to right, sixteen trials at a time) and adds
 * the count below the lower edge of each of three brackets, and
 * the outputs inside each bracket, appended to that bracket's buffer,
 
-so that the order statistics inside each bracket can be selected afterwards, exactly.
+so that the order statistics inside each bracket can be selected afterwards, exactly. The
+former (``form_numpy``, ``feasibly_form`` in C) makes those inputs from the draws, a block of
+trials at a time: each set of merged inputs as its weighted sum, then z = right @ w, and the
+sums and products of the rows of z that give the outputs' moments.
 
 The kernels are written twice: in C (``_scan.c``, compiled into the wheel by ``hatch_build.py``
 and called through ctypes, which releases the GIL so worker threads scan in parallel) and in
@@ -25,6 +28,7 @@ import ctypes
 from collections.abc import Callable
 from functools import cache
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 
@@ -34,6 +38,7 @@ from .._kernels import load_library
 __all__ = [
     "BRACKETS",
     "compiled",
+    "form_numpy",
     "pick_numpy",
     "product_numpy",
     "scan_kernel",
@@ -45,9 +50,16 @@ __all__ = [
 BRACKETS = 3
 
 ScanKernel = Callable[..., None]
-#: (bind a scan to its arrays → run a range of trials, pick order statistics of one bracket): what
-#: ``scan_kernel`` returns.
-Kernels = tuple[Callable[..., Callable[[int, int], None]], ScanKernel]
+#: Sets of merged inputs: (indices of the draws, their weights) each.
+Sets = tuple[tuple[np.ndarray, np.ndarray], ...]
+#: A former bound to its draws and factors: ``form(start, stop, out, col, sums, gram)`` writes z
+#: of trials start … stop into columns col … of ``out`` (rz × length, C order) and, when
+#: ``sums`` is given, adds the moments of those trials of z to ``sums`` (rz,) and ``gram``
+#: (rz × rz, the blocks of the groups only).
+Former = Callable[..., None]
+#: (bind a scan to its arrays → run a range of trials, pick order statistics of one bracket,
+#: bind a former of z to its draws): what ``scan_kernel`` returns.
+Kernels = tuple[Callable[..., Callable[[int, int], None]], ScanKernel, Callable[..., Former]]
 
 
 def product_numpy(coef: np.ndarray, z: np.ndarray) -> np.ndarray:
@@ -58,6 +70,60 @@ def product_numpy(coef: np.ndarray, z: np.ndarray) -> np.ndarray:
     for k in range(1, z.shape[0]):
         out = out + coef[:, k, None] * z[k]
     return out
+
+
+def lane_sum(a: np.ndarray) -> np.ndarray:
+    """Sums over the last axis as the compiled former sums moments: four lanes (the trials
+    t ≡ 0, 1, 2, 3 mod 4), each in order, combined as (l0 + l1) + (l2 + l3)."""
+    lanes = [
+        np.cumsum(a[..., lane::4], axis=-1)[..., -1]
+        if a.shape[-1] > lane
+        else np.zeros(a.shape[:-1])
+        for lane in range(4)
+    ]
+    return (lanes[0] + lanes[1]) + (lanes[2] + lanes[3])
+
+
+def form_numpy(
+    x: np.ndarray,
+    sets: Sets,
+    single: np.ndarray,
+    right: np.ndarray | None,
+    group_off: np.ndarray | None = None,
+    kg: int = 0,
+) -> Former:
+    """The factored inputs z of the draws ``x`` (inputs × trials), bound once: the merged inputs
+    w (each set's weighted sum of its draws, then each single input's own draw, in that order),
+    then z = ``right`` @ w, or z = w when ``right`` is None, all in ``product_numpy``'s order.
+    With moments asked for, the sums of each row of z and the sums of products of the rows of
+    each group (``kg`` rows from each of ``group_off``), in ``lane_sum``'s order. The compiled
+    former gives the same bits."""
+    kt = len(sets) + single.size
+    if right is not None and right.shape[1] != kt:
+        raise ValueError("kernel arguments do not fit together")
+    offsets = [] if group_off is None else [int(o) for o in group_off]
+
+    def form(
+        start: int,
+        stop: int,
+        out: np.ndarray,
+        col: int,
+        sums: np.ndarray | None = None,
+        gram: np.ndarray | None = None,
+    ) -> None:
+        part = x[:, start:stop]
+        w = [product_numpy(weights[None, :], part[at])[0] for at, weights in sets]
+        w += [part[i] for i in single.tolist()]
+        z = np.array(w) if right is None else product_numpy(right, np.array(w))
+        out[:, col : col + stop - start] = z
+        if sums is None or gram is None:
+            return
+        sums += lane_sum(z)
+        for o in offsets:
+            g = z[o : o + kg]
+            gram[o : o + kg, o : o + kg] += lane_sum(g[:, None, :] * g[None, :, :])
+
+    return form
 
 
 def scan_numpy(
@@ -158,6 +224,9 @@ def _compiled() -> ctypes.CDLL | None:
     lib.feasibly_scan.restype = None
     lib.feasibly_pick.argtypes = [i64, i64, i64, ptr, ptr, i64, i64, ptr, ptr, ptr, ptr]
     lib.feasibly_pick.restype = None
+    lib.feasibly_form.argtypes = [i64, ptr, i64, i64, i64, ptr, ptr, ptr, i64, ptr, i64, ptr]
+    lib.feasibly_form.argtypes += [ptr, i64, ptr, ptr, i64, ptr, i64, ptr, ptr, ptr]
+    lib.feasibly_form.restype = None
     return lib
 
 
@@ -298,6 +367,112 @@ def _pick_compiled(
     )
 
 
+def _form_compiled(
+    x: np.ndarray,
+    sets: Sets,
+    single: np.ndarray,
+    right: np.ndarray | None,
+    group_off: np.ndarray | None = None,
+    kg: int = 0,
+) -> Former:
+    """``form_numpy`` in C, bound to its arrays once (checked once); the same bits."""
+    k, n = x.shape
+    kt = len(sets) + single.size
+    rz = kt if right is None else right.shape[0]
+    index = np.array([i for at, _ in sets for i in at.tolist()], dtype=np.int64)
+    weight = np.array([w for _, ws in sets for w in ws.tolist()], dtype=np.float64)
+    ptr = np.zeros(len(sets) + 1, dtype=np.int64)
+    ptr[1:] = np.cumsum([at.size for at, _ in sets])
+    single = np.ascontiguousarray(single, dtype=np.int64)
+    groups = np.zeros(0, dtype=np.int64) if group_off is None else np.asarray(group_off, np.int64)
+    if (
+        x.ndim != 2
+        or kt < 1
+        or any(at.size < 1 or at.size != ws.size for at, ws in sets)
+        or (index.size and (index.min() < 0 or index.max() >= k))
+        or (single.size and (single.min() < 0 or single.max() >= k))
+        or (right is not None and right.shape != (rz, kt))
+        or (groups.size and (kg < 1 or groups.min() < 0 or groups.max() + kg > rz))
+    ):
+        raise ValueError("kernel arguments do not fit together")
+    lib = _compiled()
+    assert lib is not None
+    f64 = np.float64
+    right_c = None if right is None else np.ascontiguousarray(right, dtype=f64)
+    work = np.empty(max(len(sets), 1) * _FORM_CHUNK)
+    rows = np.empty(kt, dtype=np.uint64)  # the kernel's table of merged-input rows
+    lanes = np.empty(4 * (rz + groups.size * kg * kg))
+    sets_args = (
+        len(sets),
+        _address(ptr, np.int64),
+        _address(index, np.int64) if index.size else None,
+        _address(weight, f64) if weight.size else None,
+        single.size,
+        _address(single, np.int64) if single.size else None,
+        rz,
+        None if right_c is None else _address(right_c, f64),
+    )
+    work_args = (_address(work, f64, True), _address(rows, np.uint64, True))
+    group_args = (groups.size, _address(groups, np.int64) if groups.size else None, kg)
+    kept = (x, ptr, index, weight, single, right_c, work, rows, lanes, groups)
+    return _BoundForm(
+        lib, rz, n, (n, _address(x, f64)), sets_args, work_args, group_args, lanes, kept
+    )
+
+
+class _BoundForm:
+    """A compiled former bound to its arrays (see ``Former``)."""
+
+    __slots__ = ("_arrays", "_groups", "_head", "_lanes", "_lib", "_n", "_rz", "_sets", "_work")
+
+    def __init__(
+        self,
+        lib: ctypes.CDLL,
+        rz: int,
+        n: int,
+        head: tuple[Any, ...],
+        sets: tuple[Any, ...],
+        work: tuple[Any, ...],
+        groups: tuple[Any, ...],
+        lanes: np.ndarray,
+        arrays: tuple[Any, ...],
+    ):
+        self._lib, self._rz, self._n = lib, rz, n
+        self._head, self._sets, self._work, self._groups = head, sets, work, groups
+        self._lanes = _address(lanes, np.float64, True)
+        self._arrays = arrays  # holds the arrays whose addresses are in the arguments
+
+    def __call__(
+        self,
+        start: int,
+        stop: int,
+        out: np.ndarray,
+        col: int,
+        sums: np.ndarray | None = None,
+        gram: np.ndarray | None = None,
+    ) -> None:
+        rz = self._rz
+        if not 0 <= start <= stop <= self._n:
+            raise ValueError("trial range outside the draws")
+        if out.ndim != 2 or out.shape[0] != rz or not 0 <= col <= out.shape[1] - (stop - start):
+            raise ValueError("kernel arguments do not fit together")
+        moments: tuple[int | None, ...] = (None, None, None)
+        if sums is not None and gram is not None:
+            if sums.shape != (rz,) or gram.shape != (rz, rz):
+                raise ValueError("kernel arguments do not fit together")
+            f64 = np.float64
+            moments = (_address(sums, f64, True), _address(gram, f64, True), self._lanes)
+        base = _address(out, np.float64, True) + 8 * col
+        self._lib.feasibly_form(
+            *self._head, start, stop, *self._sets, base, out.shape[1], *self._work,
+            *self._groups, *moments,
+        )  # fmt: skip
+
+
+# Trials of the draws the compiled former merges at a time (FORM_CHUNK in _scan.c).
+_FORM_CHUNK = 128
+
+
 def compiled() -> bool:
     """Whether the compiled kernels are in use (else summaries select with numpy: the same
     numbers, slower)."""
@@ -313,9 +488,9 @@ def scan_kernel() -> Kernels:
     the GIL during each call, so worker threads scan their chunks in parallel.
     """
     if compiled():
-        return _bind_compiled, _pick_compiled
-    return _bind_numpy, pick_numpy
+        return _bind_compiled, _pick_compiled, _form_compiled
+    return _bind_numpy, pick_numpy, form_numpy
 
 
 #: The numpy kernels in the form ``scan_kernel`` returns (the compiled ones' reference in tests).
-NUMPY_KERNELS: Kernels = (_bind_numpy, pick_numpy)
+NUMPY_KERNELS: Kernels = (_bind_numpy, pick_numpy, form_numpy)

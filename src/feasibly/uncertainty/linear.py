@@ -48,6 +48,7 @@ __all__ = [
     "level_window",
     "linear_model",
     "numerical_tolerance",
+    "population_moments",
     "summarise",
     "uncertain_species",
     "variance_shares",
@@ -237,6 +238,27 @@ def sample_moments(samples: SampleSet) -> tuple[np.ndarray, np.ndarray]:
     return samples._moments
 
 
+def population_moments(samples: SampleSet) -> tuple[np.ndarray, np.ndarray]:
+    """Mean (n,) and covariance (n, n) of the input deviations as their distributions define
+    them, before any draw: the shift and standard uncertainty of each input (a user-given
+    scipy distribution's own mean and standard deviation), and the correlations asked for
+    (between the underlying normal draws: exact for normal inputs, close for others).
+
+    Used only to place the brackets of a one-pass summary; every reported number comes from
+    the draws."""
+    mean = np.empty(len(samples.inputs))
+    sd = np.empty(len(samples.inputs))
+    for j, inp in enumerate(samples.inputs):
+        d = inp.distribution
+        if isinstance(d, str):
+            mean[j], sd[j] = inp.shift, inp.u
+        else:
+            mean[j], sd[j] = float(d.mean()) - inp.nominal, float(d.std())
+    corr = samples.correlation
+    cov = np.outer(sd, sd) * (np.eye(sd.size) if corr is None else corr)
+    return mean, cov
+
+
 def numerical_tolerance(u: np.ndarray, digits: int = 2) -> np.ndarray:
     """JCGM 101:2008 §7.9.2: δ = ½·10^ℓ where u is written c × 10^ℓ with ``digits`` digits in c."""
     u = np.asarray(u, dtype=float)
@@ -300,9 +322,15 @@ def summarise(
             scale = np.array([math.hypot(inp.u, inp.shift) for inp in samples.inputs])
             factors = factor_rows(coef, scale, model.pieces)
             # Moments from the factored inputs (a few rows instead of every input): the mean and
-            # covariance of z = right @ x through each row's coefficients.
+            # covariance of z = right @ x through each row's coefficients. The brackets are
+            # placed from the inputs' distributions, so z is scanned as it is formed.
+            mu, sigma = population_moments(samples)
+            guess = (
+                nominal + coef @ mu,
+                np.sqrt(np.clip(np.einsum("ij,jk,ik->i", coef, sigma, coef), 0.0, None)),
+            )
             mean, u, q, e, below = factored_statistics(
-                factors, nominal, samples.values, probs, thr, coef
+                factors, nominal, samples.values, probs, thr, coef, guess=guess
             )
             return _summary(mean, u, q, e, below, n)
         xbar, cov = sample_moments(samples)
