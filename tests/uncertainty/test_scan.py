@@ -163,6 +163,41 @@ def test_pick_selects_from_long_runs_of_equal_values() -> None:
     c_pick(values, filled, 1, ranks, out, np.empty(2, dtype=np.int64))
     for r in range(2):
         np.testing.assert_array_equal(out[r], np.sort(values[0, r, 1])[ranks[r]])
+    # Distinct values (deep partitions), all equal values, and a run of the smallest value.
+    for case in ("distinct", "equal", "smallest run"):
+        v = rng.standard_normal((2, 3, 3, 1500))
+        if case == "equal":
+            v[:] = 2.5
+        elif case == "smallest run":
+            v[:, :, :, ::3] = -9.0
+        filled = np.full((2, 3, 3), 1500)
+        ranks = np.tile(np.array([0, 17, 1499, 1500, 2001, 2999]), (3, 1))
+        out = np.empty(ranks.shape)
+        c_pick(v, filled, 2, ranks, out, np.empty(3, dtype=np.int64))
+        for r in range(3):
+            kept = np.sort(np.concatenate([v[0, r, 2], v[1, r, 2]]))
+            np.testing.assert_array_equal(out[r], kept[ranks[r]])
+
+
+@compiled
+def test_pick_does_only_the_rows_asked_for() -> None:
+    # Threads share the rows: each call fills its own rows and leaves the others alone.
+    rng = np.random.default_rng(13)
+    values = rng.standard_normal((2, 6, 3, 50))
+    filled = np.full((2, 6, 3), 50)
+    ranks = np.tile(np.array([3, 50, 97]), (6, 1))
+    _, c_pick, _ = _scan.scan_kernel()
+    for pick in (c_pick, _scan.pick_numpy):
+        out = np.full(ranks.shape, -1.0)
+        count = np.full(6, -7, dtype=np.int64)
+        pick(values, filled, 0, ranks, out, count, (2, 5))
+        assert np.all(out[[0, 1, 5]] == -1.0) and np.all(count[[0, 1, 5]] == -7)
+        for r in range(2, 5):
+            kept = np.sort(values[:, r, 0].ravel())
+            np.testing.assert_array_equal(out[r], kept[ranks[r]])
+            assert count[r] == 100
+    with pytest.raises(ValueError, match="do not fit"):
+        c_pick(values, filled, 0, ranks, out, count, (4, 7))
 
 
 @compiled

@@ -946,23 +946,38 @@ def _finish(
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """Quantiles, their standard errors, counts below threshold, and which rows are exact:
     the kept values of all threads side by side, and the needed ranks selected from them
-    (counted from the bracket's lowest value)."""
+    (counted from the bracket's lowest value), the rows shared among worker threads."""
     pick = kernels[1]
     rows = scan.usable.shape[0]
     c = scan.below_thr.sum(axis=0)
     total_below = scan.below.sum(axis=0)
+    local = [
+        np.ascontiguousarray(np.asarray(plan.ranks)[None, :] - total_below[:, j, None])
+        for j, plan in enumerate(scan.plans)
+    ]
+    at = [np.empty(lj.shape) for lj in local]
+    count = np.empty((len(scan.plans), rows), dtype=np.int64)
+    threads = min(workers(), max(1, rows // _PICK_ROWS))
+    cuts = np.linspace(0, rows, threads + 1).astype(int)
+
+    def job(t: int) -> None:
+        for j in range(len(scan.plans)):
+            pick(scan.values, scan.filled, j, local[j], at[j], count[j], (cuts[t], cuts[t + 1]))
+
+    run_parallel(job, threads)
     ok = scan.usable.copy()
     q = np.empty((rows, len(scan.plans)))
     e = np.empty((rows, len(scan.plans)))
-    count = np.empty(rows, dtype=np.int64)
     for j, plan in enumerate(scan.plans):
-        local = np.asarray(plan.ranks)[None, :] - total_below[:, j, None]
-        at = np.empty(local.shape)
-        pick(scan.values, scan.filled, j, local, at, count)
-        ok &= (count >= 0) & (local[:, 0] >= 0) & (local[:, -1] < count)
+        ok &= (count[j] >= 0) & (local[j][:, 0] >= 0) & (local[j][:, -1] < count[j])
         with np.errstate(invalid="ignore"):  # rows that are not ok hold NaN; recomputed later
-            q[:, j], e[:, j] = _quantile(dict(zip(plan.ranks, at.T, strict=True)), n, plan)
+            q[:, j], e[:, j] = _quantile(dict(zip(plan.ranks, at[j].T, strict=True)), n, plan)
     return q, e, c, ok
+
+
+# Rows per thread, at least, when the selection is shared among threads: below that a second
+# thread costs more to wake than it saves.
+_PICK_ROWS = 8
 
 
 def _stream_rows(

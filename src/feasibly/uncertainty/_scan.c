@@ -165,38 +165,49 @@ void feasibly_scan(int64_t k_all, int64_t ld, int64_t start, int64_t stop, int64
 }
 
 /* Order statistics at the sorted ranks r[0..nr) of v[lo..hi) (every rank inside), in place: after
- * the call v[r[i]] is the r[i]-th smallest value. Quickselect with a three-way partition (runs
- * of equal values end a branch), descending only into the sides that hold a wanted rank. */
+ * the call v[r[i]] is the r[i]-th smallest value. Quickselect, descending only into the sides
+ * that hold a wanted rank. The partition has no branch on the values (which side a value falls
+ * on is unpredictable): the values below the pivot are swapped to the front by selects. When
+ * none is below it (the pivot is the smallest), the run of values equal to it goes to the front
+ * instead, so long runs of equal values end a branch. */
 static void multiselect(double *v, int64_t lo, int64_t hi, const int64_t *r, int nr)
 {
     while (nr > 0 && hi - lo > 16) {
         const int64_t mid = lo + (hi - lo) / 2;
         double a = v[lo], b = v[mid], c = v[hi - 1]; /* median of three as the pivot */
         const double p = a < b ? (b < c ? b : (a < c ? c : a)) : (a < c ? a : (b < c ? c : b));
-        int64_t lt = lo, i = lo, gt = hi; /* [lo, lt) < p, [lt, i) == p, [gt, hi) > p */
-        while (i < gt) {
-            const double x = v[i];
-            if (x < p) {
-                v[i] = v[lt];
-                v[lt++] = x;
-                i++;
-            } else if (x > p) {
-                v[i] = v[--gt];
-                v[gt] = x;
-            } else {
-                i++;
+        int64_t lt = lo; /* [lo, lt) < p */
+        for (int64_t i = lo; i < hi; i++) {
+            const double x = v[i], y = v[lt];
+            const int below = x < p;
+            v[i] = below ? y : x;
+            v[lt] = below ? x : y;
+            lt += below;
+        }
+        if (lt == lo) { /* nothing below the pivot: [lo, eq) == p, the rest above it */
+            int64_t eq = lo;
+            for (int64_t i = lo; i < hi; i++) {
+                const double x = v[i], y = v[eq];
+                const int same = x == p;
+                v[i] = same ? y : x;
+                v[eq] = same ? x : y;
+                eq += same;
             }
+            int skip = 0;
+            while (skip < nr && r[skip] < eq)
+                skip++;
+            r += skip; /* ranks inside the run hold p already */
+            nr -= skip;
+            lo = eq;
+            continue;
         }
         int left = 0;
         while (left < nr && r[left] < lt)
             left++;
-        int right = left;
-        while (right < nr && r[right] < gt)
-            right++;
-        multiselect(v, lo, lt, r, left); /* the ranks below the pivot's run */
-        r += right; /* ranks inside the run hold p already; go on with those above it */
-        nr -= right;
-        lo = gt;
+        multiselect(v, lo, lt, r, left); /* the ranks below the pivot */
+        r += left; /* go on with those at or above it */
+        nr -= left;
+        lo = lt;
     }
     if (nr > 0) { /* a few values left: insertion sort */
         for (int64_t i = lo + 1; i < hi; i++) {
@@ -213,13 +224,16 @@ static void multiselect(double *v, int64_t lo, int64_t hi, const int64_t *r, int
 
 void feasibly_pick(int64_t threads, int64_t rows, int64_t cap, const double *values,
                    const int64_t *filled, int64_t bracket, int64_t nr, const int64_t *ranks,
-                   double *out, int64_t *count, double *work)
+                   double *out, int64_t *count, double *work, int64_t row_start,
+                   int64_t row_stop)
 {
     /* For every row: the values one bracket kept in each thread's buffer, side by side in work
      * (room for threads × cap), and the order statistics at the row's ranks (sorted; counted
      * from the bracket's lowest value) into out (rows × nr). count gets how many values there
-     * are, or −1 where a buffer overflowed; out holds NaN where a rank is not inside. */
-    for (int64_t r = 0; r < rows; r++) {
+     * are, or −1 where a buffer overflowed; out holds NaN where a rank is not inside. Only the
+     * rows row_start .. row_stop are done (several threads share the rows, each with its own
+     * work). */
+    for (int64_t r = row_start; r < row_stop; r++) {
         int64_t k = 0;
         for (int64_t t = 0; t < threads; t++) {
             const int64_t n = filled[(t * rows + r) * NB + bracket];

@@ -178,6 +178,7 @@ def pick_numpy(
     ranks: np.ndarray,
     out: np.ndarray,
     count: np.ndarray,
+    rows: tuple[int, int] | None = None,
 ) -> None:
     """One bracket's kept values of every row, from all threads' buffers, and their order
     statistics at ``ranks`` (rows × nr, sorted per row, counted from the bracket's lowest value)
@@ -185,10 +186,11 @@ def pick_numpy(
     values there are, or −1 where a buffer overflowed (the row must be recomputed).
 
     ``values`` is threads × rows × 3 × capacity and ``filled`` threads × rows × 3, as the scan
-    left them.
+    left them. ``rows`` (first, end) limits the work to those rows (threads share the rows).
     """
     cap = values.shape[3]
-    for r in range(out.shape[0]):
+    first, end = rows if rows is not None else (0, out.shape[0])
+    for r in range(first, end):
         n = filled[:, r, bracket]
         out[r] = np.nan
         if np.any(n > cap):
@@ -222,7 +224,7 @@ def _compiled() -> ctypes.CDLL | None:
     i64, ptr = ctypes.c_int64, ctypes.c_void_p
     lib.feasibly_scan.argtypes = [i64] * 6 + [ptr] * 12
     lib.feasibly_scan.restype = None
-    lib.feasibly_pick.argtypes = [i64, i64, i64, ptr, ptr, i64, i64, ptr, ptr, ptr, ptr]
+    lib.feasibly_pick.argtypes = [i64, i64, i64, ptr, ptr, i64, i64, ptr, ptr, ptr, ptr, i64, i64]
     lib.feasibly_pick.restype = None
     lib.feasibly_form.argtypes = [i64, ptr, i64, i64, i64, ptr, ptr, ptr, i64, ptr, i64, ptr]
     lib.feasibly_form.argtypes += [ptr, i64, ptr, ptr, i64, ptr, i64, ptr, ptr, ptr]
@@ -336,15 +338,18 @@ def _pick_compiled(
     ranks: np.ndarray,
     out: np.ndarray,
     count: np.ndarray,
+    rows: tuple[int, int] | None = None,
 ) -> None:
     """``pick_numpy`` in C (a selection of the few ranks instead of a sort)."""
-    threads, rows, nb, cap = values.shape
+    threads, n_rows, nb, cap = values.shape
+    first, end = rows if rows is not None else (0, n_rows)
     if (
-        filled.shape != (threads, rows, nb)
+        filled.shape != (threads, n_rows, nb)
         or ranks.ndim != 2
-        or ranks.shape[0] != rows
+        or ranks.shape[0] != n_rows
         or out.shape != ranks.shape
-        or count.shape != (rows,)
+        or count.shape != (n_rows,)
+        or not 0 <= first <= end <= n_rows
     ):
         raise ValueError("kernel arguments do not fit together")
     if not 0 <= bracket < nb:
@@ -354,7 +359,7 @@ def _pick_compiled(
     work = np.empty(max(threads * cap, 1))
     lib.feasibly_pick(
         threads,
-        rows,
+        n_rows,
         cap,
         _address(values, np.float64),
         _address(filled, np.int64),
@@ -364,6 +369,8 @@ def _pick_compiled(
         _address(out, np.float64, True),
         _address(count, np.int64, True),
         _address(work, np.float64, True),
+        first,
+        end,
     )
 
 
