@@ -659,6 +659,19 @@ def _guess(model, samples):  # type: ignore[no-untyped-def]
     return model.G0 + model.aG @ mu, np.sqrt(np.einsum("ij,jk,ik->i", model.aG, sigma, model.aG))
 
 
+def _missed_rows(monkeypatch: pytest.MonkeyPatch) -> list[int]:
+    """A list that gets, for every pass that checks its rows, how many rows missed."""
+    calls: list[int] = []
+    redo = _selection._redo_missed
+
+    def spy(*a: Any, **k: Any) -> Any:
+        calls.append(int(np.count_nonzero(~a[1])))  # a[1]: which rows are exact
+        return redo(*a, **k)
+
+    monkeypatch.setattr(_selection, "_redo_missed", spy)
+    return calls
+
+
 @pytest.mark.parametrize("guess", ["none", "inputs", "far off", "too narrow"])
 def test_one_pass_summary_is_the_two_pass_summary_to_the_bit(
     guess: str, monkeypatch: pytest.MonkeyPatch
@@ -677,14 +690,7 @@ def test_one_pass_summary_is_the_two_pass_summary_to_the_bit(
         "far off": (mean + 10 * std, std),
         "too narrow": (mean, std / 1000),
     }[guess]
-    calls: list[int] = []
-    redo = _selection._redo_missed
-
-    def spy(*a: Any, **k: Any) -> Any:
-        calls.append(int(np.count_nonzero(~a[1])))
-        return redo(*a, **k)
-
-    monkeypatch.setattr(_selection, "_redo_missed", spy)
+    calls = _missed_rows(monkeypatch)
     got = _selection.factored_statistics(*args, guess=given)
     for a, b in zip(want, got, strict=True):
         np.testing.assert_array_equal(a, b)
@@ -715,14 +721,7 @@ def test_summary_of_a_far_from_normal_output_is_numpys(monkeypatch: pytest.Monke
     wide = Override("CO(g)", "dHf", "demo", uncertainty="60 kJ/mol", distribution="uniform")
     samples = draw_samples(build_inputs(rxn.species_used(), [wide]), 20_011, seed=47)
     model = linear_model(rxn, np.linspace(800.0, 1500.0, 30), samples)
-    missed: list[int] = []
-    redo = _selection._redo_missed
-
-    def spy(*a: Any, **k: Any) -> Any:
-        missed.append(int(np.count_nonzero(~a[1])))
-        return redo(*a, **k)
-
-    monkeypatch.setattr(_selection, "_redo_missed", spy)
+    missed = _missed_rows(monkeypatch)
     s = summarise(model, samples, "G", 0.0)
     assert missed and missed[0] > 0
     g = model.values("G", samples)
