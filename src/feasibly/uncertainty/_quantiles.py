@@ -610,6 +610,7 @@ def _z_blocks(
     formers = [] if right is None else [factors.former(bind_form, x, True) for _ in range(threads)]
     rz = factors.rows_of_z()
     kz = factors.left.shape[1]
+    groups = [slice(o, o + kz) for o in factors.groups().tolist()]
 
     def mine(t: int) -> Iterator[tuple[int, int, int]]:
         for part in range(t, edges.size - 1, threads):
@@ -635,8 +636,7 @@ def _z_blocks(
                 for s, e in steps(a, b):
                     zb = x[:, s:e]
                     sums[part] += zb.sum(axis=1)
-                    for o in factors.groups().tolist():
-                        g = slice(o, o + kz)
+                    for g in groups:
                         grams[part, g, g] += zb[g] @ zb[g].T
                 continue
             whole = np.empty((rz, b - a if keep else min(_Z_BLOCK, b - a)))
