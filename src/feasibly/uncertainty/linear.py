@@ -325,10 +325,11 @@ def summarise(
             # covariance of z = right @ x through each row's coefficients. The brackets are
             # placed from the inputs' distributions, so z is scanned as it is formed.
             mu, sigma = population_moments(samples)
-            guess = (
-                nominal + coef @ mu,
-                np.sqrt(np.clip(np.einsum("ij,jk,ik->i", coef, sigma, coef), 0.0, None)),
-            )
+            # (coef @ sigma) * coef summed along rows: a BLAS product and one pass, where the
+            # three-operand einsum loops in C over every triple (0.26 ms of a 1.5 ms budget for
+            # 60 inputs × 50 temperatures).
+            spread = np.add.reduce((coef @ sigma) * coef, axis=1)
+            guess = (nominal + coef @ mu, np.sqrt(np.clip(spread, 0.0, None)))
             mean, u, q, e, below = factored_statistics(
                 factors, nominal, samples.values, probs, thr, coef, guess=guess
             )
