@@ -63,6 +63,12 @@ _ROUNDING_STEP = 1e-14
 # A condensed phase is added when it would lower G/RT by more than this per mole: 1e-9 is far
 # above the rounding of g_c − a_c·π (~1e-13 for |g| ~ 100) and far below any physical margin.
 _ADD_TOL = 1e-9
+# The amounts are scaled to one atom in all (composition._solve), so no condensed phase of a
+# phase set that can hold ever has more than 1 mol. Past this, with a negative amount beside
+# it, the phase set is revised at once: three phases that pin the potentials of three
+# elements together (CaCO3, CaO and graphite) otherwise drift to amounts of ±1e5 mol for tens
+# of iterations before a phase may leave.
+_DRIFT_AMOUNT = 2.0
 # Iteration limit per state, phase changes included: converging states need 10–40; the limit
 # only stops a state that is cycling or diverging, which is then reported as not converged.
 _MAX_ITER = 400
@@ -611,14 +617,17 @@ def _iterate(
         settled = cand  # a full step, below tolerance, with the trace species settled
         leave = np.zeros(s, dtype=bool)
         change = np.zeros(s, dtype=bool)
+        drift = change
         if nc:
             # Phase checks, vectorised: only states whose phase set must change go through Python.
             margin = np.where(avc & ~act, gc - A_c.T @ pp, np.inf)
-            change = np.any(act & (mm < 0), axis=0) | (
-                np.minimum.reduce(margin, axis=0) < -_ADD_TOL
-            )
+            negative = np.any(act & (mm < 0), axis=0)
+            change = negative | (np.minimum.reduce(margin, axis=0) < -_ADD_TOL)
+            # A phase set that cannot hold (amounts beyond what the element totals allow, one
+            # of them negative) is revised at once instead of after its iteration settles.
+            drift = negative & (np.maximum.reduce(np.abs(mm), axis=0) > _DRIFT_AMOUNT)
         fin = settled & ~change
-        python = np.nonzero((settled & change | singular & (lam == 0.0)) & alive)[0]
+        python = np.nonzero((settled & change | drift | singular & (lam == 0.0)) & alive)[0]
         if python.size:
             i = todo[python]
             m[i], pi[i] = mm[:, python].T, pp[:, python].T
