@@ -180,6 +180,52 @@ def test_pick_selects_from_long_runs_of_equal_values() -> None:
 
 
 @compiled
+def test_pick_is_a_sort_for_every_size_tie_pattern_and_rank_set() -> None:
+    # The selection partitions out of place (a copy at both ends of a scratch buffer): against
+    # numpy's sort, for kept counts from 0 to 1 400 split unevenly between the threads, values
+    # distinct, with a few ties, many ties, or one value repeated, ranks as the summary asks
+    # for them (lo − d, lo, lo + 1, lo + 1 + d) and repeated or at the ends. The buffers past
+    # each thread's count hold junk that must never be read, and the kept values are not moved.
+    rng = np.random.default_rng(14)
+    _, c_pick, _ = _scan.scan_kernel()
+    rows, cap = 40, 700
+    for case in ("distinct", "few ties", "many ties", "one value"):
+        values = np.full((2, rows, 3, cap), 1e300)
+        filled = rng.integers(0, cap + 1, (2, rows, 3))
+        filled[:, :4] = [[0, 1, 2], [3, 16, 17], [18, 33, 64], [700, 699, 1]]
+        for t, r, b in np.ndindex(2, rows, 3):
+            n = filled[t, r, b]
+            v = {
+                "distinct": rng.standard_normal(n),
+                "few ties": np.round(rng.standard_normal(n), 2),
+                "many ties": rng.integers(-3, 4, n).astype(float),
+                "one value": np.full(n, 0.125),
+            }[case]
+            values[t, r, b, :n] = v
+        before = values.copy()
+        for b in range(3):
+            total = filled[:, :, b].sum(axis=0)
+            ranks = np.zeros((rows, 4), dtype=np.int64)
+            for r in range(rows):
+                top = max(int(total[r]) - 1, 0)
+                lo, d = int(rng.integers(0, top + 1)), int(rng.integers(0, 40))
+                ranks[r] = sorted(min(max(x, 0), top) for x in (lo - d, lo, lo + 1, lo + 1 + d))
+            ranks[5] = [0, 0, 0, max(int(total[5]) - 1, 0)]
+            out, count = np.empty(ranks.shape), np.empty(rows, dtype=np.int64)
+            c_pick(values, filled, b, ranks, out, count)
+            for r in range(rows):
+                kept = np.sort(
+                    np.concatenate([values[t, r, b, : filled[t, r, b]] for t in range(2)])
+                )
+                assert count[r] == kept.size
+                if kept.size:
+                    np.testing.assert_array_equal(out[r], kept[ranks[r]], err_msg=f"{case} {r}")
+                else:
+                    assert np.all(np.isnan(out[r]))
+        np.testing.assert_array_equal(values, before)
+
+
+@compiled
 def test_pick_does_only_the_rows_asked_for() -> None:
     # Threads share the rows: each call fills its own rows and leaves the others alone.
     rng = np.random.default_rng(13)

@@ -356,7 +356,7 @@ def _pick_compiled(
         raise ValueError("no such bracket")
     lib = _compiled()
     assert lib is not None
-    work = np.empty(max(threads * cap, 1))
+    work = np.empty(max(2 * threads * cap, 1))  # the kept values and the selection's scratch
     lib.feasibly_pick(
         threads,
         n_rows,
