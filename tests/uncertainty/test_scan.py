@@ -606,11 +606,12 @@ def _former_case(rng: np.random.Generator, n: int, with_right: bool):  # type: i
 
 
 @compiled
-@pytest.mark.parametrize("n", [1, 3, 127, 128, 1000, 4099])
+@pytest.mark.parametrize("n", [1, 3, 127, 128, 1000, 1023, 1024, 1025, 4099])
 @pytest.mark.parametrize("with_right", [True, False])
 def test_former_matches_numpy_to_the_bit(n: int, with_right: bool) -> None:
     # z and its moments (sums of rows, sums of products within each group), with trial counts
-    # that end inside a chunk, a vector and a lane; formed into a wider array at an offset.
+    # that end inside a chunk (1024 trials), a vector and a lane, or at a chunk's edge; formed into
+    # a wider array at an offset.
     rng = np.random.default_rng(n)
     x, sets, single, right = _former_case(rng, n, with_right)
     rz = 8 if with_right else 6

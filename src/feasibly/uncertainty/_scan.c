@@ -391,8 +391,13 @@ static inline __attribute__((always_inline)) void product(int64_t rz, int64_t kt
  * With sums not NULL the moments of z are added too: sums[r] (rz) gets the sum of row r over
  * the trials, and gram (rz × rz) the sums of products of rows r and s of the same group (ngroups
  * groups of kg rows from row group_off[g]; other entries are not touched), each summed in lanes
- * (lane_sums); lanes holds 4 (rz + ngroups kg kg) doubles. */
-#define FORM_CHUNK 128
+ * (lane_sums); lanes holds 4 (rz + ngroups kg kg) doubles.
+ *
+ * FORM_CHUNK trials at a time: each of the k draws' rows is read in runs of 8 KB, long enough for
+ * the prefetchers on all k streams at once (with 128 trials, 1 KB runs: 20 species × 10^5 trials,
+ * 60 rows of 0.8 MB each, took 10.4 against 8.7 ms on one thread; a whole summary 6–10 % longer
+ * at 10^5 and 10^6 trials, measured interleaved). Any multiple of four gives the same bits. */
+#define FORM_CHUNK 1024
 
 VECTOR_CLONES
 void feasibly_form(int64_t ldx, const double *x, int64_t start, int64_t stop, int64_t nsets,

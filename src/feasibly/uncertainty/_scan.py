@@ -477,7 +477,7 @@ class _BoundForm:
 
 
 # Trials of the draws the compiled former merges at a time (FORM_CHUNK in _scan.c).
-_FORM_CHUNK = 128
+_FORM_CHUNK = 1024
 
 
 def compiled() -> bool:
