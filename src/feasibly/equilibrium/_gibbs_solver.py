@@ -35,6 +35,7 @@ __all__ = [
     "reachable",
     "reduce_elements",
     "rescue",
+    "row_patterns",
     "solve_batch",
     "solve_dual",
 ]
@@ -252,10 +253,13 @@ def _choose_phases(
     return False
 
 
-def _row_patterns(masks: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+def row_patterns(masks: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """The distinct rows of the boolean matrix ``masks`` and, for each row, the index of its
-    pattern among them. Rows of up to 64 entries are packed into one integer each and told apart
-    by numpy's hashing unique (``np.unique(axis=0)`` sorts rows as records: 16 ms for 10^4)."""
+    pattern among them (in no particular order). One pattern, the usual case, is found by one
+    comparison; rows of up to 64 entries are packed into one integer each and told apart by
+    numpy's hashing unique (``np.unique(axis=0)`` sorts rows as records: 16–27 ms for 10^4)."""
+    if np.all(masks == masks[:1], axis=None):
+        return masks[:1], np.zeros(masks.shape[0], dtype=np.intp)
     packed = np.packbits(masks, axis=1)
     if packed.shape[1] <= 8:
         keys = np.zeros((masks.shape[0], 8), dtype=np.uint8)
@@ -301,7 +305,7 @@ def _choose_phases_batch(
         trial = a[:, out].copy()
         trial[c, np.arange(out.size)] = False
         masks = np.concatenate([prob.avail_g[states[out]], trial.T], axis=1)
-        patterns, which = _row_patterns(masks)
+        patterns, which = row_patterns(masks)
         A_all = np.hstack([A_g, A_c])
         spans = np.array([_spans(A_all, pat) for pat in patterns])[which]
         a[c[spans], out[spans]] = False
@@ -345,7 +349,7 @@ def _initial_active(
     r, ng = A_g.shape
     A_all = np.hstack([A_g, A_c])
     both = np.hstack([avail_g, avail_c])
-    patterns, which = _row_patterns(both)
+    patterns, which = row_patterns(both)
     for p, pattern in enumerate(patterns):
         rows = np.nonzero(which == p)[0]
         ag, ac = pattern[:ng], pattern[ng:]

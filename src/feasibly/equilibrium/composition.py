@@ -39,7 +39,14 @@ from ._common import (
     _split_label,
     parse_feed,
 )
-from ._gibbs_solver import GibbsBatch, reachable, reduce_elements, rescue, solve_batch
+from ._gibbs_solver import (
+    GibbsBatch,
+    reachable,
+    reduce_elements,
+    rescue,
+    row_patterns,
+    solve_batch,
+)
 
 __all__ = ["CARBON_FRACTION_CAUTION", "Equilibrium", "equilibrate"]
 
@@ -175,22 +182,13 @@ class _Prepared:
         """
         A = self.sset.A
         keep = np.zeros(self.avail.shape, dtype=bool)
-        # one availability pattern is the usual case; np.unique over rows would sort for nothing
-        if np.all(self.avail == self.avail[:1], axis=None):
-            patterns, which = self.avail[:1], np.zeros(len(self.avail), dtype=np.intp)
-        else:
-            patterns, which = np.unique(self.avail, axis=0, return_inverse=True)
-            which = which.ravel()
+        patterns, which = row_patterns(self.avail)
         for p, pattern in enumerate(patterns):
             rows = np.nonzero(which == p)[0]
             cols = np.nonzero(pattern)[0]
             keep[np.ix_(rows, cols)] = reachable(A[:, cols], self.b[rows])
         out = []
-        if np.all(keep == keep[:1], axis=None):
-            kinds, where = keep[:1], np.zeros(len(keep), dtype=np.intp)
-        else:
-            kinds, where = np.unique(keep, axis=0, return_inverse=True)
-            where = where.ravel()
+        kinds, where = row_patterns(keep)
         for k, kind in enumerate(kinds):
             rows = np.nonzero(where == k)[0]
             el_mask = np.any(A[:, kind] != 0, axis=1)
