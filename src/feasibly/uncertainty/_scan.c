@@ -243,10 +243,10 @@ void feasibly_pick(int64_t threads, int64_t rows, int64_t cap, const double *val
                    int64_t row_stop)
 {
     /* For every row: the values one bracket kept in each thread's buffer, side by side in work
-     * (its first threads × cap doubles), and the order statistics at the row's ranks (sorted; counted
-     * from the bracket's lowest value) into out (rows × nr). count gets how many values there
-     * are, or −1 where a buffer overflowed; out holds NaN where a rank is not inside. Only the
-     * rows row_start .. row_stop are done (several threads share the rows, each with its own
+     * (its first threads × cap doubles), and the order statistics at the row's ranks (sorted;
+     * counted from the bracket's lowest value) into out (rows × nr). count gets how many values
+     * there are, or −1 where a buffer overflowed; out holds NaN where a rank is not inside. Only
+     * the rows row_start .. row_stop are done (several threads share the rows, each with its own
      * work, which holds twice threads × cap: the second half is the selection's scratch). */
     for (int64_t r = row_start; r < row_stop; r++) {
         int64_t k = 0;
